@@ -1,0 +1,5 @@
+import sys
+
+from sensorcheck.cli import main
+
+sys.exit(main())

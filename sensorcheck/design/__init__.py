@@ -1,0 +1,1 @@
+"""Design = Board + Config: roles of nets, sensors, sensing zones, the overlay stack."""
