@@ -1,0 +1,1 @@
+"""Readers of fabrication files. A reader knows nothing of sensors or rules."""
