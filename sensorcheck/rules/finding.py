@@ -57,8 +57,9 @@ class Finding:
     sensor: str | None = None
     fingerprint: str = ""
     waived_by: Waiver | None = None
-    #: "finding", or "internal-error" for a rule/estimate that raised
-    kind: Literal["finding", "internal-error"] = "finding"
+    #: "finding"; "internal-error" for a rule/estimate that raised; "input-error" for a file
+    #: that could not be read (the run goes on with the others, the exit code is 2)
+    kind: Literal["finding", "internal-error", "input-error"] = "finding"
     #: a short text for the reviewer checklist: what must still be confirmed by eye or on a prototype
     review: str | None = None
 
