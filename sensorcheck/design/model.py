@@ -13,6 +13,7 @@ from typing import Any, Literal
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Board
+from sensorcheck.limits import Limits
 from sensorcheck.rules.finding import Waiver
 
 Role = Literal["transmitter", "receiver", "self", "shield", "guard", "ground", "aggressor"]
@@ -115,6 +116,14 @@ class Config:
     waivers: list[Waiver] = field(default_factory=list)
     estimate: dict[str, Any] = field(default_factory=dict)  # solver options (enabled, heights...)
     today: _dt.date = field(default_factory=_dt.date.today)
+    #: resource limits ([limits] overrides of sensorcheck.limits.Limits)
+    limits: Limits = field(default_factory=Limits)
+    #: the touched face ([board] face); also on ``overlay.face`` when an overlay is given
+    face: Literal["top", "bottom"] = "top"
+    #: sensing-zone margin ([board] zone_margin_mm); None: overlay thickness, at least 1 mm (design/zones.py)
+    zone_margin_mm: float | None = None
+    #: what loading the config noticed that is not an error (reported as notes)
+    notes: list[str] = field(default_factory=list)
 
     def rule_params(self, rule_id: str) -> dict[str, Any]:
         return dict(self.thresholds.get(rule_id, {}))
