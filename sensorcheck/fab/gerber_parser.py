@@ -1,0 +1,614 @@
+"""gerbonara's RS-274X parser, fixed by a subclass (never a monkeypatch).
+
+What this subclass changes, each pinned by a test in tests/fab/test_gerber_parser.py:
+
+* step-and-repeat (SR) blocks are expanded (gerbonara 1.6.3 tests an empty list for truth and so
+  never collects the block; it also offsets copies in mm whatever the file unit);
+* regions carry the X2 object attributes (.N, .C, .P ...) and the aperture attributes
+  (.AperFunction) current when the region starts;
+* attributes written as ``G04 #@! TF/TA/TO/TD`` comments are read like the extended commands;
+* LM / LR / LS (aperture mirroring, rotation, scaling) are read and recorded on every flash and
+  draw (``obj._sc_xform``); the geometry step applies them;
+* AB (block apertures) are implemented: a block is captured and every flash of it places copies;
+* a file without M02 is refused as truncated; incremental notation, conflicting units, a missing
+  unit or coordinate format, unknown statements and binary data are refused with the line;
+* aperture macros are parsed by our own small parser (gerbonara's goes through ``ast`` for every
+  number, which was three quarters of its parse time on real files, and prints a debug line to
+  stdout for every macro polygon);
+* every object carries the 1-based line of the command that made it (``obj._sc_line``).
+
+Nothing here knows about shapely; :mod:`sensorcheck.fab.gerber_geometry` converts the objects.
+"""
+
+from __future__ import annotations
+
+import copy
+import math
+import re
+from dataclasses import dataclass, field
+from typing import Any, Callable
+
+from gerbonara import graphic_objects as go
+from gerbonara.rs274x import GerberFile, GerberParser
+from gerbonara.utils import MM, Inch
+
+from sensorcheck.errors import InputError, LimitError
+from sensorcheck.limits import DEFAULT_LIMITS, Limits
+
+#: identity aperture transformation: (mirror x, mirror y, rotation in degrees ccw, scale)
+IDENTITY_XFORM: tuple[bool, bool, float, float] = (False, False, 0.0, 1.0)
+
+
+# --------------------------------------------------------------------------------------------
+# aperture macros (our own parser and evaluator)
+# --------------------------------------------------------------------------------------------
+
+_TOKEN_RX = re.compile(r"\s*(?:(?P<num>\d+\.?\d*(?:[eE][+-]?\d+)?|\.\d+)|\$(?P<var>\d+)|(?P<op>[-+xX/()]))")
+
+
+def _tokenize(expr: str) -> list[tuple[str, Any]]:
+    tokens: list[tuple[str, Any]] = []
+    pos = 0
+    expr = expr.strip()
+    while pos < len(expr):
+        m = _TOKEN_RX.match(expr, pos)
+        if m is None or m.end() == pos:
+            raise ValueError(f"cannot read the macro expression {expr!r} at {expr[pos:]!r}")
+        if m["num"] is not None:
+            tokens.append(("num", float(m["num"])))
+        elif m["var"] is not None:
+            tokens.append(("var", int(m["var"])))
+        else:
+            op = m["op"]
+            tokens.append(("op", "x" if op == "X" else op))
+        pos = m.end()
+    return tokens
+
+
+def _compile_expression(expr: str) -> Callable[[dict[int, float]], float]:
+    """Compile a macro arithmetic expression (+ - x / unary minus, parentheses, $n) to a function.
+
+    Gerber spec 2023.08 section 4.5.4.2 (arithmetic expressions): precedence of x and / over + and -.
+    """
+    tokens = _tokenize(expr)
+    pos = 0
+
+    def peek() -> tuple[str, Any] | None:
+        return tokens[pos] if pos < len(tokens) else None
+
+    def take() -> tuple[str, Any]:
+        nonlocal pos
+        tok = tokens[pos]
+        pos += 1
+        return tok
+
+    def factor() -> Callable[[dict[int, float]], float]:
+        tok = peek()
+        if tok is None:
+            raise ValueError(f"macro expression {expr!r} ends too early")
+        kind, val = take()
+        if kind == "num":
+            return lambda v, c=val: c
+        if kind == "var":
+            return lambda v, n=val: v.get(n, 0.0)
+        if val == "-":
+            inner = factor()
+            return lambda v: -inner(v)
+        if val == "+":
+            return factor()
+        if val == "(":
+            inner = sum_()
+            if take() != ("op", ")"):
+                raise ValueError(f"missing ')' in macro expression {expr!r}")
+            return inner
+        raise ValueError(f"unexpected {val!r} in macro expression {expr!r}")
+
+    def term() -> Callable[[dict[int, float]], float]:
+        left = factor()
+        while (tok := peek()) is not None and tok[0] == "op" and tok[1] in ("x", "/"):
+            take()
+            right = factor()
+            if tok[1] == "x":
+                left = (lambda a, b: lambda v: a(v) * b(v))(left, right)
+            else:
+                left = (lambda a, b: lambda v: a(v) / b(v))(left, right)
+        return left
+
+    def sum_() -> Callable[[dict[int, float]], float]:
+        left = term()
+        while (tok := peek()) is not None and tok[0] == "op" and tok[1] in ("+", "-"):
+            take()
+            right = term()
+            if tok[1] == "+":
+                left = (lambda a, b: lambda v: a(v) + b(v))(left, right)
+            else:
+                left = (lambda a, b: lambda v: a(v) - b(v))(left, right)
+        return left
+
+    fn = sum_()
+    if pos != len(tokens):
+        raise ValueError(f"unexpected {tokens[pos][1]!r} in macro expression {expr!r}")
+    return fn
+
+
+def _argument(text: str) -> float | Callable[[dict[int, float]], float]:
+    try:
+        return float(text)
+    except ValueError:
+        return _compile_expression(text)
+
+
+@dataclass(frozen=True, slots=True)
+class MacroStatement:
+    #: "primitive" (code + args) or "assign" (variable number + one expression)
+    kind: str
+    code: int
+    args: tuple[Any, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class MacroDefinition:
+    """An AM aperture macro as written: its statements, arguments not yet evaluated."""
+
+    name: str
+    statements: tuple[MacroStatement, ...]
+
+    @classmethod
+    def parse(cls, name: str, body: str) -> "MacroDefinition":
+        statements: list[MacroStatement] = []
+        for raw in body.split("*"):
+            text = "".join(raw.split())  # whitespace and line breaks inside a statement mean nothing
+            if not text:
+                continue
+            if text.startswith("0") and (len(text) == 1 or not text[1].isdigit()):
+                continue  # comment primitive (code 0)
+            if text.startswith("$"):
+                var, _, expr = text[1:].partition("=")
+                if not var.isdigit() or not expr:
+                    raise ValueError(f"macro {name}: cannot read the variable definition {raw.strip()!r}")
+                statements.append(MacroStatement("assign", int(var), (_compile_expression(expr),)))
+                continue
+            parts = text.split(",")
+            try:
+                code = int(parts[0])
+            except ValueError:
+                raise ValueError(f"macro {name}: unknown primitive {parts[0]!r}") from None
+            if code not in (1, 2, 20, 21, 22, 4, 5, 6, 7):
+                raise ValueError(f"macro {name}: unknown primitive code {code}")
+            statements.append(MacroStatement("primitive", code, tuple(_argument(p) for p in parts[1:])))
+        return cls(name, tuple(statements))
+
+    def evaluate(self, parameters: tuple[float, ...]) -> tuple[tuple[int, tuple[float, ...]], ...]:
+        """Primitives with every argument evaluated for one AD's parameters ($1 = first)."""
+        variables = {i + 1: float(p) for i, p in enumerate(parameters)}
+        out: list[tuple[int, tuple[float, ...]]] = []
+        for st in self.statements:
+            if st.kind == "assign":
+                variables[st.code] = float(st.args[0](variables))
+            else:
+                out.append(
+                    (st.code, tuple(a if isinstance(a, float) else float(a(variables)) for a in st.args))
+                )
+        return tuple(out)
+
+
+@dataclass(frozen=True, slots=True, eq=False)
+class MacroAperture:
+    """An AD of an aperture macro: the evaluated primitives (in the file unit)."""
+
+    name: str
+    parameters: tuple[float, ...]
+    primitives: tuple[tuple[int, tuple[float, ...]], ...]
+    unit: Any
+    attrs: tuple = ()
+    original_number: int | None = None
+
+    def equivalent_width(self, unit: Any = None) -> float:
+        # only used by gerbonara for a warning on D01; draws with macros are refused in geometry
+        return float("nan")
+
+
+@dataclass(frozen=True, slots=True, eq=False)
+class StandardAperture:
+    """A standard aperture C, R, O or P (Gerber spec 2023.08 section 4.4), sizes in the file unit.
+
+    ``params`` as written: C: diameter[, hole]; R and O: x size, y size[, hole]; P: outer diameter,
+    vertices[, rotation degrees[, hole]].  A hole given by two numbers is the rectangular hole of
+    older revisions of the specification (x size, y size).
+    """
+
+    shape: str
+    params: tuple[float, ...]
+    unit: Any
+    attrs: tuple = ()
+    original_number: int | None = None
+
+    @property
+    def hole(self) -> tuple[float, ...]:
+        first = {"C": 1, "R": 2, "O": 2, "P": 3}[self.shape]
+        if self.shape == "P":
+            first = 3
+        rest = self.params[first:]
+        return tuple(v for v in rest)
+
+    def equivalent_width(self, unit: Any = None) -> float:
+        if self.shape == "C":
+            return self.params[0]
+        if self.shape == "P":
+            return self.params[0]
+        return min(self.params[0], self.params[1])
+
+
+@dataclass(frozen=True, slots=True, eq=False)
+class BlockAperture:
+    """An AB block aperture: the objects of the block, relative to the block origin."""
+
+    objects: tuple[Any, ...]
+    unit: Any
+    attrs: tuple = ()
+    original_number: int | None = None
+
+    def equivalent_width(self, unit: Any = None) -> float:
+        raise ValueError("a block aperture (AB) cannot be used to draw (D01), only to flash (D03)")
+
+
+# --------------------------------------------------------------------------------------------
+# the parser subclass
+# --------------------------------------------------------------------------------------------
+
+_DECIMAL = r"[\+-]?(?:\d+\.?\d*|\.\d+)"
+
+# statements some generators write that mean nothing for the image (kept, with a warning)
+_HARMLESS_UNKNOWN = re.compile(r"^(?:IPPOS|IPNEG|INV?.*|LN.*|G90|M01|G04.*|ICAS|AS.*|MI.*|SF.*|OF.*|IR.*)$")
+
+_ATTRIBUTE_RX = re.compile(
+    r"(?P<eagle_garbage>)(?P<type>TF|TA|TO|TD)(?P<name>[._$a-zA-Z][._$a-zA-Z0-9]*)?(,(?P<value>.*))?$", re.DOTALL
+)
+
+
+@dataclass
+class ParseResult:
+    """What :func:`parse_gerber_text` returns: gerbonara objects annotated with our fixes."""
+
+    gerber: GerberFile
+    units: str  # "mm" | "inch"
+    file_attributes: dict[str, list[str]]
+    warnings: list[str] = field(default_factory=list)
+    comments: list[str] = field(default_factory=list)
+
+
+class SensorcheckGerberParser(GerberParser):
+    """gerbonara's parser with the fixes listed in the module docstring."""
+
+    STATEMENT_REGEXES = {
+        "coord": GerberParser.STATEMENT_REGEXES["coord"],
+        "aperture_block": r"^AB(?:D(?P<number>\d+))?$",
+        "aperture_mirroring": r"^LM(?P<mirror>N|XY|X|Y)$",
+        "aperture_rotation": fr"^LR(?P<angle>{_DECIMAL})$",
+        "aperture_scaling": fr"^LS(?P<scale>{_DECIMAL})$",
+        **{k: v for k, v in GerberParser.STATEMENT_REGEXES.items() if k != "coord"},
+    }
+
+    def __init__(self, target: GerberFile, name: str, limits: Limits = DEFAULT_LIMITS) -> None:
+        super().__init__(target, include_dir=None)
+        self.sc_name = name
+        self.sc_limits = limits
+        self.sc_warnings: list[str] = []
+        self.sc_xform: tuple[bool, bool, float, float] = IDENTITY_XFORM
+        self.sc_sr: tuple[int, int, float, float, int, int] | None = None  # x, y, i, j, start, line
+        self.sc_blocks: list[tuple[int, int, int]] = []  # (D-code, start index, line)
+        self.sc_region_line: int | None = None
+
+    # ---- errors and warnings -------------------------------------------------------------
+
+    def error(self, message: str, expected: str | None = None, line: int | None = None) -> InputError:
+        return InputError(self.sc_name, line if line is not None else self.lineno, message, expected)
+
+    def warn(self, msg: str, kls: type = SyntaxWarning) -> None:  # noqa: ARG002 - gerbonara's signature
+        self.sc_warnings.append(f"{self.sc_name}:{self.lineno}: {msg}")
+
+    # ---- main loop ---------------------------------------------------------------------------
+
+    def parse(self, data: str, filename: str | None = None) -> None:  # type: ignore[override]
+        self.filename = filename or self.sc_name
+        dispatch = [(re.compile(exp), getattr(self, f"_parse_{name}")) for name, exp in self.STATEMENT_REGEXES.items()]
+        objects = self.target.objects
+        max_objects = self.sc_limits.max_gerber_objects
+        after_eof = False
+        for cmd in self._split_commands(data):
+            if self.eof_found:
+                after_eof = True
+                break
+            n_before = len(objects)
+            for rx, fun in dispatch:
+                m = rx.match(cmd)
+                if m is not None:
+                    try:
+                        fun(m)
+                    except InputError:
+                        raise
+                    except Exception as exc:  # gerbonara's SyntaxError/ValueError/... -> ours, with the line
+                        raise self.error(f"cannot read {self._shorten_line()!r}: {exc}",
+                                         "a valid Gerber (RS-274X) command") from exc
+                    break
+            else:
+                if _HARMLESS_UNKNOWN.match(cmd):
+                    self.warn(f"statement {self._shorten_line()!r} ignored (it does not change the image)")
+                else:
+                    raise self.error(f"unknown statement {self._shorten_line()!r}",
+                                     "a Gerber (RS-274X) command")
+            if len(objects) != n_before:
+                self._tag_new(n_before)
+                if len(objects) > max_objects:
+                    raise LimitError(self.sc_name, self.lineno,
+                                     f"more than {max_objects} graphical objects",
+                                     "at most limits.max_gerber_objects objects")
+        last_line = data.count("\n") + (0 if data.endswith("\n") else 1)
+        if after_eof:
+            self.sc_warnings.append(f"{self.sc_name}: data after M02 ignored")
+        if self.sc_blocks:
+            raise self.error("block aperture (AB) not closed", "%AB*% closing the block", line=last_line)
+        if self.current_region is not None and not self.eof_found:
+            raise self.error("file ends inside a region (G36 without G37): truncated?",
+                             "G37 and M02 at the end of the file", line=last_line)
+        if not self.eof_found:
+            raise self.error("file ends without M02: truncated?", "M02* as the last command", line=last_line)
+        if self.sc_sr is not None:
+            self._close_step_repeat()
+            self._tag_new(len(objects))
+        self.target.import_settings = self.file_settings
+        self.target.unit = self.file_settings.unit
+        self.target.file_attrs = self.file_attrs
+        self.target.original_path = self.filename
+
+    def _tag_new(self, start: int) -> None:
+        """Give objects made by the last command their line, transformation and block expansion."""
+        objects = self.target.objects
+        i = start
+        while i < len(objects):
+            obj = objects[i]
+            d = obj.__dict__
+            if "_sc_line" not in d:
+                d["_sc_line"] = self.lineno
+                if type(obj) is not go.Region:
+                    d["_sc_xform"] = self.sc_xform
+                    if type(obj) is go.Flash and isinstance(obj.aperture, BlockAperture):
+                        copies = self._place_block(obj)
+                        objects[i:i + 1] = copies
+                        i += len(copies)
+                        continue
+            i += 1
+
+    def _place_block(self, flash: go.Flash) -> list[Any]:
+        # Gerber spec 2023.08 section 4.11 (block aperture): flashing a block places its objects
+        # with the block origin at the flash point; a clear flash toggles their polarity.
+        if self.sc_xform != IDENTITY_XFORM:
+            raise self.error("LM/LR/LS transformation of a block aperture (AB) flash is not supported",
+                             "LMN, LR0 and LS1 when a block aperture is flashed")
+        out = []
+        for obj in flash.aperture.objects:
+            new = copy.copy(obj)
+            new.offset(flash.x, flash.y, unit=new.unit)
+            if not flash.polarity_dark:
+                new.polarity_dark = not new.polarity_dark
+            out.append(new)
+        return out
+
+    # ---- fixes -----------------------------------------------------------------------------
+
+    def _parse_coord(self, match: re.Match[str]) -> None:
+        groups = match.groups()
+        op = groups[9]
+        if (groups[2] or groups[4] or groups[6] or groups[8]):
+            if self.file_settings.number_format == (None, None):
+                raise self.error("coordinates before the coordinate format", "%FS...*% before any coordinate")
+        if op == "3" or op == "1":
+            if self.file_settings.unit is None:
+                raise self.error("graphical object before the unit", "%MOMM*% or %MOIN*% before any object")
+        region = self.current_region
+        super()._parse_coord(match)
+        if self.current_region is not region and self.current_region is not None:
+            self._tag_region(self.current_region)
+
+    def _parse_region_start(self, match: re.Match[str]) -> None:
+        super()._parse_region_start(match)
+        self._tag_region(self.current_region)
+
+    def _tag_region(self, region: go.Region) -> None:
+        # Gerber spec 2023.08 section 5.2: a region gets the object attributes of the current
+        # attribute dictionary, and .AperFunction from the aperture attributes in effect.
+        region.attrs = dict(self.graphics_state.object_attrs)
+        region.__dict__["_sc_aperture_attrs"] = dict(self.aperture_attrs)
+        region.__dict__["_sc_line"] = self.lineno
+
+    def _parse_step_repeat(self, match: re.Match[str]) -> None:
+        # Gerber spec 2023.08 section 4.11.1: SR with parameters opens a block (closing an open one),
+        # SR without parameters closes it.
+        if self.sc_sr is not None:
+            self._close_step_repeat()
+        if match["coords"]:
+            x, y = int(match["X"]), int(match["Y"])
+            i, j = float(match["I"]), float(match["J"])
+            if x < 1 or y < 1:
+                raise self.error(f"step-and-repeat count X{x}Y{y}", "X and Y of at least 1")
+            if x * y > self.sc_limits.max_step_repeat_copies:
+                raise LimitError(self.sc_name, self.lineno, f"step-and-repeat of {x * y} copies",
+                                 f"at most limits.max_step_repeat_copies = {self.sc_limits.max_step_repeat_copies}")
+            self.sc_sr = (x, y, i, j, len(self.target.objects), self.lineno)
+
+    def _close_step_repeat(self) -> None:
+        assert self.sc_sr is not None
+        x, y, i, j, start, line = self.sc_sr
+        self.sc_sr = None
+        objects = self.target.objects
+        block = objects[start:]
+        total = len(block) * x * y
+        if start + total > self.sc_limits.max_gerber_objects:
+            raise LimitError(self.sc_name, line, f"step-and-repeat expands to {total} objects",
+                             "at most limits.max_gerber_objects objects in the file")
+        del objects[start:]
+        for nx in range(x):
+            for ny in range(y):
+                for obj in block:
+                    if nx == 0 and ny == 0:
+                        objects.append(obj)
+                        continue
+                    new = copy.copy(obj)
+                    new.offset(i * nx, j * ny, unit=obj.unit)
+                    objects.append(new)
+
+    def _parse_aperture_block(self, match: re.Match[str]) -> None:
+        if match["number"] is not None:
+            number = int(match["number"])
+            if number < 10:
+                raise self.error(f"block aperture number D{number}", "D10 or higher")
+            self.sc_blocks.append((number, len(self.target.objects), self.lineno))
+        else:
+            if not self.sc_blocks:
+                raise self.error("%AB*% without an open block", "%ABD<n>*% before %AB*%")
+            number, start, _line = self.sc_blocks.pop()
+            objects = self.target.objects
+            block = tuple(objects[start:])
+            del objects[start:]
+            self.aperture_map[number] = BlockAperture(block, unit=self.file_settings.unit,
+                                                      original_number=number)
+
+    def _parse_aperture_mirroring(self, match: re.Match[str]) -> None:
+        m = match["mirror"]
+        _, _, rot, scale = self.sc_xform
+        self.sc_xform = ("X" in m, "Y" in m, rot, scale)
+
+    def _parse_aperture_rotation(self, match: re.Match[str]) -> None:
+        mx, my, _, scale = self.sc_xform
+        self.sc_xform = (mx, my, float(match["angle"]), scale)
+
+    def _parse_aperture_scaling(self, match: re.Match[str]) -> None:
+        mx, my, rot, _ = self.sc_xform
+        scale = float(match["scale"])
+        if scale <= 0:
+            raise self.error(f"aperture scale LS{match['scale']}", "a scale factor > 0")
+        self.sc_xform = (mx, my, rot, scale)
+
+    def _parse_aperture_macro(self, match: re.Match[str]) -> None:
+        self.aperture_macros[match["name"]] = MacroDefinition.parse(match["name"], match["macro"])
+
+    def _parse_aperture_definition(self, match: re.Match[str]) -> None:
+        shape = match["shape"]
+        if self.file_settings.unit is None:
+            raise self.error("aperture defined before the unit", "%MOMM*% or %MOIN*% before any aperture")
+        params = tuple(float(v) for v in match["modifiers"].strip(" ,").split("X")) if match["modifiers"] else ()
+        number = int(match["number"])
+        if shape in ("C", "R", "O", "P"):
+            counts = {"C": (1, 3), "R": (2, 4), "O": (2, 4), "P": (2, 5)}[shape]
+            if not counts[0] <= len(params) <= counts[1]:
+                raise self.error(f"aperture D{number} ({shape}) has {len(params)} parameters",
+                                 f"{counts[0]} to {counts[1]} parameters for a {shape} aperture")
+            if any(p < 0 for p in params[:1]) or (shape in "RO" and params[1] < 0):
+                raise self.error(f"aperture D{number} has a negative size", "sizes >= 0")
+            if shape == "P" and not 3 <= int(params[1]) <= 12:
+                raise self.error(f"polygon aperture D{number} with {params[1]:g} vertices", "3 to 12 vertices")
+            self.aperture_map[number] = StandardAperture(
+                shape, params, unit=self.file_settings.unit,
+                attrs=tuple(self.aperture_attrs.items()), original_number=number,
+            )
+            return
+        macro = self.aperture_macros.get(shape)
+        if macro is None:
+            raise self.error(f"aperture D{match['number']} uses the undefined macro {shape!r}",
+                             f"%AM{shape}*...% before this aperture definition")
+        self.aperture_map[number] = MacroAperture(
+            shape, params, macro.evaluate(params), unit=self.file_settings.unit,
+            attrs=tuple(self.aperture_attrs.items()), original_number=number,
+        )
+
+    def _parse_aperture(self, match: re.Match[str]) -> None:
+        number = int(match["number"])
+        if number >= 10 and number not in self.aperture_map:
+            raise self.error(f"aperture D{number} is used but not defined", f"%ADD{number}...*% before its use")
+        super()._parse_aperture(match)
+
+    def _parse_format_spec(self, match: re.Match[str]) -> None:
+        if match["notation"] == "I":
+            raise self.error("incremental coordinate notation is not supported", "absolute notation (%FSLA...*%)")
+        super()._parse_format_spec(match)
+
+    def _parse_old_notation(self, match: re.Match[str]) -> None:
+        if match["mode"] == "G91":
+            raise self.error("incremental coordinate notation (G91) is not supported", "absolute notation (G90)")
+        super()._parse_old_notation(match)
+
+    def _set_unit(self, unit: Any, written: str) -> None:
+        current = self.file_settings.unit
+        if current is not None and current != unit:
+            raise self.error(f"{written} conflicts with the unit set before ({current.shorthand})",
+                             "one unit for the whole file")
+        self.graphics_state.unit = self.file_settings.unit = unit
+
+    def _parse_unit_mode(self, match: re.Match[str]) -> None:
+        self._set_unit(MM if match["unit"] == "MM" else Inch, f"%MO{match['unit']}*%")
+
+    def _parse_allegro_format_spec(self, match: re.Match[str]) -> None:
+        self._parse_format_spec(match)
+        self._parse_unit_mode(match)
+
+    def _parse_old_unit(self, match: re.Match[str]) -> None:
+        self._set_unit(Inch if match["mode"] == "G70" else MM, match["mode"])
+
+    def _parse_include_file(self, match: re.Match[str]) -> None:
+        raise self.error("include files (IF) are not read", "a self-contained Gerber file")
+
+    def _parse_comment(self, match: re.Match[str]) -> None:
+        cmt = match["comment"].strip()
+        if cmt.startswith("#@!"):
+            # X2 attributes in the comment form (Gerber spec 2023.08 section 5.1.1: "G04 #@! " + attribute)
+            m = _ATTRIBUTE_RX.match(cmt[3:].strip().strip("%").rstrip("*"))
+            if m is not None:
+                self._parse_attribute(m)
+                return
+        super()._parse_comment(match)
+
+    def _parse_attribute(self, match: re.Match[str]) -> None:
+        if match["type"] == "TD" and match["name"]:
+            name = match["name"]
+            self.graphics_state.object_attrs.pop(name, None)
+            self.aperture_attrs.pop(name, None)
+            return
+        super()._parse_attribute(match)
+
+
+def decode_gerber(data: bytes, name: str) -> str:
+    """Bytes -> text, refusing binary data with the line of the first bad byte."""
+    bad = re.search(rb"[\x00-\x08\x0b\x0e-\x1f\x7f]", data)
+    if bad is not None:
+        line = data.count(b"\n", 0, bad.start()) + 1
+        raise InputError(name, line, f"binary data (byte 0x{data[bad.start()]:02x}) in a Gerber file",
+                         "text (Gerber RS-274X is ASCII)")
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = data.count(b"\n", 0, exc.start) + 1
+        try:
+            return data.decode("latin-1")
+        except UnicodeDecodeError:  # pragma: no cover - latin-1 decodes every byte
+            raise InputError(name, line, "not UTF-8 text", "a UTF-8 text file") from exc
+
+
+def parse_gerber_text(text: str, name: str, limits: Limits = DEFAULT_LIMITS) -> ParseResult:
+    """Parse Gerber text with our parser subclass; InputError for anything it cannot read."""
+    target = GerberFile()
+    parser = SensorcheckGerberParser(target, name, limits)
+    try:
+        parser.parse(text, filename=name)
+    except InputError:
+        raise
+    except RecursionError as exc:  # pathological nesting of macro expressions
+        raise InputError(name, parser.lineno or None, "expression nested too deeply", "a simpler expression") from exc
+    unit = target.unit
+    if unit is None:
+        if target.objects:  # pragma: no cover - refused at the first object
+            raise InputError(name, None, "no unit", "%MOMM*% or %MOIN*%")
+        units = "mm"
+    else:
+        units = "inch" if unit == Inch else "mm"
+    attrs = {k: list(v) for k, v in parser.file_attrs.items()}
+    return ParseResult(target, units, attrs, parser.sc_warnings, list(target.comments))
