@@ -1,0 +1,578 @@
+"""Identify each input file: which layer of the board it is and which reader reads it.
+
+Order of evidence (the first that answers wins; each answer records how it was found):
+
+1. ``override``: a file-name glob -> layer mapping given by the user (``--layer-map``, config
+   ``[files]``);
+2. ``x2``: Gerber X2 file attributes in the head of the file, in the extended form
+   ``%TF.FileFunction,...*%``, the comment form ``G04 #@! TF.FileFunction,...*`` or, in
+   Excellon files, ``; #@! TF.FileFunction,...`` (only the first 64 KiB are read);
+3. ``jobfile``: the ``FilesAttributes`` list of a Gerber job file (.gbrjob) in the same input;
+4. ``filename``: naming conventions of common EDA tools (KiCad, Eagle, Altium/Protel, OrCAD/
+   Allegro, gEDA/pcb, DipTrace, EasyEDA, Proteus, ...);
+5. ``content``: sniffing Gerber vs Excellon vs IPC-D-356 vs job JSON vs placement CSV.
+
+Files that are not fabrication data (reports, rule exports, notes, GenCAD and other CAD files)
+get ``role=None`` with a note: they are listed, never dropped, and never stop a run.
+
+Layer names are ours (see :mod:`sensorcheck.board.model`). Copper layers get a provisional
+name here; :mod:`sensorcheck.board.build` orders all copper layers and numbers inner layers.
+"""
+
+from __future__ import annotations
+
+import fnmatch
+import json
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass, replace
+from typing import Literal
+
+from sensorcheck.board.model import IdentifiedBy, LayerFunction, Side
+from sensorcheck.errors import ConfigError
+
+FileKind = Literal["gerber", "excellon", "ipc356", "gbrjob", "pnp"]
+
+#: layer names a user may give in an override, besides our layer names
+OVERRIDE_EXTRA: dict[str, tuple[LayerFunction | None, FileKind | None]] = {
+    "drill": ("drill", "excellon"),
+    "drill-plated": ("drill", "excellon"),
+    "drill-nonplated": ("drill", "excellon"),
+    "netlist": ("netlist", "ipc356"),
+    "job": ("job", "gbrjob"),
+    "placement": ("components", "pnp"),
+    "ignore": (None, None),
+}
+
+_FIXED_LAYERS: dict[str, tuple[LayerFunction, Side]] = {
+    "top-copper": ("copper", "top"),
+    "bottom-copper": ("copper", "bottom"),
+    "top-mask": ("mask", "top"),
+    "bottom-mask": ("mask", "bottom"),
+    "top-paste": ("paste", "top"),
+    "bottom-paste": ("paste", "bottom"),
+    "top-silk": ("silk", "top"),
+    "bottom-silk": ("silk", "bottom"),
+    "outline": ("outline", "none"),
+    "top-components": ("components", "top"),
+    "bottom-components": ("components", "bottom"),
+}
+_INNER_RE = re.compile(r"^inner(\d+)-copper$")
+
+
+@dataclass(frozen=True, slots=True)
+class Identification:
+    """What a file is. ``role`` None: not understood (``note`` says why)."""
+
+    name: str
+    role: LayerFunction | None
+    kind: FileKind | None = None
+    layer: str | None = None
+    side: Side | None = None
+    identified_by: IdentifiedBy | None = None
+    #: copper order hint: X2 L-number, or inner-layer number from the name (1 = first inner)
+    copper_number: int | None = None
+    #: True when copper_number is a position in the whole stack (X2/job L-number)
+    copper_number_absolute: bool = False
+    plated: bool | None = None
+    file_function: str | None = None
+    generator: str | None = None
+    note: str | None = None
+
+
+# ----------------------------------------------------------------------------- X2 attributes
+
+_TF_RE = re.compile(
+    rb"(?:%TF|G04[ \t]*#@![ \t]*TF|;[ \t]*#@![ \t]*TF)\.([A-Za-z][A-Za-z0-9_.]*)((?:,[^*%\r\n]*)?)"
+)
+
+
+def head_file_attributes(head: bytes) -> dict[str, list[str]]:
+    """X2 file attributes (``TF``) found in the head of a Gerber or Excellon file, either form."""
+    out: dict[str, list[str]] = {}
+    for m in _TF_RE.finditer(head):
+        key = "." + m.group(1).decode("ascii", "replace")
+        raw = m.group(2).decode("utf-8", "replace")
+        values = [v.strip() for v in raw[1:].split(",")] if raw.startswith(",") else []
+        out.setdefault(key, values)
+    return out
+
+
+def generator_from_attributes(attrs: Mapping[str, list[str]]) -> str | None:
+    gen = attrs.get(".GenerationSoftware")
+    if gen:
+        return " ".join(v for v in gen if v)
+    return None
+
+
+_SIDE_X2: dict[str, Side] = {"top": "top", "bot": "bottom", "inr": "inner"}
+
+
+def from_file_function(name: str, values: list[str], how: IdentifiedBy) -> Identification | None:
+    """Map an X2 ``.FileFunction`` value (Gerber spec 2023.08 section 5.6.3) to our layers."""
+    if not values:
+        return None
+    fn = values[0].strip().lower()
+    text = ",".join(values)
+    args = [v.strip() for v in values[1:]]
+
+    def side_of(i: int) -> Side | None:
+        return _SIDE_X2.get(args[i].lower()) if len(args) > i else None
+
+    if fn == "copper":
+        num = None
+        if args and re.fullmatch(r"[Ll]\d+", args[0]):
+            num = int(args[0][1:])
+        side = side_of(1) or ("top" if num == 1 else None)
+        if side is None:
+            return Identification(name, None, "gerber", identified_by=how, file_function=text,
+                                  note=f"X2 FileFunction {text}: copper layer without Top/Inr/Bot")
+        layer = {"top": "top-copper", "bottom": "bottom-copper"}.get(side, "inner-copper")
+        return Identification(name, "copper", "gerber", layer, side, how, num, num is not None,
+                              file_function=text)
+    if fn in ("soldermask", "legend", "paste"):
+        side = side_of(0)
+        if side not in ("top", "bottom"):
+            return Identification(name, "other", "gerber", identified_by=how, file_function=text,
+                                  note=f"X2 FileFunction {text}: no side")
+        role: LayerFunction = {"soldermask": "mask", "legend": "silk", "paste": "paste"}[fn]  # type: ignore[assignment]
+        return Identification(name, role, "gerber", f"{side}-{role}", side, how, file_function=text)
+    if fn == "profile":
+        return Identification(name, "outline", "gerber", "outline", "none", how, file_function=text)
+    if fn in ("plated", "nonplated", "mixedplating"):
+        plated = {"plated": True, "nonplated": False}.get(fn)
+        return Identification(name, "drill", None, "drill", "both", how, plated=plated, file_function=text)
+    if fn == "component":
+        side = side_of(1)
+        if side not in ("top", "bottom"):
+            return Identification(name, "other", "gerber", identified_by=how, file_function=text,
+                                  note=f"X2 FileFunction {text}: component layer without side")
+        return Identification(name, "components", "gerber", f"{side}-components", side, how, file_function=text)
+    # drawings, glue, other masks, v-cut, depth routing, "Other,User": Gerber, not used by checks
+    return Identification(name, "other", "gerber", identified_by=how, file_function=text,
+                          note=f"X2 FileFunction {text}: not used by the checks")
+
+
+# ----------------------------------------------------------------------------- job file
+
+def job_file_functions(data: bytes) -> dict[str, str]:
+    """``FilesAttributes`` of a Gerber job file: lower-cased base file name -> FileFunction text.
+
+    Unreadable job files give an empty mapping here; the job-file reader reports them.
+    """
+    try:
+        doc = json.loads(data.decode("utf-8-sig"))
+    except (UnicodeDecodeError, json.JSONDecodeError, RecursionError):
+        return {}
+    out: dict[str, str] = {}
+    if isinstance(doc, dict):
+        for entry in doc.get("FilesAttributes") or []:
+            if isinstance(entry, dict) and isinstance(entry.get("Path"), str) and isinstance(
+                entry.get("FileFunction"), str
+            ):
+                base = entry["Path"].replace("\\", "/").rsplit("/", 1)[-1].lower()
+                out[base] = entry["FileFunction"]
+    return out
+
+
+# ----------------------------------------------------------------------------- content sniffing
+
+ContentKind = Literal["gerber", "excellon", "ipc356", "gbrjob", "pnp", "gencad", "binary", "text", "empty"]
+
+
+def sniff(head: bytes) -> ContentKind:
+    """Guess a file's format from its first bytes."""
+    if not head.strip():
+        return "empty"
+    if b"\x00" in head[:4096]:
+        return "binary"
+    sample = head[:65536]
+    text = sample.decode("latin-1")
+    nonprint = sum(1 for ch in text[:4096] if ord(ch) < 9 or 13 < ord(ch) < 32)
+    if nonprint > 4:
+        return "binary"
+    stripped = text.lstrip("\ufeff \t\r\n")
+    if stripped.startswith("{"):
+        if '"FilesAttributes"' in text or '"GeneralSpecs"' in text or '"MaterialStackup"' in text:
+            return "gbrjob"
+    first_lines = [ln.strip() for ln in stripped.splitlines()[:400]]
+    if first_lines and first_lines[0].upper().startswith("$HEADER") and "GENCAD" in text[:200].upper():
+        return "gencad"
+    if re.search(r"^(?:M48|M71|M72)\s*$", text, re.M) or re.search(r"^;\s*DRILL file", text, re.M | re.I):
+        return "excellon"
+    ipc = sum(1 for ln in first_lines if re.match(r"^(317|327|367|017|027|067|999|P  |C  )", ln + " "))
+    if ipc >= max(2, len([ln for ln in first_lines if ln]) // 2) and any(
+        ln.startswith(("317", "327", "367", "P  UNITS", "P  JOB")) for ln in first_lines
+    ):
+        return "ipc356"
+    if re.search(r"%(?:FS|MO|AD|AM|TF|LP|IP)", text) or re.search(r"^G04[ #]", text, re.M):
+        return "gerber"
+    if re.search(r"^\s*#?\s*Ref\b.*\bPos\s*X\b", text, re.M | re.I) or re.search(
+        r"^\"?(Ref|Designator|RefDes)\"?\s*[,;\t].*\b(Pos\s*X|Mid\s*X|X|Center-X\(mm\)|Ref X)\b", text, re.M | re.I
+    ):
+        return "pnp"
+    # Excellon without header: tool selections and coordinates only
+    data_lines = [ln for ln in first_lines if ln and not ln.startswith(";")]
+    if data_lines:
+        drill_like = sum(1 for ln in data_lines if re.fullmatch(r"(T\d+(C[\d.]+)?|[XY][-+]?[\d.]+([XY][-+]?[\d.]+)?|M30|M48|%|G90|G05)", ln))
+        if drill_like >= max(3, int(0.9 * len(data_lines))):
+            return "excellon"
+    return "text"
+
+
+_KIND_OF_CONTENT: dict[str, FileKind] = {
+    "gerber": "gerber", "excellon": "excellon", "ipc356": "ipc356", "gbrjob": "gbrjob", "pnp": "pnp",
+}
+
+
+# ----------------------------------------------------------------------------- file names
+
+_COMPOUND_WORDS = (
+    "top", "bottom", "bot", "solder", "mask", "soldermask", "silk", "silkscreen", "screen", "paste",
+    "cream", "layer", "copper", "board", "outline", "edge", "cuts", "internal", "plane", "inner",
+    "drill", "drills", "plated", "legend", "overlay", "resist", "stop", "group",
+)
+
+
+def _split_compound(token: str) -> list[str]:
+    """``bottomsoldermask`` -> bottom, soldermask; ``tcream`` -> t, cream (OSH Park); else as is."""
+    best: dict[int, list[str]] = {0: []}
+    for i in range(len(token)):
+        if i not in best:
+            continue
+        for w in _COMPOUND_WORDS + (("t", "b") if i == 0 else ()):
+            j = i + len(w)
+            if token.startswith(w, i) and (j not in best or len(best[j]) > len(best[i]) + 1):
+                best[j] = best[i] + [w]
+    parts = best.get(len(token))
+    return parts if parts and len(parts) > 1 else [token]
+
+
+def _tokens(stem: str) -> list[str]:
+    """Split a file name stem into lower-case words: separators, camelCase, digit runs, compounds."""
+    s = re.sub(r"([a-z])([A-Z])", r"\1 \2", stem)
+    s = re.sub(r"([A-Za-z])(\d)", r"\1 \2", s)
+    s = re.sub(r"(\d)([A-Za-z])", r"\1 \2", s)
+    out: list[str] = []
+    for t in re.split(r"[^A-Za-z0-9]+", s.lower()):
+        if t:
+            out.extend(_split_compound(t))
+    return out
+
+
+_GENERIC_EXT = {"gbr", "ger", "gbx", "pho", "art", "gb", "gdo", "grb", "gerber", "cmp_", "fph"}
+_DRILL_EXT_STRONG = {"drl", "xln", "exc", "drd", "drill", "xnc", "ncd"}
+_DRILL_EXT_WEAK = {"txt", "tap", "npt", "cnc", "nc", "tx1", "tx2", "tx3"}
+_NOT_FAB_EXT: dict[str, str] = {
+    "drr": "drill report", "ldp": "layer-pair report", "rul": "design-rule export",
+    "extrep": "Gerber extension report", "apr": "aperture report", "apr_lib": "aperture macro library",
+    "rep": "report", "rpt": "report", "log": "log", "pdf": "document", "png": "image", "jpg": "image",
+    "jpeg": "image", "svg": "image", "md": "notes", "html": "document", "htm": "document",
+    "cad": "GenCAD or other CAD data", "kicad_pcb": "CAD design file", "kicad_pro": "CAD project file",
+    "brd": "CAD design file", "sch": "CAD schematic", "pcbdoc": "CAD design file", "zip": "nested archive",
+    "7z": "nested archive", "rar": "nested archive", "gz": "compressed file", "tar": "nested archive",
+    "gpi": "Gerber info report", "dri": "drill info report", "step": "3-D model", "stp": "3-D model",
+    "wrl": "3-D model", "xlsx": "spreadsheet", "xls": "spreadsheet", "ods": "spreadsheet", "bom": "bill of materials",
+    "odb": "ODB++ data", "tgz": "nested archive", "ipc2581": "IPC-2581 data", "cvg": "IPC-2581 data",
+    "dxf": "drawing", "readme": "notes", "json": "data",
+}
+
+_EXT_LAYERS: dict[str, tuple[LayerFunction, Side, str | None]] = {
+    # Altium/Protel (also EasyEDA, KiCad's "Protel extensions")
+    "gtl": ("copper", "top", "top-copper"), "gbl": ("copper", "bottom", "bottom-copper"),
+    "gts": ("mask", "top", "top-mask"), "gbs": ("mask", "bottom", "bottom-mask"),
+    "gto": ("silk", "top", "top-silk"), "gbo": ("silk", "bottom", "bottom-silk"),
+    "gtp": ("paste", "top", "top-paste"), "gbp": ("paste", "bottom", "bottom-paste"),
+    "gko": ("outline", "none", "outline"), "gml": ("outline", "none", "outline"),
+    "gm": ("outline", "none", "outline"),
+    "gta": ("other", "top", None), "gba": ("other", "bottom", None),
+    "gpt": ("other", "top", None), "gpb": ("other", "bottom", None),
+    # Eagle (legacy CAM) and OrCAD/Allegro
+    "cmp": ("copper", "top", "top-copper"), "sol": ("copper", "bottom", "bottom-copper"),
+    "top": ("copper", "top", "top-copper"), "bot": ("copper", "bottom", "bottom-copper"),
+    "stc": ("mask", "top", "top-mask"), "sts": ("mask", "bottom", "bottom-mask"),
+    "tsm": ("mask", "top", "top-mask"), "bsm": ("mask", "bottom", "bottom-mask"),
+    "smt": ("mask", "top", "top-mask"), "smb": ("mask", "bottom", "bottom-mask"),
+    "plc": ("silk", "top", "top-silk"), "pls": ("silk", "bottom", "bottom-silk"),
+    "tsk": ("silk", "top", "top-silk"), "bsk": ("silk", "bottom", "bottom-silk"),
+    "sst": ("silk", "top", "top-silk"), "ssb": ("silk", "bottom", "bottom-silk"),
+    "crc": ("paste", "top", "top-paste"), "crs": ("paste", "bottom", "bottom-paste"),
+    "tsp": ("paste", "top", "top-paste"), "bsp": ("paste", "bottom", "bottom-paste"),
+    "spt": ("paste", "top", "top-paste"), "spb": ("paste", "bottom", "bottom-paste"),
+    "dim": ("outline", "none", "outline"), "mil": ("outline", "none", "outline"),
+    "fab": ("outline", "none", "outline"),  # OrCAD: fabrication/outline layer
+}
+
+_OTHER_WORDS = {"fab", "courtyard", "crtyd", "adhesive", "glue", "margin", "user", "eco", "dwgs", "cmts",
+                "drawing", "drawings", "assembly", "assy", "map", "comments", "comment", "vscore", "keepout",
+                "documentation", "notes", "info", "report", "mechanical", "mech", "dimensions"}
+_PASTE_WORDS = {"paste", "cream", "stencil", "smd"}
+_MASK_WORDS = {"mask", "soldermask", "stopmask", "resist", "stop", "sm"}
+_SILK_WORDS = {"silk", "silks", "silkscreen", "legend", "overlay", "ss", "plc"}
+_OUTLINE_WORDS = {"outline", "edge", "cuts", "profile", "boardoutline", "contour", "shape", "milling", "dimension", "border"}
+_DRILL_WORDS = {"drill", "drills", "drl", "pth", "npth", "plated", "unplated", "through", "holes", "nc"}
+_COPPER_WORDS = {"cu", "copper", "signal", "toplayer", "bottomlayer", "internalplane", "plane", "layer", "route"}
+_TOP_WORDS = {"top", "front", "f", "cmp", "component", "t"}
+_BOTTOM_WORDS = {"bottom", "bot", "back", "b", "sol"}
+_INNER_WORDS = {"in", "inner", "inr", "internal", "internalplane", "mid", "midlayer", "ly", "plane", "group"}
+
+
+def _side_from_tokens(tokens: list[str]) -> tuple[Side | None, int | None]:
+    for i, t in enumerate(tokens):
+        nxt = tokens[i + 1] if i + 1 < len(tokens) else ""
+        if t in _INNER_WORDS and nxt.isdigit():
+            return "inner", int(nxt)
+    if any(t in _TOP_WORDS for t in tokens) or "toplayer" in tokens:
+        return "top", None
+    if any(t in _BOTTOM_WORDS for t in tokens) or "bottomlayer" in tokens:
+        return "bottom", None
+    return None, None
+
+
+def identify_name(name: str) -> Identification:
+    """Identify a file by its name alone (conventions of common EDA tools).
+
+    Drill-file names with generic extensions (``.txt``, ``.nc`` ...) are only a hint: the caller
+    confirms them by content. Returns ``role=None`` when the name says nothing.
+    """
+    base = name.replace("\\", "/").rsplit("/", 1)[-1]
+    stem, dot, ext = base.rpartition(".")
+    if not dot:
+        stem, ext = base, ""
+    ext_l = ext.lower()
+    if ext_l in ("gbrjob",):
+        return Identification(name, "job", "gbrjob", None, "none", "filename")
+    if ext_l in ("ipc", "d356", "356", "ipc356", "ipcd356"):
+        return Identification(name, "netlist", "ipc356", None, "none", "filename")
+    if ext_l == "pos":
+        side: Side = "both"
+        toks = _tokens(stem)
+        if "top" in toks or "front" in toks:
+            side = "top"
+        elif "bottom" in toks or "back" in toks:
+            side = "bottom"
+        return Identification(name, "components", "pnp", None, side, "filename")
+    toks = _tokens(stem)
+    # "board.bottom_copper.gbr": the final "gbr" says nothing, the words before it do
+    if ext_l in _NOT_FAB_EXT:
+        return Identification(name, None, None, identified_by="filename",
+                              note=f"not fabrication data ({_NOT_FAB_EXT[ext_l]})")
+    if ext_l == "csv":
+        if set(toks) & {"pos", "pnp", "centroid", "placement", "pick", "place", "xy", "cpl", "positions"}:
+            return Identification(name, "components", "pnp", None, "both", "filename")
+        return Identification(name, None, None, identified_by="filename", note="CSV file (not a placement file by its name)")
+    words = toks if ext_l in _GENERIC_EXT or not ext_l else toks + _tokens(ext_l)
+
+    def layer_ident(role: LayerFunction, side: Side | None, number: int | None = None) -> Identification:
+        if role in ("mask", "silk", "paste"):
+            if side in ("top", "bottom"):
+                return Identification(name, role, "gerber", f"{side}-{role}", side, "filename")
+            return Identification(name, None, "gerber", identified_by="filename",
+                                  note=f"{role} layer, but the name gives no side (use a layer map)")
+        if role == "copper":
+            if side == "inner" or number is not None:
+                return Identification(name, "copper", "gerber", "inner-copper", "inner", "filename", number)
+            if side in ("top", "bottom"):
+                return Identification(name, "copper", "gerber", f"{side}-copper", side, "filename")
+            return Identification(name, None, "gerber", identified_by="filename",
+                                  note="copper layer, but the name gives no side (use a layer map)")
+        if role == "outline":
+            return Identification(name, "outline", "gerber", "outline", "none", "filename")
+        return Identification(name, "other", "gerber", None, side, "filename", note="drawing or documentation layer: not used by the checks")
+
+    side, number = _side_from_tokens(toks)
+    tokset = set(toks)
+    if ext_l in _DRILL_EXT_STRONG:
+        plated = _plated_from_tokens(toks)
+        return Identification(name, "drill", "excellon", "drill", "both", "filename", plated=plated)
+    if ext_l in _DRILL_EXT_WEAK and tokset & {"bom", "readme", "notes", "info", "report", "readme", "parts"}:
+        return Identification(name, None, None, identified_by="filename",
+                              note="not fabrication data (a text document by its name)")
+    if ext_l in _DRILL_EXT_WEAK:
+        plated = _plated_from_tokens(toks)
+        return Identification(name, "drill", "excellon", "drill", "both", "filename", plated=plated,
+                              note="drill file by name only; confirmed by content")
+    # drill maps and drawings: "PTH-drl_map.gbr" is a drawing, not a drill file
+    if tokset & _OTHER_WORDS and not (tokset & {"copper", "cu"}):
+        return layer_ident("other", side)
+    if tokset & _PASTE_WORDS:
+        return layer_ident("paste", side)
+    if tokset & _MASK_WORDS or (("solder" in tokset) and not (tokset & _COPPER_WORDS)):
+        return layer_ident("mask", side)
+    if tokset & _SILK_WORDS or ("silk" in "".join(toks)):
+        return layer_ident("silk", side)
+    if tokset & _OUTLINE_WORDS or {"board", "outline"} <= tokset:
+        return layer_ident("outline", "none")
+    if tokset & _DRILL_WORDS and ext_l in _GENERIC_EXT | {""}:
+        # a Gerber-extension file named "drill": a drawing; the content decides
+        return Identification(name, "drill", "excellon", "drill", "both", "filename",
+                              plated=_plated_from_tokens(toks), note="drill file by name only; confirmed by content")
+    if side == "inner" and number is not None and (tokset & (_COPPER_WORDS | _INNER_WORDS)):
+        return layer_ident("copper", "inner", number)  # KiCad "In2.Cu.g3": the words beat ".g3"
+    # extension tables (Altium/Protel, Eagle, OrCAD)
+    m = re.fullmatch(r"g(\d+)", ext_l) or re.fullmatch(r"gp(\d+)", ext_l) or re.fullmatch(r"ly(\d+)", ext_l) or re.fullmatch(r"in(\d+)", ext_l)
+    if ext_l in _EXT_LAYERS:
+        role, eside, _layer = _EXT_LAYERS[ext_l]
+        return layer_ident(role, eside)
+    if re.fullmatch(r"gm\d+", ext_l):
+        return layer_ident("outline", "none")
+    if re.fullmatch(r"g[dg]\d+", ext_l):
+        return layer_ident("other", None)
+    if m:
+        n = int(m.group(1))
+        if ext_l.startswith("ly"):
+            n -= 1  # Eagle: layer 2 is the first inner layer
+        return layer_ident("copper", "inner", n)
+    # words of the name (DipTrace "Top.gbr", gEDA "board.top.gbr", Eagle "copper_top.gbr",
+    # Proteus "CADCAM Top Copper.GBR", OSH Park "toplayer.ger")
+    if side == "inner" and (tokset & (_COPPER_WORDS | _INNER_WORDS)):
+        return layer_ident("copper", "inner", number)
+    if tokset & _COPPER_WORDS:
+        return layer_ident("copper", side)
+    if side in ("top", "bottom") and ext_l in _GENERIC_EXT and toks and toks[-1] in ("top", "bottom", "bot"):
+        return layer_ident("copper", side)
+    if side in ("top", "bottom") and len(tokset & (_TOP_WORDS | _BOTTOM_WORDS)) == len(tokset - {"board"}):
+        return layer_ident("copper", side)
+    return Identification(name, None, None, note="the file name follows no convention we know")
+
+
+def _plated_from_tokens(toks: list[str]) -> bool | None:
+    if "npth" in toks or "unplated" in toks or "nonplated" in toks or ("non" in toks and "plated" in toks) or "npt" in toks:
+        return False
+    if "pth" in toks or "plated" in toks:
+        return True
+    return None
+
+
+# ----------------------------------------------------------------------------- overrides
+
+def parse_layer_map(items: list[str], *, source: str = "--layer-map") -> dict[str, str]:
+    """``["*.gtl=top-copper", ...]`` -> {glob: layer}; a bad item is a ConfigError."""
+    out: dict[str, str] = {}
+    for item in items:
+        glob, eq, layer = item.partition("=")
+        if not eq or not glob.strip() or not layer.strip():
+            raise ConfigError(source, item, "expected GLOB=LAYER (e.g. '*.gtl=top-copper')")
+        out[glob.strip()] = layer.strip()
+    check_layer_map(out, source=source)
+    return out
+
+
+def check_layer_map(mapping: Mapping[str, str], *, source: str = "[files]") -> None:
+    for glob, layer in mapping.items():
+        if layer not in _FIXED_LAYERS and layer not in OVERRIDE_EXTRA and not _INNER_RE.match(layer):
+            known = ", ".join(sorted([*_FIXED_LAYERS, "innerN-copper", *OVERRIDE_EXTRA]))
+            raise ConfigError(source, glob, f"unknown layer {layer!r}; expected one of: {known}")
+
+
+def from_override(name: str, layer: str) -> Identification:
+    if layer in _FIXED_LAYERS:
+        role, side = _FIXED_LAYERS[layer]
+        return Identification(name, role, "gerber", layer, side, "override")
+    m = _INNER_RE.match(layer)
+    if m:
+        n = int(m.group(1))
+        return Identification(name, "copper", "gerber", layer, "inner", "override", n + 1, True)
+    role2, kind = OVERRIDE_EXTRA[layer]
+    if role2 is None:
+        return Identification(name, None, None, identified_by="override", note="ignored by the layer map")
+    plated = {"drill-plated": True, "drill-nonplated": False}.get(layer)
+    return Identification(name, role2, kind, "drill" if role2 == "drill" else None,
+                          "both" if role2 in ("drill", "components") else "none", "override", plated=plated)
+
+
+def match_override(name: str, layer_map: Mapping[str, str] | None) -> str | None:
+    if not layer_map:
+        return None
+    base = name.rsplit("/", 1)[-1].lower()
+    for glob, layer in layer_map.items():
+        g = glob.lower()
+        if fnmatch.fnmatchcase(base, g) or fnmatch.fnmatchcase(name.lower(), g):
+            return layer
+    return None
+
+
+# ----------------------------------------------------------------------------- all together
+
+def identify(
+    name: str,
+    head: bytes,
+    *,
+    layer_map: Mapping[str, str] | None = None,
+    job_functions: Mapping[str, str] | None = None,
+) -> Identification:
+    """Identify one file from its name and the head of its content (evidence order above)."""
+    content = sniff(head)
+    attrs = head_file_attributes(head) if content in ("gerber", "excellon") else {}
+    generator = generator_from_attributes(attrs)
+
+    def with_kind(ident: Identification) -> Identification:
+        kind = ident.kind
+        if ident.role == "drill":
+            # a drill file is Excellon unless its content is Gerber (X2 drill files in Gerber)
+            kind = "gerber" if content == "gerber" else "excellon"
+        return replace(ident, kind=kind, generator=ident.generator or generator)
+
+    over = match_override(name, layer_map)
+    if over is not None:
+        return with_kind(from_override(name, over))
+
+    ff = attrs.get(".FileFunction")
+    if ff:
+        ident = from_file_function(name, ff, "x2")
+        if ident is not None:
+            return with_kind(ident)
+
+    if job_functions:
+        base = name.rsplit("/", 1)[-1].lower()
+        if base in job_functions:
+            ident = from_file_function(name, job_functions[base].split(","), "jobfile")
+            if ident is not None:
+                return with_kind(ident)
+
+    if content == "gencad":
+        return Identification(name, None, None, identified_by="content",
+                              note="GenCAD file: CAD data, not read (net names come from X2 or IPC-D-356)")
+    by_name = identify_name(name)
+    proven = content in ("excellon", "ipc356", "gbrjob", "pnp")
+    if by_name.role == "drill":
+        if content == "gerber":
+            return replace(by_name, kind="gerber", role="other", layer=None, side=None, plated=None,
+                           generator=generator, note="drill drawing or map (Gerber content): not used by the checks")
+        if by_name.note and content != "excellon":  # weak extension (.txt ...): the content must agree
+            return _by_content(name, content, generator, by_name)
+        return replace(by_name, kind="excellon", note=None, generator=generator)
+    if by_name.role in ("job", "netlist", "components"):
+        return by_name
+    if by_name.kind == "gerber":  # a Gerber layer by name (or a Gerber name without a side)
+        if proven:
+            return _by_content(name, content, generator, by_name)
+        return replace(by_name, generator=generator)
+    if by_name.identified_by == "filename" and not proven:  # a known non-fabrication extension
+        return by_name
+    return _by_content(name, content, generator, by_name)
+
+
+def _by_content(name: str, content: ContentKind, generator: str | None, by_name: Identification) -> Identification:
+    if content == "excellon":
+        return Identification(name, "drill", "excellon", "drill", "both", "content", generator=generator,
+                              plated=by_name.plated)
+    if content == "ipc356":
+        return Identification(name, "netlist", "ipc356", None, "none", "content")
+    if content == "gbrjob":
+        return Identification(name, "job", "gbrjob", None, "none", "content")
+    if content == "pnp":
+        return Identification(name, "components", "pnp", None, "both", "content")
+    if content == "gerber":
+        return Identification(name, None, "gerber", identified_by="content", generator=generator,
+                              note="Gerber file, but nothing tells which layer it is (add a layer map: GLOB=LAYER)")
+    reason = {
+        "binary": "binary data",
+        "empty": "empty file",
+        "text": "text that is no fabrication format we read",
+        "gencad": "GenCAD file: CAD data, not read",
+    }.get(content, "unknown content")
+    note = by_name.note if by_name.note and by_name.role is None and by_name.identified_by == "filename" else reason
+    if by_name.note and by_name.role is None and by_name.identified_by == "filename" and note != reason:
+        note = f"{note}; {reason}"
+    return Identification(name, None, None, identified_by="content", note=note)

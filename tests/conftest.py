@@ -1,0 +1,21 @@
+"""Shared test fixtures.
+
+``shared_dir`` is the read-only data beside the repository (``<repo>/../shared``: real boards,
+peer test suites). A fresh checkout has none: tests that need it skip cleanly.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+REPO = Path(__file__).resolve().parents[1]
+
+
+@pytest.fixture(scope="session")
+def shared_dir() -> Path:
+    path = REPO.parent / "shared"
+    if not path.is_dir():
+        pytest.skip("../shared (corpus and peer suites) is not present")
+    return path
