@@ -225,11 +225,8 @@ class StandardAperture:
 
     @property
     def hole(self) -> tuple[float, ...]:
-        first = {"C": 1, "R": 2, "O": 2, "P": 3}[self.shape]
-        if self.shape == "P":
-            first = 3
-        rest = self.params[first:]
-        return tuple(v for v in rest)
+        """Hole parameters as written: () none, (d,) round, (x, y) rectangular (older revisions)."""
+        return self.params[{"C": 1, "R": 2, "O": 2, "P": 3}[self.shape]:]
 
     def equivalent_width(self, unit: Any = None) -> float:
         if self.shape == "C":

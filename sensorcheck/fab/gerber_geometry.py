@@ -1,0 +1,593 @@
+"""Exact shapely 2 geometry from the objects of :mod:`sensorcheck.fab.gerber_parser`.
+
+Semantics (Gerber Layer Format Specification 2023.08, chapter 4):
+
+* a flash places the aperture's shape at the point (holes and exposure-off macro primitives cut
+  only that shape, section 4.4 and 4.5);
+* a draw (D01, linear) covers the area the aperture sweeps from start to end: for a convex
+  aperture that is exactly the convex hull of the shape at both ends (so a rectangle stays a
+  rectangle: no rounded caps, no "equivalent width");
+* an arc (D01, circular) with a circle aperture covers the buffer of the arc by the radius;
+* a region is the area inside its contour (cut-ins allowed, section 4.10);
+* LM/LR/LS mirror, rotate and scale the aperture about its origin before it is placed
+  (section 4.9; applied in the order mirror, rotate, scale: from memory of the specification;
+  scaling commutes with both);
+* polarity (LP) applies in file order: a clear object removes what lies under it from every
+  object before it (section 4.9.2).
+
+Curves are flattened with vertices on the true curve and a chord error (sagitta) of at most
+``arc_tolerance_mm``. Everything is in millimetres.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import defaultdict
+from typing import Any, Iterable
+
+import numpy as np
+import shapely
+from gerbonara import graphic_objects as go
+from gerbonara.utils import Inch
+from shapely.geometry import GeometryCollection, Polygon
+from shapely.geometry.base import BaseGeometry
+
+from sensorcheck.board.model import Feature, ObjectKind, Polarity, SourceRef
+from sensorcheck.errors import InputError
+from sensorcheck.fab.gerber_parser import (
+    IDENTITY_XFORM,
+    MacroAperture,
+    ParseResult,
+    StandardAperture,
+)
+
+MM_PER_INCH = 25.4
+EMPTY = Polygon()
+
+
+# --------------------------------------------------------------------------------------------
+# curve flattening
+# --------------------------------------------------------------------------------------------
+
+def circle_segments(radius_mm: float, tolerance_mm: float) -> int:
+    """Segments of a full circle so that the sagitta of each chord is <= tolerance."""
+    if radius_mm <= tolerance_mm:
+        return 8
+    half_angle = math.acos(1.0 - tolerance_mm / radius_mm)
+    return max(8, math.ceil(math.pi / half_angle))
+
+
+def circle_coords(cx: float, cy: float, r: float, tol: float) -> np.ndarray:
+    n = circle_segments(r, tol)
+    t = np.linspace(0.0, 2.0 * math.pi, n, endpoint=False)
+    return np.column_stack((cx + r * np.cos(t), cy + r * np.sin(t)))
+
+
+def circle_polygon(cx: float, cy: float, r: float, tol: float) -> BaseGeometry:
+    if r <= 0:
+        return EMPTY
+    return Polygon(circle_coords(cx, cy, r, tol))
+
+
+def arc_points(
+    x1: float, y1: float, x2: float, y2: float, cx: float, cy: float, clockwise: bool, tol: float,
+    extra_radius: float = 0.0,
+) -> np.ndarray:
+    """Points of a circular arc from (x1, y1) to (x2, y2) about the absolute centre (cx, cy).
+
+    Start and end equal: a full circle (multi-quadrant mode, Gerber spec section 4.7.2). The
+    number of segments keeps the sagitta at radius + extra_radius below ``tol``.
+    """
+    r1 = math.hypot(x1 - cx, y1 - cy)
+    r2 = math.hypot(x2 - cx, y2 - cy)
+    a1 = math.atan2(y1 - cy, x1 - cx)
+    a2 = math.atan2(y2 - cy, x2 - cx)
+    if math.isclose(x1, x2, abs_tol=1e-9) and math.isclose(y1, y2, abs_tol=1e-9):
+        sweep = -2 * math.pi if clockwise else 2 * math.pi
+    elif clockwise:
+        sweep = a2 - a1
+        if sweep >= 0:
+            sweep -= 2 * math.pi
+    else:
+        sweep = a2 - a1
+        if sweep <= 0:
+            sweep += 2 * math.pi
+    r_max = max(r1, r2) + extra_radius
+    if r_max <= 0:
+        return np.array([[x1, y1], [x2, y2]])
+    per_circle = circle_segments(r_max, tol)
+    n = max(1, math.ceil(abs(sweep) / (2 * math.pi) * per_circle))
+    t = np.linspace(0.0, 1.0, n + 1)
+    ang = a1 + sweep * t
+    rad = r1 + (r2 - r1) * t  # endpoints exact even where the file's centre is slightly off
+    pts = np.column_stack((cx + rad * np.cos(ang), cy + rad * np.sin(ang)))
+    pts[0] = (x1, y1)
+    pts[-1] = (x2, y2)
+    return pts
+
+
+# --------------------------------------------------------------------------------------------
+# aperture shapes (at the origin, in mm, transformation applied)
+# --------------------------------------------------------------------------------------------
+
+def _rotate(coords: np.ndarray, deg: float) -> np.ndarray:
+    if deg == 0:
+        return coords
+    a = math.radians(deg)
+    c, s = math.cos(a), math.sin(a)
+    return coords @ np.array([[c, s], [-s, c]])
+
+
+def _rect(cx: float, cy: float, w: float, h: float) -> np.ndarray:
+    return np.array(
+        [[cx - w / 2, cy - h / 2], [cx + w / 2, cy - h / 2], [cx + w / 2, cy + h / 2], [cx - w / 2, cy + h / 2]]
+    )
+
+
+def _poly(coords: np.ndarray) -> BaseGeometry:
+    if len(coords) < 3:
+        return EMPTY
+    p = Polygon(coords)
+    if not p.is_valid:
+        p = shapely.make_valid(p)
+    return p
+
+
+def _obround(w: float, h: float, tol: float) -> BaseGeometry:
+    if w <= 0 or h <= 0:
+        return EMPTY
+    r = min(w, h) / 2
+    n_half = max(4, circle_segments(r, tol) // 2)
+    t = np.linspace(-math.pi / 2, math.pi / 2, n_half + 1)
+    if w >= h:
+        d = w / 2 - r
+        right = np.column_stack((d + r * np.cos(t), r * np.sin(t)))
+        left = np.column_stack((-d - r * np.cos(t), -r * np.sin(t)))
+    else:
+        d = h / 2 - r
+        right = np.column_stack((-r * np.sin(t), d + r * np.cos(t)))
+        left = np.column_stack((r * np.sin(t), -d - r * np.cos(t)))
+    return Polygon(np.vstack((right, left)))
+
+
+def _regular_polygon(cx: float, cy: float, diameter: float, n: int, rot_deg: float) -> np.ndarray:
+    t = np.radians(rot_deg) + 2 * math.pi * np.arange(n) / n
+    return np.column_stack((cx + diameter / 2 * np.cos(t), cy + diameter / 2 * np.sin(t)))
+
+
+def standard_shape(ap: StandardAperture, k: float, tol: float) -> BaseGeometry:
+    """Shape of a C/R/O/P aperture (Gerber spec section 4.4), holes cut, scaled by k to mm."""
+    p = [v * k for v in ap.params]
+    if ap.shape == "C":
+        shape = circle_polygon(0, 0, p[0] / 2, tol)
+        hole = p[1:]
+    elif ap.shape == "R":
+        shape = Polygon(_rect(0, 0, p[0], p[1])) if p[0] > 0 and p[1] > 0 else EMPTY
+        hole = p[2:]
+    elif ap.shape == "O":
+        shape = _obround(p[0], p[1], tol)
+        hole = p[2:]
+    else:  # "P": outer diameter, vertices, rotation (degrees, not scaled), hole
+        n = int(ap.params[1])
+        rot = ap.params[2] if len(ap.params) > 2 else 0.0
+        shape = Polygon(_regular_polygon(0, 0, p[0], n, rot)) if p[0] > 0 else EMPTY
+        hole = p[3:]
+    if len(hole) == 1 and hole[0] > 0:
+        shape = shape.difference(circle_polygon(0, 0, hole[0] / 2, tol))
+    elif len(hole) == 2 and hole[0] > 0 and hole[1] > 0:  # rectangular hole of older revisions
+        shape = shape.difference(Polygon(_rect(0, 0, hole[0], hole[1])))
+    return shape
+
+
+def _macro_primitive(code: int, a: tuple[float, ...], k: float, tol: float) -> tuple[float, BaseGeometry]:
+    """(exposure, shape) of one evaluated macro primitive (Gerber spec section 4.5.1)."""
+    if code == 1:  # circle: exposure, diameter, cx, cy[, rotation]
+        rot = a[4] if len(a) > 4 else 0.0
+        c = _rotate(np.array([[a[2] * k, a[3] * k]]), rot)[0]
+        return a[0], circle_polygon(c[0], c[1], a[1] * k / 2, tol)
+    if code in (2, 20):  # vector line: exposure, width, x1, y1, x2, y2, rotation
+        w, x1, y1, x2, y2 = (v * k for v in a[1:6])
+        rot = a[6] if len(a) > 6 else 0.0
+        dx, dy = x2 - x1, y2 - y1
+        length = math.hypot(dx, dy)
+        if length == 0 or w <= 0:
+            return a[0], EMPTY
+        nx, ny = -dy / length * w / 2, dx / length * w / 2
+        pts = np.array([[x1 + nx, y1 + ny], [x1 - nx, y1 - ny], [x2 - nx, y2 - ny], [x2 + nx, y2 + ny]])
+        return a[0], _poly(_rotate(pts, rot))
+    if code == 21:  # centre line: exposure, width, height, cx, cy, rotation
+        w, h, cx, cy = (v * k for v in a[1:5])
+        rot = a[5] if len(a) > 5 else 0.0
+        if w <= 0 or h <= 0:
+            return a[0], EMPTY
+        return a[0], _poly(_rotate(_rect(cx, cy, w, h), rot))
+    if code == 22:  # lower-left line (older revisions): exposure, width, height, x, y, rotation
+        w, h, x, y = (v * k for v in a[1:5])
+        rot = a[5] if len(a) > 5 else 0.0
+        if w <= 0 or h <= 0:
+            return a[0], EMPTY
+        return a[0], _poly(_rotate(_rect(x + w / 2, y + h / 2, w, h), rot))
+    if code == 4:  # outline: exposure, n, x0, y0, ... xn, yn, rotation
+        n = int(a[1])
+        coords = np.array(a[2:2 + 2 * (n + 1)], dtype=float).reshape(-1, 2) * k
+        rot = a[2 + 2 * (n + 1)] if len(a) > 2 + 2 * (n + 1) else 0.0
+        return a[0], _poly(_rotate(coords, rot))
+    if code == 5:  # polygon: exposure, vertices, cx, cy, diameter, rotation
+        n = int(a[1])
+        rot = a[5] if len(a) > 5 else 0.0
+        pts = _regular_polygon(a[2] * k, a[3] * k, a[4] * k, n, 0.0)
+        return a[0], _poly(_rotate(pts, rot))
+    if code == 6:  # moire (older revisions): cx, cy, outer dia, ring thickness, gap, rings, cross thickness, cross length, rot
+        cx, cy, outer, thick, gap = (v * k for v in a[0:5])
+        rings = int(a[5])
+        ct, cl = a[6] * k, a[7] * k
+        rot = a[8] if len(a) > 8 else 0.0
+        parts = []
+        d = outer
+        for _ in range(rings):
+            if d <= 0:
+                break
+            ring = circle_polygon(cx, cy, d / 2, tol).difference(circle_polygon(cx, cy, max(d / 2 - thick, 0), tol))
+            parts.append(ring)
+            d -= 2 * (thick + gap)
+        if ct > 0 and cl > 0:
+            parts.append(Polygon(_rect(cx, cy, cl, ct)))
+            parts.append(Polygon(_rect(cx, cy, ct, cl)))
+        shape = shapely.union_all(parts) if parts else EMPTY
+        return 1.0, shapely.affinity.rotate(shape, rot, origin=(0, 0)) if rot else shape
+    if code == 7:  # thermal: cx, cy, outer dia, inner dia, gap, rotation
+        cx, cy, outer, inner, gap = (v * k for v in a[0:5])
+        rot = a[5] if len(a) > 5 else 0.0
+        shape = circle_polygon(cx, cy, outer / 2, tol).difference(circle_polygon(cx, cy, inner / 2, tol))
+        if gap > 0:
+            cross = shapely.union(Polygon(_rect(cx, cy, 2 * outer, gap)), Polygon(_rect(cx, cy, gap, 2 * outer)))
+            shape = shape.difference(cross)
+        return 1.0, shapely.affinity.rotate(shape, rot, origin=(0, 0)) if rot else shape
+    raise ValueError(f"unknown macro primitive {code}")  # pragma: no cover - refused by the parser
+
+
+def macro_shape(ap: MacroAperture, k: float, tol: float) -> BaseGeometry:
+    """Shape of a macro aperture: primitives in order, exposure on adds, off cuts (section 4.5)."""
+    shape: BaseGeometry = EMPTY
+    for code, args in ap.primitives:
+        exposure, prim = _macro_primitive(code, args, k, tol)
+        if prim.is_empty:
+            continue
+        if exposure == 0:
+            shape = shape.difference(prim)
+        elif exposure == 2:  # toggle, older revisions
+            shape = shape.symmetric_difference(prim)
+        elif shape.is_empty:
+            shape = prim
+        else:
+            shape = shape.union(prim)
+    return shape
+
+
+def transformed(shape: BaseGeometry, xform: tuple[bool, bool, float, float]) -> BaseGeometry:
+    if xform == IDENTITY_XFORM or shape.is_empty:
+        return shape
+    mx, my, rot, scale = xform
+
+    def fn(c: np.ndarray) -> np.ndarray:
+        c = c.copy()
+        if mx:
+            c[:, 0] = -c[:, 0]
+        if my:
+            c[:, 1] = -c[:, 1]
+        c = _rotate(c, rot)
+        return c * scale
+
+    out = shapely.transform(shape, fn)
+    if mx != my:  # a mirror reverses ring orientation; normalise
+        out = shapely.normalize(out)
+    return out
+
+
+class ShapeCache:
+    """Aperture shapes by (aperture identity, transformation), built once per file."""
+
+    def __init__(self, k: float, tol: float, name: str) -> None:
+        self.k = k
+        self.tol = tol
+        self.name = name
+        self._shapes: dict[tuple[int, tuple[bool, bool, float, float], bool], BaseGeometry] = {}
+        self._keep: list[Any] = []
+
+    def shape(self, ap: Any, xform: tuple[bool, bool, float, float], line: int | None,
+              solid: bool = False) -> BaseGeometry:
+        """The aperture's shape; ``solid``: without its hole (what a draw sweeps)."""
+        key = (id(ap), xform, solid)
+        got = self._shapes.get(key)
+        if got is None:
+            if isinstance(ap, StandardAperture):
+                if solid and ap.hole:
+                    n_solid = len(ap.params) - len(ap.hole)
+                    ap = StandardAperture(ap.shape, ap.params[:n_solid], ap.unit)
+                base = standard_shape(ap, self.k, self.tol)
+            elif isinstance(ap, MacroAperture):
+                try:
+                    base = macro_shape(ap, self.k, self.tol)
+                except (ValueError, IndexError, shapely.errors.GEOSException) as exc:
+                    raise InputError(self.name, line, f"cannot build macro aperture {ap.name}: {exc}",
+                                     "macro primitives with complete, valid parameters") from exc
+            else:
+                raise InputError(self.name, line, "object without a usable aperture", "a defined aperture")
+            got = transformed(base, xform)
+            self._shapes[key] = got
+            self._keep.append(ap)  # keep the aperture alive so its id stays unique
+        return got
+
+
+# --------------------------------------------------------------------------------------------
+# objects -> features
+# --------------------------------------------------------------------------------------------
+
+def _first(attrs: Any, key: str) -> str | None:
+    if not isinstance(attrs, dict):
+        return None
+    val = attrs.get(key)
+    if not val:
+        return None
+    first = val[0].strip()
+    return first or None
+
+
+def _aperture_function(attrs: Any) -> str | None:
+    if not attrs:
+        return None
+    d = dict(attrs) if not isinstance(attrs, dict) else attrs
+    val = d.get(".AperFunction")
+    return ",".join(val) if val else None
+
+
+def _translate_many(shapes: list[BaseGeometry], offsets: np.ndarray) -> np.ndarray:
+    """Copies of ``shapes[i]`` moved by ``offsets[i]``, in one vectorised call."""
+    arr = np.empty(len(shapes), dtype=object)
+    arr[:] = shapes
+    counts = shapely.get_num_coordinates(arr)
+    shift = np.repeat(offsets, counts, axis=0)
+    return shapely.transform(arr, lambda c: c + shift)
+
+
+def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float) -> list[Feature]:
+    """Every graphical object -> a Feature with its own exact geometry (mm), in file order."""
+    objects = parsed.gerber.objects
+    n = len(objects)
+    tol = arc_tolerance_mm
+    cache_by_unit: dict[Any, ShapeCache] = {}
+    geoms: list[BaseGeometry | None] = [None] * n
+    paths: list[BaseGeometry | None] = [None] * n
+    widths: list[float | None] = [None] * n
+
+    def cache_for(unit: Any) -> ShapeCache:
+        c = cache_by_unit.get(unit)
+        if c is None:
+            c = cache_by_unit[unit] = ShapeCache(MM_PER_INCH if unit == Inch else 1.0, tol, name)
+        return c
+
+    flash_idx: list[int] = []
+    flash_shapes: list[BaseGeometry] = []
+    flash_xy: list[tuple[float, float]] = []
+    # draws grouped by (aperture shape identity): index, x1, y1, x2, y2
+    draw_groups: dict[int, tuple[BaseGeometry, list[int], list[tuple[float, float, float, float]]]] = {}
+    region_idx: list[int] = []
+    region_coords: list[np.ndarray] = []
+
+    for i, obj in enumerate(objects):
+        t = type(obj)
+        d = obj.__dict__
+        line = d.get("_sc_line")
+        k = MM_PER_INCH if obj.unit == Inch else 1.0
+        if t is go.Flash:
+            shape = cache_for(obj.unit).shape(obj.aperture, d.get("_sc_xform", IDENTITY_XFORM), line)
+            flash_idx.append(i)
+            flash_shapes.append(shape)
+            flash_xy.append((obj.x * k, obj.y * k))
+        elif t is go.Line:
+            ap = obj.aperture
+            xform = d.get("_sc_xform", IDENTITY_XFORM)
+            if not isinstance(ap, StandardAperture):
+                raise InputError(name, line, "a line is drawn with a macro or block aperture",
+                                 "a circle or rectangle aperture for D01 draws (Gerber spec section 4.7)")
+            if ap.hole and any(ap.hole):
+                parsed.warnings.append(f"{name}:{line}: aperture D{ap.original_number} has a hole; "
+                                       "a draw sweeps the solid shape (the hole is ignored)")
+            shape = cache_for(obj.unit).shape(ap, xform, line, solid=True)
+            grp = draw_groups.get(id(shape))
+            if grp is None:
+                grp = draw_groups[id(shape)] = (shape, [], [])
+            grp[1].append(i)
+            grp[2].append((obj.x1 * k, obj.y1 * k, obj.x2 * k, obj.y2 * k))
+            scale = xform[3]
+            widths[i] = (ap.params[0] if ap.shape in "CP" else min(ap.params[0], ap.params[1])) * k * scale
+        elif t is go.Arc:
+            ap = obj.aperture
+            if not isinstance(ap, StandardAperture) or ap.shape != "C":
+                raise InputError(name, line, "an arc is drawn with a non-circular aperture",
+                                 "a circle aperture for circular interpolation (Gerber spec section 4.7.2)")
+            scale = d.get("_sc_xform", IDENTITY_XFORM)[3]
+            r = ap.params[0] * k * scale / 2
+            x1, y1, x2, y2 = obj.x1 * k, obj.y1 * k, obj.x2 * k, obj.y2 * k
+            cx, cy = x1 + obj.cx * k, y1 + obj.cy * k
+            pts = arc_points(x1, y1, x2, y2, cx, cy, obj.clockwise, tol, extra_radius=r)
+            path = shapely.linestrings(pts)
+            paths[i] = path
+            widths[i] = 2 * r
+            if r > 0:
+                geoms[i] = shapely.buffer(path, r, quad_segs=max(2, circle_segments(r, tol) // 4))
+            else:
+                geoms[i] = EMPTY
+        elif t is go.Region:
+            region_idx.append(i)
+            region_coords.append(_region_coords(obj, k, tol))
+        else:  # pragma: no cover - gerbonara makes only these four
+            raise InputError(name, line, f"unexpected object {t.__name__}", "flash, draw, arc or region")
+
+    if flash_idx:
+        moved = _translate_many(flash_shapes, np.array(flash_xy))
+        for j, i in enumerate(flash_idx):
+            geoms[i] = moved[j]
+
+    for shape, idx, seg in draw_groups.values():
+        seg_arr = np.array(seg)
+        if shape.is_empty:
+            hull = [EMPTY] * len(idx)
+        else:
+            v = np.asarray(shapely.get_coordinates(shapely.convex_hull(shape)))
+            p1 = seg_arr[:, None, 0:2] + v[None, :, :]
+            p2 = seg_arr[:, None, 2:4] + v[None, :, :]
+            pts = np.concatenate((p1, p2), axis=1)
+            hull = shapely.convex_hull(shapely.multipoints(pts))
+        lines = shapely.linestrings(seg_arr.reshape(-1, 2, 2))
+        for j, i in enumerate(idx):
+            geoms[i] = hull[j]
+            paths[i] = lines[j]
+
+    if region_idx:
+        sizes = np.array([len(c) for c in region_coords])
+        ok = sizes >= 4
+        polys = np.empty(len(region_idx), dtype=object)
+        polys[:] = EMPTY
+        if ok.any():
+            good = [c for c, o in zip(region_coords, ok) if o]
+            flat = np.concatenate(good)
+            ring_index = np.repeat(np.arange(len(good)), [len(c) for c in good])
+            rings = shapely.linearrings(flat, indices=ring_index)
+            made = shapely.polygons(rings)
+            bad = ~shapely.is_valid(made)
+            if bad.any():
+                made[bad] = [_fix_region(p) for p in made[bad]]
+            polys[ok] = made
+        for j, i in enumerate(region_idx):
+            geoms[i] = polys[j]
+
+    features: list[Feature] = []
+    for i, obj in enumerate(objects):
+        t = type(obj)
+        attrs = obj.attrs if isinstance(obj.attrs, dict) else {}
+        if t is go.Region:
+            kind: ObjectKind = "region"
+            aper = _aperture_function(obj.__dict__.get("_sc_aperture_attrs"))
+        else:
+            kind = "flash" if t is go.Flash else ("draw" if t is go.Line else "arc")
+            aper = _aperture_function(getattr(obj.aperture, "attrs", None))
+        pin_val = attrs.get(".P") if attrs else None
+        component = _first(attrs, ".C")
+        pin = None
+        if pin_val:
+            if component is None and pin_val[0].strip():
+                component = pin_val[0].strip()
+            if len(pin_val) > 1 and pin_val[1].strip():
+                pin = pin_val[1].strip()
+        polarity: Polarity = "dark" if obj.polarity_dark else "clear"
+        features.append(Feature(
+            geometry=geoms[i] if geoms[i] is not None else EMPTY,
+            polarity=polarity,
+            kind=kind,
+            source=SourceRef(name, obj.__dict__.get("_sc_line")),
+            aperture_function=aper,
+            net=_first(attrs, ".N"),
+            component=component,
+            pin=pin,
+            width_mm=widths[i],
+            path=paths[i],
+        ))
+    return features
+
+
+def _region_coords(region: go.Region, k: float, tol: float) -> np.ndarray:
+    outline = region.outline
+    arcs = region.arc_centers
+    if not outline:
+        return np.empty((0, 2))
+    if not arcs or all(a is None for a in arcs):
+        pts = np.asarray(outline, dtype=float) * k
+    else:
+        chunks: list[np.ndarray] = [np.asarray([outline[0]], dtype=float) * k]
+        for j in range(1, len(outline)):
+            arc = arcs[j - 1] if j - 1 < len(arcs) else None
+            if arc is not None and arc[0] is not None and arc[1][0] is not None:
+                (x1, y1), (x2, y2) = outline[j - 1], outline[j]
+                cx, cy = arc[1]
+                pts_arc = arc_points(x1 * k, y1 * k, x2 * k, y2 * k, cx * k, cy * k, arc[0], tol)
+                chunks.append(pts_arc[1:])
+            else:
+                chunks.append(np.asarray([outline[j]], dtype=float) * k)
+        pts = np.concatenate(chunks)
+    if len(pts) and (pts[0] != pts[-1]).any():
+        pts = np.vstack((pts, pts[:1]))
+    return pts
+
+
+def _fix_region(poly: BaseGeometry) -> BaseGeometry:
+    """A contour with cut-ins or self-touching points -> the area it encloses.
+
+    Gerber spec section 4.10.3: cut-ins (the contour running along itself to reach a hole) are
+    allowed; the enclosed area is what is dark.  GEOS's buffer(0) resolves such rings to the
+    polygon with its holes.
+    """
+    fixed = shapely.buffer(poly, 0)
+    if fixed.is_empty and not poly.is_empty:
+        fixed = shapely.make_valid(poly)
+    return fixed
+
+
+# --------------------------------------------------------------------------------------------
+# polarity and unions
+# --------------------------------------------------------------------------------------------
+
+def _union(geoms: list[BaseGeometry]) -> BaseGeometry:
+    if not geoms:
+        return EMPTY
+    if len(geoms) == 1:
+        return geoms[0]
+    return shapely.union_all(np.array(geoms, dtype=object))
+
+
+def _runs(features: list[Feature]) -> Iterable[tuple[Polarity, list[Feature]]]:
+    run: list[Feature] = []
+    pol: Polarity | None = None
+    for f in features:
+        if f.polarity != pol and run:
+            yield pol, run  # type: ignore[misc]
+            run = []
+        pol = f.polarity
+        run.append(f)
+    if run:
+        yield pol, run  # type: ignore[misc]
+
+
+def images_by_net(features: list[Feature]) -> dict[str | None, BaseGeometry]:
+    """Final dark image of each net (key None: objects without a net).
+
+    Polarity is applied in file order: a clear object cuts what came before it in every net's
+    image (Gerber spec section 4.9.2), so a clear object with a net still clears all nets.
+    Nets whose image ends empty are left out.
+    """
+    images: dict[str | None, BaseGeometry] = {}
+    for pol, run in _runs(features):
+        if pol == "dark":
+            groups: dict[str | None, list[BaseGeometry]] = defaultdict(list)
+            for f in run:
+                if not f.geometry.is_empty:
+                    groups[f.net].append(f.geometry)
+            for net, geoms in groups.items():
+                prev = images.get(net)
+                images[net] = _union(geoms if prev is None else [prev, *geoms])
+        else:
+            clear = _union([f.geometry for f in run if not f.geometry.is_empty])
+            if clear.is_empty or not images:
+                continue
+            keys = list(images)
+            arr = np.array([images[key] for key in keys], dtype=object)
+            hit = shapely.intersects(arr, clear)
+            if hit.any():
+                arr[hit] = shapely.difference(arr[hit], clear)
+            images = {key: g for key, g in zip(keys, arr) if not g.is_empty}
+    return {k: v for k, v in images.items() if not v.is_empty}
+
+
+def dark_from_nets(by_net: dict[str | None, BaseGeometry]) -> BaseGeometry:
+    """The whole layer's dark image from the per-net images (their union)."""
+    return _union([g for g in by_net.values() if not g.is_empty]) if by_net else GeometryCollection()
