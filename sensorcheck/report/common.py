@@ -1,0 +1,234 @@
+"""Helpers every report format shares: stable order, text for a place and a value, safe text.
+
+Nothing here knows a format's syntax; each format module escapes for its own syntax after using
+these. Everything is a pure function of a :class:`~sensorcheck.rules.finding.Result` list.
+"""
+
+from __future__ import annotations
+
+import os
+import unicodedata
+from collections.abc import Iterable, Sequence
+from pathlib import Path, PurePath
+from typing import Literal
+from urllib.parse import quote
+
+from sensorcheck.rules.finding import Finding, Location, Result, RuleInfo, SensorSummary, sort_key
+
+FormatName = Literal["text", "json", "sarif", "junit", "codequality", "github", "markdown", "html", "gerber"]
+FORMATS: tuple[FormatName, ...] = (
+    "text",
+    "json",
+    "sarif",
+    "junit",
+    "codequality",
+    "github",
+    "markdown",
+    "html",
+    "gerber",
+)
+TOOL_NAME = "sensorcheck"
+TOOL_URI = "https://pypi.org/project/sensorcheck/"
+
+#: Unicode bidirectional controls: they reorder what a reader sees, so text from a board never keeps them.
+_BIDI = frozenset("\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069\u200e\u200f\u061c")
+
+
+def ordered(findings: Iterable[Finding]) -> list[Finding]:
+    """Findings in the report order (``finding.sort_key``, the fingerprint breaking any tie)."""
+    return sorted(findings, key=lambda f: (*sort_key(f), f.fingerprint))
+
+
+def board_labels(results: Sequence[Result]) -> list[str]:
+    """One label per result, unique within the batch (a repeated board name gets ``#2``, ``#3``)."""
+    seen: dict[str, int] = {}
+    labels: list[str] = []
+    for r in results:
+        n = seen.get(r.board, 0) + 1
+        seen[r.board] = n
+        labels.append(r.board if n == 1 else f"{r.board}#{n}")
+    return labels
+
+
+def rule_catalogue(results: Sequence[Result]) -> dict[str, RuleInfo]:
+    """Rules of every result by id (first description wins), sorted by id."""
+    rules: dict[str, RuleInfo] = {}
+    for r in results:
+        for info in r.rules:
+            rules.setdefault(info.id, info)
+    return dict(sorted(rules.items()))
+
+
+def family_of(rule_id: str, rules: dict[str, RuleInfo]) -> str:
+    """The rule's family from the catalogue, else the part of its id before the first dot."""
+    info = rules.get(rule_id)
+    if info is not None and info.family:
+        return info.family
+    return rule_id.split(".", 1)[0] or rule_id
+
+
+def sensors_sorted(result: Result) -> list[SensorSummary]:
+    return sorted(result.sensors, key=lambda s: s.name)
+
+
+def safe_text(text: object) -> str:
+    """Text from a board or a user, made inert for any viewer: control and bidi characters shown.
+
+    Control characters (C0, DEL, C1, line breaks included) and bidirectional overrides become
+    visible escapes (``\\x1b``, ``\\n``, ``\\u202e``), so a net name can neither break a line-based
+    format nor hide or colour other text. Format-specific escaping (XML, Markdown, workflow
+    commands) is still done by each format on top of this.
+    """
+    s = str(text)
+    out: list[str] = []
+    for ch in s:
+        if ch == "\n":
+            out.append("\\n")
+        elif ch == "\r":
+            out.append("\\r")
+        elif ch == "\t":
+            out.append("\\t")
+        elif ch in _BIDI or unicodedata.category(ch) in ("Cc", "Cs"):
+            code = ord(ch)
+            out.append(f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}")
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def num(value: float | int | str | None) -> str:
+    """A number as a report prints it: up to 4 significant digits, no exponent for usual sizes."""
+    if value is None:
+        return "-"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, str):
+        return safe_text(value)
+    v = float(value)
+    if v != v or v in (float("inf"), float("-inf")):
+        return str(v)
+    if v == 0:
+        return "0"
+    if 1e-3 <= abs(v) < 1e6:
+        text = f"{v:.4g}"
+        if "e" in text:
+            text = f"{v:.4f}".rstrip("0").rstrip(".")
+        return text
+    return f"{v:.3e}"
+
+
+def xy_text(loc: Location) -> str | None:
+    """``(34.2, 18.75) mm`` when the place is known, else None."""
+    if loc.x_mm is None or loc.y_mm is None:
+        return None
+    return f"({loc.x_mm:.2f}, {loc.y_mm:.2f}) mm"
+
+
+def where_text(loc: Location) -> str:
+    """``top-copper at (34.20, 18.75) mm``, the parts that are known; ``board`` when none is."""
+    parts: list[str] = []
+    if loc.layer:
+        parts.append(safe_text(loc.layer))
+    xy = xy_text(loc)
+    if xy:
+        parts.append(("at " if parts else "") + xy)
+    return " ".join(parts) if parts else "board"
+
+
+def value_text(f: Finding) -> str | None:
+    """``measured 0.21 mm, limit 0.5 mm`` when the finding has a value."""
+    if f.value is None and f.limit is None:
+        return None
+    unit = f" {safe_text(f.unit)}" if f.unit else ""
+    parts = []
+    if f.value is not None:
+        parts.append(f"measured {num(f.value)}{unit}")
+    if f.limit is not None:
+        parts.append(f"limit {num(f.limit)}{unit}")
+    return ", ".join(parts)
+
+
+def full_message(f: Finding) -> str:
+    """The finding's message with its place (and sensor) appended, as one safe line.
+
+    Viewers that show only a message (code scanning, CI annotations) still tell where it is.
+    """
+    extra = [where_text(f.location)]
+    if f.sensor:
+        extra.append(f"sensor {safe_text(f.sensor)}")
+    return f"{safe_text(f.message)} [{'; '.join(extra)}]"
+
+
+def artifact_path(file: str | None) -> str | None:
+    """A source file as a forward-slash path, relative to the working folder when under it.
+
+    CI systems (code scanning, code quality) resolve paths against the repository root, which
+    is where a CI job runs; a path outside it stays absolute.
+    """
+    if not file:
+        return None
+    p = PurePath(file)
+    if p.is_absolute():
+        try:
+            rel = os.path.relpath(file, os.getcwd())
+        except ValueError:  # another drive on Windows
+            return Path(file).as_posix()
+        if not rel.startswith(".."):
+            return PurePath(rel).as_posix()
+        return Path(file).as_posix()
+    text = p.as_posix()
+    return text[2:] if text.startswith("./") else text
+
+
+def artifact_uri(path: str) -> str:
+    """A path as a URI reference (relative stays relative; absolute becomes ``file://``)."""
+    p = PurePath(path)
+    if p.is_absolute():
+        return Path(path).as_uri()
+    return quote(path, safe="/!$&'()*+,;=@-._~")
+
+
+def finding_path(f: Finding, result: Result) -> str:
+    """The file a CI system should attach the finding to: its source file, else the board source."""
+    return artifact_path(f.location.file) or artifact_path(result.source) or result.source or "."
+
+
+def counts(findings: Iterable[Finding]) -> dict[str, int]:
+    """Unwaived findings per severity, plus ``waived`` and ``internal`` (internal errors)."""
+    c = {"error": 0, "warning": 0, "note": 0, "waived": 0, "internal": 0}
+    for f in findings:
+        if f.waived:
+            c["waived"] += 1
+        elif f.kind == "internal-error":
+            c["internal"] += 1
+        else:
+            c[f.severity] += 1
+    return c
+
+
+def plural(n: int, word: str) -> str:
+    return f"{n} {word}" if n == 1 else f"{n} {word}s"
+
+
+def summary_line(findings: Iterable[Finding]) -> str:
+    c = counts(findings)
+    parts = [plural(c["error"], "error"), plural(c["warning"], "warning"), plural(c["note"], "note")]
+    parts.append(f"{c['waived']} waived")
+    if c["internal"]:
+        parts.append(plural(c["internal"], "internal error"))
+    return ", ".join(parts)
+
+
+def rule_ids_run(result: Result) -> list[str]:
+    """Rules that ran on this board: ``rules_run`` plus any rule a finding names, sorted."""
+    ids = dict.fromkeys(result.rules_run)
+    for f in result.findings:
+        ids.setdefault(f.rule_id, None)
+    return sorted(ids)
+
+
+def first_paragraph(doc: str) -> str:
+    """The first paragraph of a rule's docstring, on one line."""
+    text = doc.strip()
+    para = text.split("\n\n", 1)[0] if text else ""
+    return " ".join(para.split())

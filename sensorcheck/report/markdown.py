@@ -1,0 +1,172 @@
+"""Markdown review checklist (GitHub-flavoured): what a layout reviewer signs off, sensor by sensor.
+
+Per board: a summary line; per sensor its key numbers, the estimate with its model, the
+findings on it, and ``- [ ]`` items a reviewer must still confirm by eye or on the prototype
+(the sensor's own checklist and each finding's review text); then the rules with pass/fail,
+board-level findings, waived findings with their reasons, notes and the cautions.
+
+All text from the board or the config is escaped for CommonMark (backslash before ASCII
+punctuation that could start markup, line breaks flattened), so a net named ``<script>`` or
+``a|b`` stays plain text and never breaks a table. Suitable for ``$GITHUB_STEP_SUMMARY``.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable, Sequence
+
+from sensorcheck.report.common import (
+    board_labels,
+    counts,
+    num,
+    ordered,
+    rule_catalogue,
+    rule_ids_run,
+    safe_text,
+    sensors_sorted,
+    summary_line,
+    value_text,
+    where_text,
+)
+from sensorcheck.rules.finding import Finding, Result, RuleInfo, SensorSummary
+
+# CommonMark 0.31 section 2.4: any ASCII punctuation may be backslash-escaped. These can open
+# markup (emphasis, links, HTML, code, tables, strikethrough, math, entities, autolinks).
+_MD_SPECIAL = set("\\`*_{}[]<>#!|~&$")
+
+
+def md(text: object) -> str:
+    """Text as inert inline Markdown: one line, markup characters backslash-escaped."""
+    s = safe_text(text)
+    return "".join("\\" + ch if ch in _MD_SPECIAL else ch for ch in s)
+
+
+def _cell(text: object) -> str:
+    return md(text) if str(text) else " "
+
+
+def _table(header: Sequence[str], rows: Iterable[Sequence[str]]) -> list[str]:
+    out = ["| " + " | ".join(header) + " |", "|" + "|".join("---" for _ in header) + "|"]
+    out += ["| " + " | ".join(row) + " |" for row in rows]
+    return out
+
+
+def _finding_row(f: Finding) -> list[str]:
+    return [
+        md(f.rule_id),
+        "internal error" if f.kind == "internal-error" else f.severity,
+        md(f.message),
+        md(value_text(f) or ""),
+        md(where_text(f.location)),
+        f"`{f.fingerprint}`" if _PLAIN_ID.fullmatch(f.fingerprint) else md(f.fingerprint),
+    ]
+
+
+_PLAIN_ID = re.compile(r"[0-9A-Za-z._-]+")
+_FINDING_HEAD = ["Rule", "Severity", "Finding", "Measured / limit", "Where", "Fingerprint"]
+
+
+def _estimate_lines(estimate: dict[str, object] | None) -> list[str]:
+    if not estimate:
+        return []
+    model = estimate.get("model") or estimate.get("model_label") or "model not named"
+    scalars = [(k, v) for k, v in sorted(estimate.items()) if k not in ("model", "model_label") and isinstance(v, (int, float, str)) and not isinstance(v, bool)]
+    text = ", ".join(f"{md(k)} = {md(num(v))}" for k, v in scalars)
+    return [f"Estimate (field solver, {md(model)}; an estimate, not a measurement): {text or 'no scalar values'}", ""]
+
+
+def _sensor_section(s: SensorSummary, findings: list[Finding]) -> list[str]:
+    out = [f"### Sensor {md(s.name)} ({md(s.kind)}{', ' + md(s.layer) if s.layer else ''})", ""]
+    if s.nets:
+        out += ["Nets: " + ", ".join(md(n) for n in s.nets), ""]
+    if s.values:
+        out += _table(["Quantity", "Value"], ([md(k), md(num(v))] for k, v in sorted(s.values.items())))
+        out.append("")
+    out += _estimate_lines(s.estimate)
+    mine = [f for f in findings if not f.waived]
+    if mine:
+        out += _table(_FINDING_HEAD, (_finding_row(f) for f in mine))
+    else:
+        out.append("No open findings on this sensor.")
+    out.append("")
+    items = list(dict.fromkeys([*s.checklist, *(f.review for f in findings if f.review)]))
+    out.append("Reviewer checks:")
+    out.append("")
+    out += [f"- [ ] {md(item)}" for item in items] or ["- [ ] Nothing specific listed: confirm the layout by eye."]
+    out.append("")
+    return out
+
+
+def _rule_status(rule_id: str, findings: list[Finding]) -> str:
+    mine = [f for f in findings if f.rule_id == rule_id]
+    if not mine:
+        return "pass"
+    c = counts(mine)
+    parts = []
+    if c["internal"]:
+        parts.append("did not run (internal error)")
+    for key in ("error", "warning", "note"):
+        if c[key]:
+            parts.append(f"{c[key]} {key}{'s' if c[key] > 1 else ''}")
+    if c["waived"]:
+        parts.append(f"{c['waived']} waived")
+    verdict = "fail" if c["error"] or c["internal"] else ("waived" if not (c["warning"] or c["note"]) else "pass with remarks")
+    return f"{verdict}: {', '.join(parts)}"
+
+
+def _board_section(result: Result, label: str, catalogue: dict[str, RuleInfo]) -> list[str]:
+    findings = ordered(result.findings)
+    out = [f"## Board {md(label)}", ""]
+    out.append(f"Source: {md(result.source)}  ")
+    out.append(f"Config: {md(result.config_file) if result.config_file else 'none found, defaults applied'}  ")
+    out.append(f"sensorcheck {md(result.tool_version)}{'  ' if result.timestamp else ''}")
+    if result.timestamp:
+        out.append(f"Checked: {md(result.timestamp)}")
+    out += ["", f"**Summary:** {summary_line(findings)}", ""]
+    for s in sensors_sorted(result):
+        out += _sensor_section(s, [f for f in findings if f.sensor == s.name])
+    names = {s.name for s in result.sensors}
+    loose = [f for f in findings if not f.waived and f.sensor not in names]
+    if loose:
+        out += ["### Findings not tied to a sensor", ""]
+        out += _table(_FINDING_HEAD, (_finding_row(f) for f in loose))
+        reviews = list(dict.fromkeys(f.review for f in loose if f.review))
+        if reviews:
+            out += ["", "Reviewer checks:", ""] + [f"- [ ] {md(r)}" for r in reviews]
+        out.append("")
+    out += ["### Rules", ""]
+    out += _table(
+        ["Rule", "Title", "Result"],
+        ([md(rid), md(catalogue[rid].title) if rid in catalogue else " ", md(_rule_status(rid, findings))] for rid in rule_ids_run(result)),
+    )
+    out.append("")
+    waived = [f for f in findings if f.waived]
+    if waived:
+        out += ["### Waived findings", ""]
+        rows = []
+        for f in waived:
+            w = f.waived_by
+            assert w is not None
+            rows.append([md(f.rule_id), md(f.message), md(w.reason), md(w.expires or "no expiry"), md(where_text(f.location))])
+        out += _table(["Rule", "Finding", "Reason", "Expires", "Where"], rows)
+        out.append("")
+    if result.notes:
+        out += ["### Notes", ""] + [f"- {md(n)}" for n in result.notes] + [""]
+    return out
+
+
+def render(results: Sequence[Result]) -> str:
+    """The checklist for a batch of results, ending in one newline."""
+    catalogue = rule_catalogue(results)
+    multi = len(results) > 1
+    out = ["# sensorcheck review checklist", ""]
+    if multi:
+        out += [f"{len(results)} boards. " + summary_line(f for r in results for f in r.findings), ""]
+    for result, label in zip(results, board_labels(results), strict=True):
+        out += _board_section(result, label, catalogue)
+    cautions = list(dict.fromkeys(c for r in results for c in r.cautions))
+    if cautions:
+        out += ["## Before you rely on this", ""] + [f"- {md(c)}" for c in cautions] + [""]
+    while out and out[-1] == "":
+        out.pop()
+    return "\n".join(out) + "\n"
