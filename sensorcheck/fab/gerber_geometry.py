@@ -50,11 +50,15 @@ EMPTY = Polygon()
 # --------------------------------------------------------------------------------------------
 
 def circle_segments(radius_mm: float, tolerance_mm: float) -> int:
-    """Segments of a full circle so that the sagitta of each chord is <= tolerance."""
+    """Segments of a full circle so that the sagitta of each chord is <= tolerance.
+
+    A multiple of 4, so that a circle keeps its exact extent along both axes.
+    """
     if radius_mm <= tolerance_mm:
         return 8
     half_angle = math.acos(1.0 - tolerance_mm / radius_mm)
-    return max(8, math.ceil(math.pi / half_angle))
+    n = max(8, math.ceil(math.pi / half_angle))
+    return n + (-n) % 4
 
 
 def circle_coords(cx: float, cy: float, r: float, tol: float) -> np.ndarray:
