@@ -117,6 +117,8 @@ def _c(v: float) -> str:
 def _unit_of(key: str) -> tuple[str, str]:
     """``gap_tx_rx_mm`` -> (``gap tx rx``, ``mm``)."""
     low = key.lower()
+    if low in ("percent_change", "percent", "fill_percent"):
+        return key.replace("_", " "), "%"
     for suffix, unit in _UNIT_SUFFIXES:
         if low.endswith(suffix) and len(low) > len(suffix):
             return key[: -len(suffix)].replace("_", " "), unit
