@@ -1,0 +1,283 @@
+"""Small pure helpers the rule families share: copper per net and layer, distances, locations."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Sequence
+from typing import Any
+
+import shapely
+from shapely.geometry import LineString, MultiLineString, Point
+from shapely.geometry.base import BaseGeometry
+
+from sensorcheck.board.model import Board, Feature, Hole, Layer
+from sensorcheck.design.model import Design, Electrode, Sensor
+from sensorcheck.errors import ConfigError
+from sensorcheck.rules.finding import Finding, Location, Severity
+
+SELF_KINDS = frozenset({"self-button", "slider", "wheel", "proximity"})
+#: nets with these roles are not "foreign" copper near a sensor
+REFERENCE_ROLES = frozenset({"ground", "shield", "guard"})
+
+EMPTY = shapely.Polygon()
+
+
+def fmt(v: float, digits: int = 2) -> str:
+    return f"{v:.{digits}f}"
+
+
+def union(geoms: Iterable[BaseGeometry | None]) -> BaseGeometry:
+    parts = [g for g in geoms if g is not None and not g.is_empty]
+    if not parts:
+        return EMPTY
+    if len(parts) == 1:
+        return parts[0]
+    return shapely.union_all(parts)
+
+
+def location(layer: str | None, geom: BaseGeometry | None = None, *, point: tuple[float, float] | None = None,
+             source: Any = None) -> Location:
+    """A Location for a geometry (a point on it and its box) with the source file/line if known."""
+    x = y = None
+    box = None
+    if geom is not None and not geom.is_empty:
+        p = geom.representative_point() if point is None else Point(point)
+        x, y = round(p.x, 4), round(p.y, 4)
+        b = geom.bounds
+        box = (round(b[0], 4), round(b[1], 4), round(b[2], 4), round(b[3], 4))
+    elif point is not None:
+        x, y = round(point[0], 4), round(point[1], 4)
+    file = getattr(source, "file", None)
+    line = getattr(source, "line", None)
+    return Location(layer=layer, x_mm=x, y_mm=y, box_mm=box, file=file, line=line)
+
+
+def finding(severity: Severity, message: str, *, value: float | None = None, limit: float | None = None,
+            unit: str | None = None, layer: str | None = None, geom: BaseGeometry | None = None,
+            point: tuple[float, float] | None = None, nets: Sequence[str] = (), sensor: str | None = None,
+            source: Any = None, related: list[Location] | None = None, review: str | None = None) -> Finding:
+    """Build a finding (rule_id is filled by the engine)."""
+    return Finding(
+        rule_id="",
+        severity=severity,
+        message=message,
+        value=None if value is None else round(float(value), 6),
+        limit=None if limit is None else round(float(limit), 6),
+        unit=unit,
+        location=location(layer, geom, point=point, source=source),
+        related=related or [],
+        nets=tuple(sorted(dict.fromkeys(nets))),
+        sensor=sensor,
+        review=review,
+    )
+
+
+def copper(board: Board, layer: str) -> Layer | None:
+    lay = board.layer(layer)
+    return lay if lay is not None and lay.function == "copper" else None
+
+
+def net_copper(board: Board, layer: str, nets: Iterable[str]) -> BaseGeometry:
+    lay = copper(board, layer)
+    if lay is None:
+        return EMPTY
+    return union(lay.by_net.get(n) for n in nets)
+
+
+def role(design: Design, net: str) -> str | None:
+    r = design.roles.get(net)
+    return r[0] if r else None
+
+
+def aggressor_kind(design: Design, net: str) -> str | None:
+    r = design.roles.get(net)
+    return (r[1] or "other") if r and r[0] == "aggressor" else None
+
+
+def ground_copper(design: Design, layer: str) -> BaseGeometry:
+    return net_copper(design.board, layer, design.ground_nets())
+
+
+def sensing_nets(design: Design) -> set[str]:
+    return {n for s in design.sensors for n in s.nets}
+
+
+def foreign_nets(design: Design, layer: str, own: Iterable[str]) -> list[str]:
+    """Nets on ``layer`` that are not ``own`` and not ground/shield/guard."""
+    lay = copper(design.board, layer)
+    if lay is None:
+        return []
+    own_set = set(own)
+    return sorted(n for n in lay.by_net if n not in own_set and role(design, n) not in REFERENCE_ROLES)
+
+
+def is_floating_id(net: str) -> bool:
+    """Copper no net could be found for carries an id like ``~n<hash>`` (board/model.py)."""
+    return net.startswith("~")
+
+
+def overlay_thickness_mm(design: Design) -> float:
+    ov = design.config.overlay
+    if ov is None:
+        from sensorcheck.rules.engine import HOW_TO_GIVE, MissingInput
+
+        raise MissingInput(*HOW_TO_GIVE["overlay"])
+    return ov.thickness_mm
+
+
+def contact_diameter_mm(design: Design, default_mm: float) -> float:
+    f = design.config.finger
+    return f.contact_diameter_mm if f is not None else default_mm
+
+
+def touch_layer(design: Design) -> str:
+    face = design.config.overlay.face if design.config.overlay is not None else "top"
+    if face == "top":
+        return "top-copper"
+    return "bottom-copper"
+
+
+def layer_separation(board: Board, a: str, b: str, default_epsilon_r: float) -> tuple[float, float] | None:
+    """Distance (mm) and effective permittivity between copper layers ``a`` and ``b`` from the stackup.
+
+    Copper thicknesses between them are skipped; dielectrics in series.  None if unknown.
+    """
+    st = board.stackup
+    if st is None or a == b:
+        return None
+    names = [lay.copper_layer for lay in st.layers]
+    if a not in names or b not in names:
+        return None
+    ia, ib = sorted((names.index(a), names.index(b)))
+    diel = [(lay.thickness_mm, lay.epsilon_r or default_epsilon_r) for lay in st.layers[ia + 1 : ib]
+            if lay.kind == "dielectric" and lay.thickness_mm > 0]
+    if not diel:
+        return None
+    from sensorcheck.physics.parasitics import series_epsilon_r
+
+    return sum(t for t, _ in diel), series_epsilon_r(diel)
+
+
+def net_features(board: Board, layer: str, nets: Iterable[str]) -> list[Feature]:
+    lay = board.layer(layer)
+    if lay is None:
+        return []
+    ns = set(nets)
+    return [f for f in lay.features if f.net in ns and f.polarity == "dark"]
+
+
+def paths(features: Iterable[Feature]) -> BaseGeometry:
+    """Centre lines of draws and arcs."""
+    lines = []
+    for f in features:
+        if f.path is None or f.path.is_empty:
+            continue
+        if isinstance(f.path, MultiLineString):
+            lines.extend(f.path.geoms)
+        elif isinstance(f.path, LineString):
+            lines.append(f.path)
+    if not lines:
+        return shapely.MultiLineString()
+    return shapely.MultiLineString(lines)
+
+
+def source_near(features: Sequence[Feature], geom: BaseGeometry) -> Any:
+    """The source (file, line) of the feature nearest to ``geom`` (None if there are none)."""
+    if not features or geom is None or geom.is_empty:
+        return None
+    best = min(features, key=lambda f: f.geometry.distance(geom))
+    return best.source
+
+
+def trace_features(board: Board, electrode: Electrode) -> dict[str, list[Feature]]:
+    """Draw/arc features of an electrode's net outside its electrode copper, per layer."""
+    out: dict[str, list[Feature]] = {}
+    for lay in board.copper_layers():
+        feats = [f for f in net_features(board, lay.name, [electrode.net]) if f.path is not None]
+        if lay.name == electrode.layer:
+            shrunk = electrode.geometry.buffer(-1e-3)
+            feats = [f for f in feats if not shrunk.contains(f.path)]
+        if feats:
+            out[lay.name] = feats
+    return out
+
+
+def trace_geometry(electrode: Electrode) -> dict[str, BaseGeometry]:
+    """The electrode's trace copper per layer, without the electrode itself."""
+    out: dict[str, BaseGeometry] = {}
+    for layer, geom in electrode.trace.items():
+        g = geom.difference(electrode.geometry) if layer == electrode.layer else geom
+        if not g.is_empty and g.area > 1e-6:
+            out[layer] = g
+    return out
+
+
+def hole_net(design: Design, hole: Hole) -> str | None:
+    """The hole's net: from the drill file, else the copper it lands on (any copper layer)."""
+    if hole.net:
+        return hole.net
+    p = Point(hole.x_mm, hole.y_mm)
+    for lay in design.board.copper_layers():
+        for net, geom in lay.by_net.items():
+            if geom.intersects(p):
+                return net
+    return None
+
+
+def is_via(hole: Hole, max_via_diameter_mm: float) -> bool:
+    if hole.function is not None:
+        return hole.function == "via"
+    return bool(hole.plated is not False and hole.diameter_mm <= max_via_diameter_mm)
+
+
+def min_inscribed_width_mm(geom: BaseGeometry, tol_mm: float = 0.02) -> float:
+    """Width of the widest disc that fits (2 x largest inscribed radius), by bisection on buffer(-r)."""
+    if geom.is_empty:
+        return 0.0
+    lo, hi = 0.0, math.sqrt(geom.area)
+    while hi - lo > tol_mm:
+        mid = 0.5 * (lo + hi)
+        if geom.buffer(-mid).is_empty:
+            hi = mid
+        else:
+            lo = mid
+    return 2.0 * lo
+
+
+def nearest_points(a: BaseGeometry, b: BaseGeometry) -> tuple[tuple[float, float], tuple[float, float]]:
+    pa, pb = shapely.ops.nearest_points(a, b)
+    return (pa.x, pa.y), (pb.x, pb.y)
+
+
+def midpoint(a: tuple[float, float], b: tuple[float, float]) -> tuple[float, float]:
+    return ((a[0] + b[0]) / 2.0, (a[1] + b[1]) / 2.0)
+
+
+def require_positive(rule_id: str, name: str, value: float) -> float:
+    if value <= 0:
+        raise ConfigError(None, f'rules."{rule_id}".{name}', f"must be > 0, got {value}")
+    return value
+
+
+def sensor_of_net(design: Design) -> dict[str, Sensor]:
+    out: dict[str, Sensor] = {}
+    for s in design.sensors:
+        for n in s.nets:
+            out.setdefault(n, s)
+    return out
+
+
+def estimate_ok(est: Any, min_delta_pf: float, min_percent_self: float, min_percent_mutual: float) -> tuple[bool, str]:
+    """Does the estimated touch signal clear its floors?  Returns (ok, text citing the estimate)."""
+    floor_pct = min_percent_mutual if est.kind == "mutual" else min_percent_self
+    delta = abs(est.touch_delta_pf)
+    pct = abs(est.percent_change)
+    turned = est.turning_point_mm is not None and est.turning_point_mm > 0
+    ok = delta >= min_delta_pf and pct >= floor_pct and not turned
+    text = (
+        f"field-solver estimate: touch delta {est.touch_delta_pf:+.3f} pF ({est.percent_change:+.1f} %), "
+        f"floors {min_delta_pf:.2f} pF and {floor_pct:.1f} %"
+    )
+    if turned:
+        text += f", signal turns around {est.turning_point_mm:.2f} mm above the overlay"
+    return ok, text

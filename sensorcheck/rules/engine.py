@@ -1,0 +1,605 @@
+"""The rule engine: the registry, parameters and profiles, waivers, and running the rules.
+
+A rule is a small class (see :class:`Rule`) declared in its family module beside its check:
+
+* ``id``: a readable, stable id of our own, ``<family>.<kebab-name>``;
+* ``title`` and a docstring with the same headings for every rule (:data:`DOC_HEADINGS`);
+* ``params``: typed parameters, units in their names, each default with its source class;
+* ``default_severity``; ``needs``: the inputs it cannot work without;
+* ``check(design, estimates, params) -> Iterable[Finding]``.
+
+The engine applies, in this order: rule defaults < rule profile (``rules/<profile>.toml`` or a
+path) < the config's ``[rules."<id>"]`` tables.  A severity of ``"off"`` disables a rule.  A rule
+whose inputs are missing yields ONE note saying what is missing and how to give it.  A rule that
+raises becomes an internal-error finding; the other rules still run.  Waivers are applied last.
+
+The registry is an immutable tuple of rule classes collected from the family modules: no
+global mutable state.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import fnmatch
+import json
+import tomllib
+import traceback
+from collections.abc import Callable, Iterable, Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, ClassVar, Literal
+
+from sensorcheck.errors import ConfigError
+from sensorcheck.rules.finding import (
+    Finding,
+    Location,
+    RuleInfo,
+    Severity,
+    SourceClass,
+    Waiver,
+    assign_fingerprints,
+    fingerprint_for,
+    sort_key,
+)
+
+Need = Literal["overlay", "sensors", "roles", "stackup", "outline", "max_parasitic_pf", "estimates"]
+SeverityOrOff = Literal["error", "warning", "note", "off"]
+Progress = Callable[[str], None]
+
+#: every rule docstring has exactly these headings, in this order
+DOC_HEADINGS: tuple[str, ...] = (
+    "What it checks",
+    "Why it matters",
+    "Known limitations",
+    "Example",
+    "Fix",
+    "Parameters",
+    "References",
+)
+
+#: how to give each missing input (the text of the one note a rule yields when it lacks it)
+HOW_TO_GIVE: dict[str, tuple[str, str]] = {
+    "overlay": (
+        "no overlay (cover plate) was given",
+        "add [[overlay.layers]] with material or epsilon_r and thickness_mm to sensorcheck.toml",
+    ),
+    "sensors": (
+        "no sensors were found",
+        "name the sensing nets in [roles] (transmitter, receiver, self) or list [[sensors]] groups",
+    ),
+    "roles": (
+        "no net roles were given",
+        "add [roles] patterns (transmitter, receiver, self, ground, aggressor) to sensorcheck.toml",
+    ),
+    "stackup": (
+        "no stackup is known (no job file)",
+        "add [stackup] with board_thickness_mm and [[stackup.layers]] to sensorcheck.toml",
+    ),
+    "outline": (
+        "no board outline was read",
+        "include the outline (profile) Gerber in the fabrication outputs",
+    ),
+    "max_parasitic_pf": (
+        "the controller's parasitic capacitance limit was not given",
+        "add [controller] max_parasitic_pf = <pF from the controller datasheet> to sensorcheck.toml",
+    ),
+    "estimates": (
+        "no field-solver estimates are available",
+        "run the check with estimates enabled ([estimate] enabled = true, no --no-estimate)",
+    ),
+}
+
+
+@dataclass(frozen=True, slots=True)
+class Param:
+    """A rule parameter: default value, unit, and the source class of the default."""
+
+    default: float | int | bool | str
+    unit: str
+    source: SourceClass
+    doc: str
+
+    @property
+    def type(self) -> type:
+        return type(self.default)
+
+
+class MissingInput(Exception):
+    """Raised by a check that finds, while running, that an input it needs is missing.
+
+    The engine turns it into one note finding for the rule (what is missing, how to give it).
+    """
+
+    def __init__(self, what: str, how: str) -> None:
+        self.what = what
+        self.how = how
+        super().__init__(f"{what}: {how}")
+
+
+class Rule:
+    """Base of every rule.  Subclasses set the class attributes and implement :meth:`check`."""
+
+    id: ClassVar[str]
+    title: ClassVar[str]
+    default_severity: ClassVar[Severity]
+    params: ClassVar[dict[str, Param]] = {}
+    needs: ClassVar[tuple[Need, ...]] = ()
+    #: rules the engine itself emits (waiver notes); they have no check of their own
+    engine_only: ClassVar[bool] = False
+
+    @classmethod
+    def family(cls) -> str:
+        return cls.id.split(".", 1)[0]
+
+    def check(self, design: Any, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        raise NotImplementedError
+
+
+def rule_doc(cls: type[Rule]) -> str:
+    """The rule's docstring, dedented."""
+    import inspect
+
+    return inspect.cleandoc(cls.__doc__ or "")
+
+
+def doc_sections(cls: type[Rule]) -> dict[str, str]:
+    """Split a rule docstring into its headings (``Heading:`` lines) -> text."""
+    out: dict[str, str] = {}
+    current: str | None = None
+    lines: list[str] = []
+    for line in rule_doc(cls).splitlines():
+        stripped = line.strip()
+        head = stripped[:-1] if stripped.endswith(":") else None
+        if head in DOC_HEADINGS:
+            if current is not None:
+                out[current] = "\n".join(lines).strip()
+            current, lines = head, []
+        elif current is not None:
+            lines.append(line)
+    if current is not None:
+        out[current] = "\n".join(lines).strip()
+    return out
+
+
+# --------------------------------------------------------------------------- registry
+
+
+class WaiverExpired(Rule):
+    """A waiver in the config has passed its expiry date.
+
+    What it checks:
+        Each waiver with an ``expires`` date before today.
+    Why it matters:
+        A waiver records a decision a person took for a reason; an expired one must be looked at
+        again, so it stops waiving and the findings it covered come back.
+    Known limitations:
+        "Today" is the date of the machine running the check (or the config's date for tests).
+    Example:
+        ``expires = 2025-01-31`` checked on 2025-02-01.
+    Fix:
+        Renew the waiver with a new date and reason, or fix the layout and remove the waiver.
+    Parameters:
+        None.
+    References:
+        Our own policy.
+    """
+
+    id = "waiver.expired"
+    title = "Expired waiver"
+    default_severity = "note"
+    engine_only = True
+
+
+class WaiverUnused(Rule):
+    """A waiver in the config matched no finding.
+
+    What it checks:
+        Each waiver that is not expired and matched no finding of its rule in this run.
+    Why it matters:
+        A stale waiver hides nothing today but may hide a new problem tomorrow at the same place;
+        a mistyped rule id or net name waives nothing at all.
+    Known limitations:
+        A waiver for a rule that is switched off in the profile also matches nothing.
+    Example:
+        ``rule = "gap.tx-rx-vs-overlay", sensor = "K9"`` when K9 has no such finding.
+    Fix:
+        Remove the waiver, or correct its rule id and place.
+    Parameters:
+        None.
+    References:
+        Our own policy.
+    """
+
+    id = "waiver.unused"
+    title = "Waiver matched nothing"
+    default_severity = "note"
+    engine_only = True
+
+
+def _family_modules() -> tuple[Any, ...]:
+    from sensorcheck.rules import area, electrode, fab, gap, hatch, routing, signal, trace
+
+    return (gap, area, hatch, routing, trace, electrode, fab, signal)
+
+
+def registry() -> dict[str, type[Rule]]:
+    """Every rule class by id, in catalogue order (families, then declaration order)."""
+    out: dict[str, type[Rule]] = {}
+    for mod in _family_modules():
+        for cls in mod.RULES:
+            if cls.id in out:
+                raise RuntimeError(f"duplicate rule id {cls.id}")
+            out[cls.id] = cls
+    out[WaiverExpired.id] = WaiverExpired
+    out[WaiverUnused.id] = WaiverUnused
+    return out
+
+
+def known_rules() -> dict[str, dict[str, type]]:
+    """Rule id -> parameter name -> type, for config validation (``[rules."<id>"]`` tables)."""
+    return {rid: {name: p.type for name, p in cls.params.items()} for rid, cls in registry().items()}
+
+
+def catalogue() -> list[RuleInfo]:
+    """The catalogue entries of every rule (what SARIF, JUnit and the docs print)."""
+    return [
+        RuleInfo(
+            id=cls.id,
+            title=cls.title,
+            family=cls.family(),
+            default_severity=cls.default_severity,
+            doc=rule_doc(cls),
+            parameters={name: (p.default, p.unit, p.source) for name, p in cls.params.items()},
+        )
+        for cls in registry().values()
+    ]
+
+
+# --------------------------------------------------------------------------- parameters and profiles
+
+
+def _coerce(rule_id: str, name: str, value: Any, want: type, file: str | None, where: str) -> Any:
+    key = f"{where}.{name}"
+    if want is float and isinstance(value, int) and not isinstance(value, bool):
+        return float(value)
+    if want is bool and not isinstance(value, bool):
+        raise ConfigError(file, key, f"expected true or false, got {value!r}")
+    if want in (int, float) and (isinstance(value, bool) or not isinstance(value, want)):
+        raise ConfigError(file, key, f"expected a {want.__name__}, got {value!r}")
+    if want is str and not isinstance(value, str):
+        raise ConfigError(file, key, f"expected a string, got {value!r}")
+    if want in (int, float) and value < 0:
+        raise ConfigError(file, key, f"expected a value >= 0, got {value!r}")
+    return value
+
+
+def validate_rule_table(rule_id: str, table: Mapping[str, Any], file: str | None, where: str) -> tuple[str | None, dict[str, Any]]:
+    """Check one ``[rules."<id>"]`` table; return (severity or None, params).  Raises ConfigError."""
+    reg = registry()
+    if rule_id not in reg:
+        close = difflib_close(rule_id, list(reg))
+        hint = f" (did you mean {close}?)" if close else ""
+        raise ConfigError(file, where, f"unknown rule id {rule_id!r}{hint}; `sensorcheck rules` lists them")
+    cls = reg[rule_id]
+    severity: str | None = None
+    params: dict[str, Any] = {}
+    for name, value in table.items():
+        if name == "severity":
+            if value not in ("error", "warning", "note", "off"):
+                raise ConfigError(file, f"{where}.severity", f"expected error, warning, note or off, got {value!r}")
+            severity = value
+            continue
+        if name not in cls.params:
+            known = ", ".join(sorted(cls.params)) or "none"
+            raise ConfigError(file, f"{where}.{name}", f"unknown parameter for {rule_id} (known: {known})")
+        params[name] = _coerce(rule_id, name, value, cls.params[name].type, file, where)
+    return severity, params
+
+
+def difflib_close(word: str, options: list[str]) -> str | None:
+    import difflib
+
+    m = difflib.get_close_matches(word, options, n=1)
+    return m[0] if m else None
+
+
+def profiles_dir() -> Path:
+    """Where the shipped profiles live: ``<repo>/rules`` in a checkout, ``sensorcheck/profiles`` when installed."""
+    here = Path(__file__).resolve()
+    for cand in (here.parents[2] / "rules", here.parents[1] / "profiles"):
+        if (cand / "default.toml").is_file():
+            return cand
+    return here.parents[2] / "rules"
+
+
+def shipped_profiles() -> list[str]:
+    return sorted(p.stem for p in profiles_dir().glob("*.toml"))
+
+
+def load_profile(name_or_path: str, base_dir: Path | None = None) -> dict[str, tuple[str | None, dict[str, Any]]]:
+    """Read a rule profile: rule id -> (severity or None, params).  Raises ConfigError on any problem."""
+    is_path = name_or_path.endswith(".toml") or "/" in name_or_path or "\\" in name_or_path
+    if is_path:
+        path = Path(name_or_path)
+        if not path.is_absolute() and base_dir is not None:
+            path = base_dir / path
+    else:
+        path = profiles_dir() / f"{name_or_path}.toml"
+    if not path.is_file():
+        shipped = ", ".join(shipped_profiles()) or "none found"
+        raise ConfigError(None, "profile", f"rule profile {name_or_path!r} not found at {path} (shipped: {shipped})")
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except tomllib.TOMLDecodeError as exc:
+        raise ConfigError(str(path), None, f"not valid TOML: {exc}") from None
+    unknown = set(data) - {"rules", "description"}
+    if unknown:
+        raise ConfigError(str(path), sorted(unknown)[0], "unknown key in a rule profile (expected description, rules)")
+    rules = data.get("rules", {})
+    if not isinstance(rules, dict):
+        raise ConfigError(str(path), "rules", "expected a table of rule tables")
+    out: dict[str, tuple[str | None, dict[str, Any]]] = {}
+    for rid, table in rules.items():
+        if not isinstance(table, dict):
+            raise ConfigError(str(path), f'rules."{rid}"', "expected a table")
+        out[rid] = validate_rule_table(rid, table, str(path), f'rules."{rid}"')
+    return out
+
+
+def effective_settings(config: Any) -> dict[str, tuple[SeverityOrOff, dict[str, Any]]]:
+    """Rule id -> (severity or "off", full params) after defaults < profile < config."""
+    base_dir = Path(config.file).parent if getattr(config, "file", None) else None
+    profile = load_profile(config.profile or "default", base_dir)
+    out: dict[str, tuple[SeverityOrOff, dict[str, Any]]] = {}
+    for rid, cls in registry().items():
+        severity: SeverityOrOff = cls.default_severity
+        params = {name: p.default for name, p in cls.params.items()}
+        if rid in profile:
+            sev, prm = profile[rid]
+            severity = sev or severity  # type: ignore[assignment]
+            params.update(prm)
+        cfg_params = config.rule_params(rid)
+        for name, value in cfg_params.items():
+            if name not in cls.params:
+                raise ConfigError(config.file, f'rules."{rid}".{name}', f"unknown parameter for {rid}")
+            params[name] = _coerce(rid, name, value, cls.params[name].type, config.file, f'rules."{rid}"')
+        if rid in config.severities:
+            severity = config.severities[rid]  # type: ignore[assignment]
+        out[rid] = (severity, params)
+    for rid in list(config.thresholds) + list(config.severities):
+        if rid not in out:
+            raise ConfigError(config.file, f'rules."{rid}"', "unknown rule id; `sensorcheck rules` lists them")
+    return out
+
+
+# --------------------------------------------------------------------------- running
+
+
+@dataclass(slots=True)
+class RuleRun:
+    """What one run of the rules produced."""
+
+    findings: list[Finding] = field(default_factory=list)
+    rules_run: list[str] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+
+def _missing_needs(cls: type[Rule], design: Any, estimates: Mapping[str, Any] | None) -> list[str]:
+    missing: list[str] = []
+    config = design.config
+    for need in cls.needs:
+        if need == "overlay" and config.overlay is None:
+            missing.append(need)
+        elif need == "sensors" and not design.sensors:
+            missing.append(need)
+        elif need == "roles" and not design.roles:
+            missing.append(need)
+        elif need == "stackup" and design.board.stackup is None:
+            missing.append(need)
+        elif need == "outline" and design.board.outline is None:
+            missing.append(need)
+        elif need == "max_parasitic_pf" and not config.controller.get("max_parasitic_pf"):
+            missing.append(need)
+        elif need == "estimates" and estimates is None:
+            missing.append(need)
+    return missing
+
+
+def _missing_note(rule_id: str, what: list[tuple[str, str]]) -> Finding:
+    parts = "; ".join(f"{w}: {h}" for w, h in what)
+    return Finding(rule_id=rule_id, severity="note", message=f"not checked: {parts}")
+
+
+def _internal(rule_id: str, exc: BaseException) -> Finding:
+    tb = traceback.extract_tb(exc.__traceback__)
+    where = f" (at {Path(tb[-1].filename).name}:{tb[-1].lineno})" if tb else ""
+    return Finding(
+        rule_id=rule_id,
+        severity="error",
+        message=f"internal error in rule {rule_id}: {type(exc).__name__}: {exc}{where}; the other rules still ran",
+        kind="internal-error",
+    )
+
+
+def _parse_date(text: str | None) -> _dt.date | None:
+    if text is None:
+        return None
+    if isinstance(text, _dt.date):
+        return text
+    return _dt.date.fromisoformat(str(text))
+
+
+def waiver_matches(w: Waiver, f: Finding, board: str = "") -> bool:
+    """Does waiver ``w`` cover finding ``f``?  Every place the waiver names must match."""
+    if f.kind != "finding":
+        return False
+    if not fnmatch.fnmatchcase(f.rule_id, w.rule):
+        return False
+    if w.fingerprint is not None:
+        if w.fingerprint not in (f.fingerprint, fingerprint_for(f, board), fingerprint_for(f, "")):
+            return False
+    if w.sensor is not None and f.sensor != w.sensor:
+        return False
+    if w.net is not None and not any(fnmatch.fnmatchcase(n.lower(), w.net.lower()) for n in f.nets):
+        return False
+    if w.layer is not None and f.location.layer != w.layer:
+        return False
+    if w.box_mm is not None:
+        loc = f.location
+        if loc.x_mm is None or loc.y_mm is None:
+            return False
+        x0, y0, x1, y1 = w.box_mm
+        if not (min(x0, x1) <= loc.x_mm <= max(x0, x1) and min(y0, y1) <= loc.y_mm <= max(y0, y1)):
+            return False
+    return True
+
+
+def apply_waivers(findings: list[Finding], waivers: Iterable[Waiver], today: _dt.date, board: str = "") -> list[Finding]:
+    """Mark waived findings (in place); return the engine's notes about expired and unused waivers."""
+    notes: list[Finding] = []
+    for w in waivers:
+        expires = _parse_date(w.expires)
+        label = f"waiver #{w.index + 1} (rule {w.rule})"
+        if expires is not None and expires < today:
+            hits = [f for f in findings if waiver_matches(w, f, board)]
+            notes.append(
+                Finding(
+                    rule_id=WaiverExpired.id,
+                    severity="note",
+                    message=(
+                        f"{label} expired on {expires.isoformat()} and no longer waives "
+                        f"({len(hits)} finding(s) it matched are reported again); renew it with a new "
+                        f"date and reason, or remove it. Its reason was: {w.reason}"
+                    ),
+                    sensor=w.sensor,
+                    nets=(w.net,) if w.net else (),
+                    location=Location(layer=w.layer, box_mm=w.box_mm),
+                )
+            )
+            continue
+        hits = [f for f in findings if f.waived_by is None and waiver_matches(w, f, board)]
+        for f in hits:
+            f.waived_by = w
+        if not hits:
+            notes.append(
+                Finding(
+                    rule_id=WaiverUnused.id,
+                    severity="note",
+                    message=f"{label} matched no finding in this run; remove it or correct its rule id and place",
+                    sensor=w.sensor,
+                    nets=(w.net,) if w.net else (),
+                    location=Location(layer=w.layer, box_mm=w.box_mm),
+                )
+            )
+    return notes
+
+
+def run_rules(design: Any, estimates: Mapping[str, Any] | None = None, *, progress: Progress | None = None) -> RuleRun:
+    """Run every enabled rule on ``design``; fingerprint, waive and sort the findings.
+
+    ``estimates``: sensor name -> :class:`~sensorcheck.physics.estimate.SensorEstimate`, or None
+    when the field solver did not run (rules that need it then say so once).
+    """
+    config = design.config
+    settings = effective_settings(config)
+    reg = registry()
+    run = RuleRun()
+    est: Mapping[str, Any] = estimates if estimates is not None else {}
+    active = [rid for rid, cls in reg.items() if not cls.engine_only]
+    for i, rid in enumerate(active):
+        cls = reg[rid]
+        severity, params = settings[rid]
+        if severity == "off":
+            run.notes.append(f"rule {rid} is off (profile or config)")
+            continue
+        if progress is not None:
+            progress(f"rule {i + 1}/{len(active)}: {rid}")
+        run.rules_run.append(rid)
+        missing = _missing_needs(cls, design, estimates)
+        if missing:
+            run.findings.append(_missing_note(rid, [HOW_TO_GIVE[m] for m in missing]))
+            continue
+        try:
+            produced = list(cls().check(design, est, params))
+        except MissingInput as mi:
+            run.findings.append(_missing_note(rid, [(mi.what, mi.how)]))
+            continue
+        except Exception as exc:  # noqa: BLE001 - one broken rule must not hide the others
+            run.findings.append(_internal(rid, exc))
+            continue
+        for f in produced:
+            if f.rule_id != rid:
+                f.rule_id = rid
+            if severity != cls.default_severity and f.severity == cls.default_severity and f.kind == "finding":
+                f.severity = severity  # type: ignore[assignment]
+        run.findings.extend(produced)
+    board_name = getattr(design.board, "name", "")
+    assign_fingerprints(run.findings, board_name)
+    notes = apply_waivers(run.findings, config.waivers, config.today, board_name)
+    notes = [n for n in notes if settings[n.rule_id][0] != "off"]
+    run.findings.extend(notes)
+    assign_fingerprints(run.findings, board_name)
+    run.findings.sort(key=sort_key)
+    return run
+
+
+# --------------------------------------------------------------------------- catalogue text
+
+
+def render_catalogue(fmt: Literal["text", "markdown", "json"] = "text") -> str:
+    """The rule catalogue, generated from the registry (so the docs cannot drift from the code)."""
+    reg = registry()
+    if fmt == "json":
+        items = []
+        for cls in reg.values():
+            items.append(
+                {
+                    "id": cls.id,
+                    "title": cls.title,
+                    "family": cls.family(),
+                    "default_severity": cls.default_severity,
+                    "needs": list(cls.needs),
+                    "parameters": {
+                        n: {"default": p.default, "unit": p.unit, "source": p.source, "doc": p.doc}
+                        for n, p in cls.params.items()
+                    },
+                    "doc": doc_sections(cls),
+                }
+            )
+        return json.dumps({"rules": items}, indent=2, sort_keys=False) + "\n"
+    lines: list[str] = []
+    if fmt == "markdown":
+        lines += ["# sensorcheck rule catalogue", "", "Generated from the rule registry (`sensorcheck rules --format markdown`).", ""]
+        lines += ["| id | title | default severity |", "|---|---|---|"]
+        lines += [f"| `{c.id}` | {c.title} | {c.default_severity} |" for c in reg.values()]
+        lines.append("")
+        for cls in reg.values():
+            lines += [f"## `{cls.id}`: {cls.title}", "", f"Default severity: **{cls.default_severity}**."]
+            if cls.needs:
+                lines.append(f"Needs: {', '.join(cls.needs)}.")
+            lines.append("")
+            secs = doc_sections(cls)
+            for head in DOC_HEADINGS:
+                if head == "Parameters" and cls.params:
+                    lines += [f"### {head}", "", "| name | default | unit | source class | meaning |", "|---|---|---|---|---|"]
+                    lines += [f"| `{n}` | {p.default} | {p.unit} | {p.source} | {p.doc} |" for n, p in cls.params.items()]
+                    lines.append("")
+                    continue
+                lines += [f"### {head}", "", secs.get(head, ""), ""]
+        return "\n".join(lines).rstrip() + "\n"
+    for cls in reg.values():
+        lines.append(f"{cls.id}  [{cls.default_severity}]  {cls.title}")
+        secs = doc_sections(cls)
+        for head in DOC_HEADINGS:
+            if head == "Parameters":
+                if cls.params:
+                    lines.append("  Parameters:")
+                    for n, p in cls.params.items():
+                        lines.append(f"    {n} = {p.default} {p.unit} ({p.source}): {p.doc}")
+                else:
+                    lines.append("  Parameters: none")
+                continue
+            body = " ".join(secs.get(head, "").split())
+            lines.append(f"  {head}: {body}")
+        lines.append("")
+    return "\n".join(lines).rstrip() + "\n"

@@ -1,0 +1,316 @@
+"""Fabrication rules: paste and mask on electrodes, floating and balancing copper, holes and edges."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from typing import Any
+
+from shapely.geometry import Point
+
+from sensorcheck.design.model import Design
+from sensorcheck.rules.common import (
+    finding,
+    fmt,
+    hole_net,
+    is_floating_id,
+    is_via,
+    midpoint,
+    nearest_points,
+    source_near,
+    union,
+)
+from sensorcheck.rules.engine import Param, Rule
+from sensorcheck.rules.finding import Finding
+
+
+def _side_layer(copper_layer: str, kind: str) -> str | None:
+    if copper_layer == "top-copper":
+        return f"top-{kind}"
+    if copper_layer == "bottom-copper":
+        return f"bottom-{kind}"
+    return None
+
+
+def _openings_on_electrodes(design: Design, kind: str, min_area_mm2: float) -> Iterable[tuple[Any, Any, str, Any, list[Any]]]:
+    for s in design.sensors:
+        for e in s.electrodes:
+            name = _side_layer(e.layer, kind)
+            lay = design.board.layer(name) if name else None
+            if lay is None or lay.dark is None or lay.dark.is_empty:
+                continue
+            ov = lay.dark.intersection(e.geometry)
+            if ov.is_empty or ov.area < min_area_mm2:
+                continue
+            feats = [f for f in lay.features if f.polarity == "dark" and f.geometry.intersects(e.geometry)]
+            yield s, e, lay.name, ov, feats
+
+
+class PasteOnElectrode(Rule):
+    """Solder paste openings on electrodes.
+
+    What it checks:
+        The paste layer on the electrode's side, against every electrode: any overlap is an error.
+    Why it matters:
+        An electrode drawn as an SMD pad gets a solder bump: under the overlay that is an air gap
+        and an uneven bond, and the sensitivity varies from unit to unit.
+    Known limitations:
+        Intentional spring-contact pads need a waiver.
+    Example:
+        A button footprint with paste on its pad.
+    Fix:
+        Remove the paste layer from the electrode footprint.
+    Parameters:
+        See the table.
+    References:
+        No paste on electrodes: common practice (a fix recorded in an open hardware project).
+    """
+
+    id = "fab.paste-on-electrode"
+    title = "Paste opening on an electrode"
+    default_severity = "error"
+    needs = ("sensors",)
+    params = {"min_area_mm2": Param(0.01, "mm2", "derived", "smaller overlaps are ignored as numerical slivers")}
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        for s, e, layer, ov, feats in _openings_on_electrodes(design, "paste", params["min_area_mm2"]):
+            yield finding(
+                "error",
+                f"paste opening of {fmt(ov.area, 2)} mm2 on electrode {e.net} ({fmt(100 * ov.area / e.geometry.area, 1)} % "
+                "of it); limit 0 mm2",
+                value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov, nets=(e.net,), sensor=s.name,
+                source=feats[0].source if feats else None,
+            )
+
+
+class MaskOpeningOnElectrode(Rule):
+    """Solder mask openings on electrodes.
+
+    What it checks:
+        The solder-mask layer on the electrode's side (its dark areas are openings): any overlap with
+        an electrode is a warning.
+    Why it matters:
+        Exposed copper is a direct ESD path, corrodes, and a finger or film touching it changes the
+        measurement.
+    Known limitations:
+        Designs that touch bare copper on purpose (springs, direct-touch pads) need a waiver.
+    Example:
+        A button drawn as a pad with a mask opening.
+    Fix:
+        Cover the electrode with solder mask.
+    Parameters:
+        See the table.
+    References:
+        Keep electrodes under mask unless intended: common practice.
+    """
+
+    id = "fab.mask-opening-on-electrode"
+    title = "Mask opening on an electrode"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {"min_area_mm2": Param(0.01, "mm2", "derived", "smaller overlaps are ignored as numerical slivers")}
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        for s, e, layer, ov, feats in _openings_on_electrodes(design, "mask", params["min_area_mm2"]):
+            yield finding(
+                "warning",
+                f"solder-mask opening of {fmt(ov.area, 2)} mm2 exposes electrode {e.net}; limit 0 mm2",
+                value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov, nets=(e.net,), sensor=s.name,
+                source=feats[0].source if feats else None,
+            )
+
+
+class FloatingCopper(Rule):
+    """Unconnected copper near sensors.
+
+    What it checks:
+        Copper islands with no net (not connected to any pad) on any copper layer within
+        ``distance_mm`` of a sensor's electrodes.  Each island is a warning.
+    Why it matters:
+        Floating metal couples neighbouring sensors to each other and drifts with humidity and touch.
+    Known limitations:
+        Net assignment comes from the board's connectivity; copper whose net could not be found
+        counts as floating.
+    Example:
+        A leftover copper square 3 mm from a button.
+    Fix:
+        Remove the island or connect it to ground.
+    Parameters:
+        See the table.
+    References:
+        No floating copper near sensors: common practice.
+    """
+
+    id = "fab.floating-copper"
+    title = "Floating copper near a sensor"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {
+        "distance_mm": Param(10.0, "mm", "common practice", "how far around the electrodes islands are looked for"),
+        "min_area_mm2": Param(0.05, "mm2", "derived", "smaller islands are ignored"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        for s in design.sensors:
+            near = s.outline.buffer(params["distance_mm"])
+            for lay in design.board.copper_layers():
+                for net, geom in sorted(lay.by_net.items()):
+                    if not is_floating_id(net):
+                        continue
+                    ov = geom.intersection(near)
+                    if ov.is_empty or ov.area < params["min_area_mm2"]:
+                        continue
+                    d = geom.distance(s.outline)
+                    yield finding(
+                        "warning",
+                        f"unconnected copper ({fmt(geom.area, 2)} mm2) on {lay.name} is {fmt(d)} mm from {s.name}; "
+                        f"none accepted within {fmt(params['distance_mm'], 1)} mm",
+                        value=d, limit=params["distance_mm"], unit="mm", layer=lay.name, geom=geom,
+                        sensor=s.name, source=source_near([f for f in lay.features if f.geometry.intersects(geom)], geom),
+                    )
+
+
+class CopperBalancing(Rule):
+    """Copper balancing (thieving) near sensors.
+
+    What it checks:
+        Objects the Gerber files mark ``.AperFunction,CopperBalancing`` within ``distance_mm`` of a
+        sensor's electrodes, on any copper layer.
+    Why it matters:
+        Balancing copper is floating metal added after the layout review; inside a sensor's field it
+        couples sensors and drifts.
+    Known limitations:
+        Only balancing the files label as such is found; unlabelled dots show up as floating copper.
+    Example:
+        A fabricator's dot pattern 2 mm from a slider.
+    Fix:
+        Keep balancing out of sensor areas (say so in the fabrication notes).
+    Parameters:
+        See the table.
+    References:
+        No thieving in sensor areas: common practice.
+    """
+
+    id = "fab.copper-balancing"
+    title = "Copper balancing near a sensor"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {"distance_mm": Param(10.0, "mm", "common practice", "how far around the electrodes balancing is looked for")}
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        for s in design.sensors:
+            near = s.outline.buffer(params["distance_mm"])
+            for lay in design.board.copper_layers():
+                hits = [f for f in lay.features
+                        if f.aperture_function and f.aperture_function.lower().startswith("copperbalancing")
+                        and f.geometry.intersects(near)]
+                if not hits:
+                    continue
+                geom = union(f.geometry for f in hits)
+                d = geom.distance(s.outline)
+                yield finding(
+                    "warning",
+                    f"{len(hits)} copper-balancing object(s) ({fmt(geom.area, 2)} mm2) on {lay.name}, {fmt(d)} mm from "
+                    f"{s.name}; none accepted within {fmt(params['distance_mm'], 1)} mm",
+                    value=d, limit=params["distance_mm"], unit="mm", layer=lay.name, geom=geom, sensor=s.name,
+                    source=hits[0].source,
+                )
+
+
+class HoleNearSensor(Rule):
+    """Holes (mounting, component, mechanical) near sensors.
+
+    What it checks:
+        Every hole that is not a via (vias are ``routing.foreign-via-in-zone``'s job) and not on the
+        sensor's own nets, closer than ``min_distance_mm`` from its edge to a sensor's electrodes.
+    Why it matters:
+        Screws, standoffs and chassis parts are grounded or floating metal in the fringe field.
+    Known limitations:
+        The hardware in the hole (metal or plastic) is not known.
+    Example:
+        An M3 mounting hole 2 mm from a button: limit 5 mm.
+    Fix:
+        Move the hole away or use plastic hardware (and waive with that reason).
+    Parameters:
+        See the table.
+    References:
+        A clear space of a few millimetres (5-10 mm) around sensing areas: common practice.
+    """
+
+    id = "fab.hole-near-sensor"
+    title = "Hole near a sensor"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {
+        "min_distance_mm": Param(5.0, "mm", "common practice", "closest accepted hole edge"),
+        "max_via_diameter_mm": Param(0.6, "mm", "derived", "plated holes up to this size count as vias when the drill file does not say"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        holes = [h for h in design.board.holes if not is_via(h, params["max_via_diameter_mm"])]
+        for s in design.sensors:
+            own = set(s.nets)
+            for h in holes:
+                if hole_net(design, h) in own:
+                    continue
+                d = max(0.0, s.outline.distance(Point(h.x_mm, h.y_mm)) - h.diameter_mm / 2.0)
+                if d >= params["min_distance_mm"]:
+                    continue
+                yield finding(
+                    "warning",
+                    f"{fmt(h.diameter_mm)} mm hole is {fmt(d)} mm from {s.name}; limit {fmt(params['min_distance_mm'], 1)} mm",
+                    value=d, limit=params["min_distance_mm"], unit="mm", layer=s.layer, point=(h.x_mm, h.y_mm),
+                    sensor=s.name, nets=s.nets, source=h.source,
+                )
+
+
+class BoardEdgeNearSensor(Rule):
+    """Electrodes close to the board edge.
+
+    What it checks:
+        The distance from every sensor's electrodes to the board outline; below
+        ``min_distance_mm`` is a warning.
+    Why it matters:
+        The edge is where ESD arrives and mechanical damage happens; the field also bends at the
+        edge of the overlay.
+    Known limitations:
+        The enclosure's seams are not known (an input the config does not yet have).
+    Example:
+        A slider 0.8 mm from the edge: limit 2 mm.
+    Fix:
+        Move the sensor inwards, or put a ground ring along the edge.
+    Parameters:
+        See the table.
+    References:
+        At least 1-2 mm from the edge: common practice.
+    """
+
+    id = "fab.board-edge-near-sensor"
+    title = "Sensor near the board edge"
+    default_severity = "warning"
+    needs = ("sensors", "outline")
+    params = {"min_distance_mm": Param(2.0, "mm", "common practice", "closest accepted distance to the outline")}
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        outline = design.board.outline
+        edge = outline.boundary if outline.geom_type in ("Polygon", "MultiPolygon") else outline
+        for s in design.sensors:
+            d = s.outline.distance(edge)
+            if d >= params["min_distance_mm"]:
+                continue
+            pa, pb = nearest_points(s.outline, edge)
+            yield finding(
+                "warning",
+                f"{s.name} is {fmt(d)} mm from the board edge; limit {fmt(params['min_distance_mm'], 1)} mm",
+                value=d, limit=params["min_distance_mm"], unit="mm", layer=s.layer, point=midpoint(pa, pb),
+                geom=s.outline, nets=s.nets, sensor=s.name,
+            )
+
+
+RULES: tuple[type[Rule], ...] = (
+    PasteOnElectrode,
+    MaskOpeningOnElectrode,
+    FloatingCopper,
+    CopperBalancing,
+    HoleNearSensor,
+    BoardEdgeNearSensor,
+)

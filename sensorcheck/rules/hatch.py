@@ -1,0 +1,235 @@
+"""Hatch rules: copper fill measured from the copper image around and under sensors."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from typing import Any
+
+import shapely
+from shapely.geometry.base import BaseGeometry
+
+from sensorcheck.design.model import Design
+from sensorcheck.physics.parasitics import parallel_plate_pf
+from sensorcheck.rules.common import (
+    SELF_KINDS,
+    copper,
+    finding,
+    fmt,
+    layer_separation,
+    sensing_nets,
+    union,
+)
+from sensorcheck.rules.engine import MissingInput, Param, Rule
+from sensorcheck.rules.finding import Finding
+
+
+@dataclass(frozen=True, slots=True)
+class HatchMeasure:
+    """Copper fill of a window, with line width and opening inferred from the image."""
+
+    fill: float  # 0..1
+    openings: int  # closed openings (holes in the copper) inside the window
+    opening_mm: float | None  # equivalent square side of the mean opening
+    line_mm: float | None  # line width that, with that opening, gives the measured fill
+
+
+def measure_hatch(copper_geom: BaseGeometry, window: BaseGeometry) -> HatchMeasure:
+    """Fill = copper area / window area; hatch line width and opening from the fill and the openings.
+
+    For a square hatch of line width w and opening g, fill = 1 - (g/(g+w))^2 (derived).  The
+    opening g is the side of a square of the mean area of the copper's closed openings inside the
+    window; the pitch is then g / sqrt(1 - fill) and w = pitch - g.  A hatch with few whole openings
+    in the window gives a rough width; solid copper gives no opening.
+    """
+    if window.is_empty or window.area <= 0:
+        return HatchMeasure(0.0, 0, None, None)
+    c = copper_geom.intersection(window) if not copper_geom.is_empty else copper_geom
+    fill = min(1.0, c.area / window.area) if not c.is_empty else 0.0
+    holes: list[float] = []
+    for poly in getattr(c, "geoms", [c]):
+        if poly.geom_type != "Polygon":
+            continue
+        for ring in poly.interiors:
+            a = shapely.Polygon(ring).area
+            if a > 1e-4:
+                holes.append(a)
+    if not holes or fill <= 0 or fill >= 1:
+        return HatchMeasure(fill, len(holes), None, None)
+    g = math.sqrt(sum(holes) / len(holes))
+    # the fill counts copper only; with whole openings only, the pitch follows from the hatch formula
+    pitch = g / math.sqrt(max(1e-12, 1.0 - fill))
+    return HatchMeasure(fill, len(holes), g, max(0.0, pitch - g))
+
+
+def _hatch_text(m: HatchMeasure) -> str:
+    if m.opening_mm is None or m.line_mm is None:
+        return "no hatch openings (solid or sparse copper)"
+    return f"hatch line {fmt(m.line_mm)} mm, opening {fmt(m.opening_mm)} mm ({m.openings} openings)"
+
+
+def _other_copper(design: Design, layer: str) -> BaseGeometry:
+    """Copper of every net on ``layer`` except sensing electrodes and traces."""
+    lay = copper(design.board, layer)
+    if lay is None:
+        return union([])
+    skip = sensing_nets(design)
+    return union(g for n, g in lay.by_net.items() if n not in skip)
+
+
+class FillNearSensor(Rule):
+    """Copper fill in a ring around each sensor, per layer, measured from the image.
+
+    What it checks:
+        For every sensor and every copper layer, the fill of non-sensing copper (ground hatch,
+        pours) in the ring from the electrode outline out to ``ring_mm``, clipped to the board
+        outline when known, with the hatch line width and opening inferred from the copper image
+        (not from CAD settings).  Self-capacitance sensors: a warning above
+        ``max_fill_sensor_layer_percent`` on the sensor's layer or ``max_fill_other_layers_percent``
+        elsewhere.  Mutual sensors: a note at the same limits (they tolerate more ground).
+    Why it matters:
+        Ground around a self electrode adds parasitic capacitance and pulls the fringe field away
+        from the finger; a light hatch keeps some noise shielding at a fraction of the cost.
+    Known limitations:
+        Line width and opening assume a square hatch and whole openings in the ring; a ring that
+        holds a gap and a hatch reports their average fill.
+    Example:
+        0.18 mm lines with 1.14 mm openings: 1 - (1.14/1.32)^2 = 25 %.
+    Fix:
+        Use a lighter hatch (thinner lines or larger openings) around self-capacitance sensors.
+    Parameters:
+        See the table.
+    References:
+        Fill of a square hatch 1 - (g/(g+w))^2: derived.  Typical sensor-layer hatch 19-25 %, warn
+        above about 35-40 %; 25-50 % on other layers when a rear shield is needed: common practice
+        (vendor guidance, anonymous).
+    """
+
+    id = "hatch.fill-near-sensor"
+    title = "Hatch fill around sensors"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {
+        "ring_mm": Param(10.0, "mm", "common practice", "outer edge of the ring measured around the electrodes"),
+        "max_fill_sensor_layer_percent": Param(40.0, "%", "common practice", "largest fill on the sensor's own layer"),
+        "max_fill_other_layers_percent": Param(50.0, "%", "common practice", "largest fill on the other copper layers"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        outline_board = design.board.outline
+        for s in design.sensors:
+            own = s.outline
+            ring = own.buffer(params["ring_mm"]).difference(own)
+            if outline_board is not None and outline_board.area > 0:
+                ring = ring.intersection(shapely.Polygon(outline_board.exterior) if outline_board.geom_type == "Polygon" else outline_board)
+            self_kind = s.kind in SELF_KINDS
+            for lay in design.board.copper_layers():
+                other = _other_copper(design, lay.name)
+                if other.is_empty:
+                    continue
+                m = measure_hatch(other, ring)
+                if m.fill <= 0:
+                    continue
+                limit = params["max_fill_sensor_layer_percent"] if lay.name == s.layer else params["max_fill_other_layers_percent"]
+                pct = 100 * m.fill
+                if pct <= limit:
+                    continue
+                sev = "warning" if self_kind else "note"
+                yield finding(
+                    sev,
+                    f"copper fill {fmt(pct, 1)} % within {fmt(params['ring_mm'], 1)} mm of the electrodes on {lay.name} "
+                    f"is above {fmt(limit, 1)} % ({_hatch_text(m)}; common practice)",
+                    value=pct, limit=limit, unit="%", layer=lay.name, geom=ring.intersection(other),
+                    nets=(), sensor=s.name,
+                )
+
+
+class GroundUnderSelf(Rule):
+    """Copper under self electrodes on other layers, weighted by its distance in the stackup.
+
+    What it checks:
+        For every self-capacitance electrode and every other copper layer, the copper of other
+        nets inside the electrode's outline projected onto that layer: its fill, its distance h and
+        permittivity from the stackup, and the capacitance it adds, eps0 eps_r A / h.  An error
+        when the copper is solid (fill >= ``solid_fill_percent``) and close (h <= ``close_mm``); a
+        warning when it is denser than ``max_fill_percent`` or adds more than ``max_added_pf``.
+    Why it matters:
+        A plane under a pad becomes the dominant parasitic capacitance and steals the field from
+        the finger: a 10 mm pad over solid ground 0.2 mm below adds about 15 pF, which drowns a
+        1 pF touch.
+    Known limitations:
+        Parallel-plate, no fringing (a lower bound); a hatch counts as a sheet of its fill.
+    Example:
+        A 12 mm pad over solid inner-layer ground 0.2 mm down (FR-4 4.5): about 22.5 pF.
+    Fix:
+        Remove the ground under the electrode, or hatch it (25-50 %) on the farthest layer.
+    Parameters:
+        See the table.
+    References:
+        Parallel-plate capacitance: any electrostatics textbook.  No ground under electrodes, or a
+        25-50 % hatch on the farthest layer; solid close ground is the classic four-layer mistake:
+        common practice (vendor guidance, anonymous).
+    """
+
+    id = "hatch.ground-under-self"
+    title = "Copper under self electrodes"
+    default_severity = "warning"
+    needs = ("sensors", "stackup")
+    params = {
+        "solid_fill_percent": Param(70.0, "%", "common practice", "fill from which copper counts as solid"),
+        "close_mm": Param(0.5, "mm", "derived", "solid copper this close under an electrode is an error"),
+        "max_fill_percent": Param(50.0, "%", "common practice", "densest hatch accepted under an electrode"),
+        "max_added_pf": Param(5.0, "pF", "derived", "largest added plate capacitance accepted (a fraction of a typical 20 pF budget)"),
+        "default_epsilon_r": Param(4.5, "1", "handbook", "permittivity of dielectrics the stackup leaves blank (FR-4 4.2-4.8 at 1 MHz, IPC-4101, from memory)"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        board = design.board
+        for s in design.sensors:
+            if s.kind not in SELF_KINDS:
+                continue
+            for e in s.electrodes:
+                if e.role != "self" or e.geometry.area <= 0:
+                    continue
+                for lay in board.copper_layers():
+                    if lay.name == e.layer:
+                        continue
+                    others = union(g for n, g in lay.by_net.items() if n != e.net)
+                    if others.is_empty:
+                        continue
+                    under = others.intersection(e.geometry)
+                    if under.is_empty or under.area < 1e-3:
+                        continue
+                    sep = layer_separation(board, e.layer, lay.name, params["default_epsilon_r"])
+                    if sep is None:
+                        raise MissingInput(
+                            f"the stackup does not place {e.layer} and {lay.name}",
+                            "list both copper layers in [[stackup.layers]] with the dielectrics between them",
+                        )
+                    h, eps = sep
+                    fill = 100 * under.area / e.geometry.area
+                    added = parallel_plate_pf(under.area, h, eps)
+                    stack_src = board.stackup.source if board.stackup else "?"
+                    nets = tuple(sorted(n for n, g in lay.by_net.items() if n != e.net and g.intersects(e.geometry)))
+                    base = (
+                        f"{fmt(fill, 1)} % of the electrode ({fmt(under.area, 1)} mm2) has copper under it on {lay.name}, "
+                        f"{fmt(h, 3)} mm below (eps_r {fmt(eps, 2)}, stackup from {stack_src}): adds about "
+                        f"{fmt(added, 2)} pF (parallel plate, lower bound)"
+                    )
+                    if fill >= params["solid_fill_percent"] and h <= params["close_mm"]:
+                        yield finding(
+                            "error", f"{base}; solid copper within {fmt(params['close_mm'])} mm under a self electrode",
+                            value=h, limit=params["close_mm"], unit="mm", layer=lay.name, geom=under,
+                            nets=(e.net, *nets), sensor=s.name,
+                        )
+                    elif fill > params["max_fill_percent"] or added > params["max_added_pf"]:
+                        yield finding(
+                            "warning",
+                            f"{base}; limits {fmt(params['max_fill_percent'], 0)} % fill and {fmt(params['max_added_pf'], 1)} pF",
+                            value=added, limit=params["max_added_pf"], unit="pF", layer=lay.name, geom=under,
+                            nets=(e.net, *nets), sensor=s.name,
+                        )
+
+
+RULES: tuple[type[Rule], ...] = (FillNearSensor, GroundUnderSelf)

@@ -1,0 +1,554 @@
+"""Routing rules: what else runs through, under or beside a sensor."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Iterator, Mapping
+from typing import Any
+
+import shapely
+from shapely.geometry import LineString, Point
+from shapely.geometry.base import BaseGeometry
+
+from sensorcheck.design.model import Design, Electrode, Sensor
+from sensorcheck.rules.common import (
+    REFERENCE_ROLES,
+    SELF_KINDS,
+    aggressor_kind,
+    copper,
+    finding,
+    fmt,
+    hole_net,
+    is_floating_id,
+    is_via,
+    midpoint,
+    nearest_points,
+    net_features,
+    paths,
+    role,
+    source_near,
+    trace_features,
+    trace_geometry,
+    union,
+)
+from sensorcheck.rules.engine import Param, Rule
+from sensorcheck.rules.finding import Finding
+
+
+def _other_electrodes(design: Design, s: Sensor) -> BaseGeometry:
+    return union(e.geometry for o in design.sensors if o is not s for e in o.electrodes)
+
+
+class ForeignCopperInZone(Rule):
+    """Copper of foreign nets inside a sensor's sensing zone, on any layer.
+
+    What it checks:
+        For every sensor and every copper layer, copper of nets that are neither the sensor's own
+        nor ground, shield or guard (and not aggressors, which ``routing.aggressor-near-sensor``
+        judges, nor unconnected copper, which ``fab.floating-copper`` judges) inside the sensing
+        zone (the electrodes grown by the zone margin).  Another sensor's electrodes are not
+        counted; its traces are.  Copper under the electrode itself is an error, in the rest of
+        the zone a warning.
+    Why it matters:
+        Every conductor in the sensing field is an electrode too: it adds parasitic capacitance,
+        couples its own signals into the sensor and makes it respond where it should not.
+    Known limitations:
+        Zone margin is set by the design step; copper on a layer shielded by a solid ground layer
+        in between is still reported.
+    Example:
+        A 0.2 mm signal trace crossing a button's zone on the bottom layer.
+    Fix:
+        Route the net around the zone, or put ground or shield between it and the electrode.
+    Parameters:
+        See the table.
+    References:
+        No components or traces adjacent to or under electrodes: common practice (vendor
+        guidance, anonymous).
+    """
+
+    id = "routing.foreign-copper-in-zone"
+    title = "Foreign copper in a sensing zone"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {
+        "min_area_mm2": Param(0.01, "mm2", "derived", "smaller overlaps are ignored as numerical slivers"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        for s in design.sensors:
+            own = set(s.nets)
+            outline = s.outline
+            others_el = _other_electrodes(design, s)
+            for lay in design.board.copper_layers():
+                for net, geom in sorted(lay.by_net.items()):
+                    if net in own or is_floating_id(net) or role(design, net) in REFERENCE_ROLES | {"aggressor"}:
+                        continue
+                    inside = geom.intersection(s.zone)
+                    if not others_el.is_empty:
+                        inside = inside.difference(others_el)
+                    if inside.is_empty or inside.area < params["min_area_mm2"]:
+                        continue
+                    under = inside.intersection(outline)
+                    src = source_near(net_features(design.board, lay.name, [net]), inside)
+                    if not under.is_empty and under.area >= params["min_area_mm2"]:
+                        yield finding(
+                            "error",
+                            f"net {net} has {fmt(under.area, 2)} mm2 of copper on {lay.name} under the electrodes of "
+                            f"{s.name} (limit 0 mm2)",
+                            value=under.area, limit=0.0, unit="mm2", layer=lay.name, geom=under,
+                            nets=(net,), sensor=s.name, source=src,
+                        )
+                    else:
+                        yield finding(
+                            "warning",
+                            f"net {net} has {fmt(inside.area, 2)} mm2 of copper on {lay.name} inside the sensing zone of "
+                            f"{s.name} ({fmt(s.zone_margin_mm, 1)} mm around the electrodes; limit 0 mm2)",
+                            value=inside.area, limit=0.0, unit="mm2", layer=lay.name, geom=inside,
+                            nets=(net,), sensor=s.name, source=src,
+                        )
+
+
+class ForeignViaInZone(Rule):
+    """Vias of other nets inside a sensing zone.
+
+    What it checks:
+        Every via (a plated hole no larger than ``max_via_diameter_mm`` where the drill file does
+        not say) whose net is not the sensor's: inside the sensing zone when the net is a signal,
+        or inside the electrode grown by ``clearance_mm`` when it is ground, shield or guard.
+    Why it matters:
+        A via is a short vertical conductor straight into the sensing field: it behaves like a
+        component under the electrode and brings its net's noise with it.
+    Known limitations:
+        The via's net comes from the drill file or, failing that, the copper it lands on.
+    Example:
+        A 0.3 mm signal via 2 mm beside a button.
+    Fix:
+        Move the via out of the zone (ground stitching vias: out of the electrode and its gap).
+    Parameters:
+        See the table.
+    References:
+        No vias of other nets inside an electrode or its gap: common practice (vendor guidance,
+        anonymous).
+    """
+
+    id = "routing.foreign-via-in-zone"
+    title = "Foreign via in a sensing zone"
+    default_severity = "error"
+    needs = ("sensors",)
+    params = {
+        "max_via_diameter_mm": Param(0.6, "mm", "derived", "plated holes up to this size count as vias when the drill file does not say"),
+        "clearance_mm": Param(0.5, "mm", "common practice", "ground/shield vias must stay this far out of the electrode"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        vias = [(h, hole_net(design, h)) for h in design.board.holes if is_via(h, params["max_via_diameter_mm"])]
+        for s in design.sensors:
+            own = set(s.nets)
+            near = s.outline.buffer(params["clearance_mm"])
+            for h, net in vias:
+                if net in own:
+                    continue
+                p = Point(h.x_mm, h.y_mm)
+                ref = net is not None and role(design, net) in REFERENCE_ROLES
+                area = near if ref else s.zone
+                if not area.contains(p):
+                    continue
+                d = s.outline.distance(p)
+                what = "inside the electrode" if d == 0 else f"{fmt(d)} mm from the electrode"
+                where = f"the electrode's {fmt(params['clearance_mm'])} mm clearance" if ref else "the sensing zone"
+                yield finding(
+                    "error",
+                    f"via of net {net or '(unknown)'} ({fmt(h.diameter_mm)} mm) is {what}, inside {where} of {s.name}",
+                    value=d, limit=params["clearance_mm"] if ref else s.zone_margin_mm, unit="mm",
+                    layer=s.layer, point=(h.x_mm, h.y_mm), nets=(net,) if net else (), sensor=s.name,
+                    source=h.source,
+                )
+
+
+def _trace_paths(design: Design, e: Electrode) -> dict[str, BaseGeometry]:
+    return {layer: paths(feats) for layer, feats in trace_features(design.board, e).items()}
+
+
+class TraceUnderElectrode(Rule):
+    """A sensor's trace under or over another sensor's electrode.
+
+    What it checks:
+        The trace copper of every sensing net (its copper outside its own electrode, any layer)
+        projected onto the electrodes of other nets.  An error when the electrode belongs to a
+        self-capacitance sensor, a warning for mutual sensors.
+    Why it matters:
+        The trace loads the other electrode with parasitic capacitance and makes its own channel
+        respond to touches on the other sensor (ghost keys).
+    Known limitations:
+        A ground or shield layer between trace and electrode would make the mutual case harmless;
+        that is not detected.
+    Example:
+        Button B1's trace on the bottom layer running under button B2.
+    Fix:
+        Route the trace around the other electrode, or behind a ground/shield layer.
+    Parameters:
+        See the table.
+    References:
+        No sensor trace under another sensor's electrode: common practice (vendor guidance,
+        anonymous).
+    """
+
+    id = "routing.trace-under-electrode"
+    title = "Sensor trace under another electrode"
+    default_severity = "error"
+    needs = ("sensors",)
+    params = {
+        "min_area_mm2": Param(0.01, "mm2", "derived", "smaller overlaps are ignored as numerical slivers"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        for a in design.sensors:
+            for ea in a.electrodes:
+                traces = trace_geometry(ea)
+                for b in design.sensors:
+                    for eb in b.electrodes:
+                        if eb.net == ea.net:
+                            continue
+                        for layer, tg in sorted(traces.items()):
+                            ov = tg.intersection(eb.geometry)
+                            if ov.is_empty or ov.area < params["min_area_mm2"]:
+                                continue
+                            sev = "error" if b.kind in SELF_KINDS else "warning"
+                            yield finding(
+                                sev,
+                                f"trace of {ea.net} ({a.name}) on {layer} runs under the electrode {eb.net} of {b.name} "
+                                f"({eb.layer}) over {fmt(ov.area, 2)} mm2 (limit 0 mm2)",
+                                value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov,
+                                nets=(ea.net, eb.net), sensor=b.name,
+                                source=source_near(net_features(design.board, layer, [ea.net]), ov),
+                            )
+
+
+def _sensor_copper(design: Design, s: Sensor, layer: str) -> BaseGeometry:
+    parts = []
+    for e in s.electrodes:
+        if e.layer == layer:
+            parts.append(e.geometry)
+        g = e.trace.get(layer)
+        if g is not None:
+            parts.append(g)
+    return union(parts)
+
+
+class AggressorNearSensor(Rule):
+    """Aggressor nets (LED, clock, switching, radio) near or under sensors.
+
+    What it checks:
+        For every sensor and every aggressor net (``[roles] aggressor``): copper of the aggressor
+        under or over the electrodes on any layer (an error: an LED under a button); on the
+        sensor's layers, the distance from the aggressor to the electrodes and their traces; on the
+        other layers, the projected distance to the electrodes.  Closer than
+        ``min_distance_led_mm`` (LED nets) or ``min_distance_mm`` (others) is a warning.
+    Why it matters:
+        A fast edge next to a high-impedance sensing input couples straight in: LED drive lines
+        beside a button make it trigger when the LED blinks.
+    Known limitations:
+        Ground copper between the two is not credited.
+    Example:
+        An LED anode trace 1.2 mm from a button on the same layer: limit 4 mm.
+    Fix:
+        Move the aggressor away, or put ground between; keep LEDs behind the electrode or in a
+        cutout with the same clearance as ground.
+    Parameters:
+        See the table.
+    References:
+        LED-drive traces at least 4 mm from sensors, about 1 mm for other signals: common practice
+        (vendor guidance, anonymous).
+    """
+
+    id = "routing.aggressor-near-sensor"
+    title = "Aggressor net near or under a sensor"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {
+        "min_distance_led_mm": Param(4.0, "mm", "common practice", "LED-drive nets (kind led) keep this far"),
+        "min_distance_mm": Param(1.0, "mm", "common practice", "other aggressor nets keep this far"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        board = design.board
+        aggressors = design.nets_with("aggressor")
+        if not aggressors:
+            return
+        for s in design.sensors:
+            outline = s.outline
+            for net in aggressors:
+                kind = aggressor_kind(design, net) or "other"
+                limit = params["min_distance_led_mm"] if kind == "led" else params["min_distance_mm"]
+                worst: tuple[float, str, BaseGeometry, tuple[float, float]] | None = None
+                under_hit = None
+                for lay in board.copper_layers():
+                    ag = lay.by_net.get(net)
+                    if ag is None or ag.is_empty:
+                        continue
+                    for e in s.electrodes:
+                        if e.layer != lay.name:
+                            ov = ag.intersection(e.geometry)
+                            if not ov.is_empty and ov.area > 1e-3 and under_hit is None:
+                                under_hit = (lay.name, ov, e)
+                    own = _sensor_copper(design, s, lay.name) if lay.name in {e.layer for e in s.electrodes} | {
+                        k for e in s.electrodes for k in e.trace} else union([])
+                    target = own if not own.is_empty else outline
+                    d = ag.distance(target)
+                    if worst is None or d < worst[0]:
+                        pa, pb = nearest_points(ag, target)
+                        worst = (d, lay.name, ag, midpoint(pa, pb))
+                if under_hit is not None:
+                    layer, ov, e = under_hit
+                    yield finding(
+                        "error",
+                        f"{kind} net {net} has {fmt(ov.area, 2)} mm2 of copper on {layer} under the electrode {e.net} of "
+                        f"{s.name} (limit: none under, {fmt(limit, 1)} mm away)",
+                        value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov, nets=(net, e.net), sensor=s.name,
+                        source=source_near(net_features(board, layer, [net]), ov),
+                    )
+                    continue
+                if worst is not None and worst[0] < limit:
+                    d, layer, ag, pt = worst
+                    yield finding(
+                        "warning",
+                        f"{kind} net {net} on {layer} is {fmt(d)} mm from {s.name}; keep at least {fmt(limit, 1)} mm "
+                        "or put ground between (common practice)",
+                        value=d, limit=limit, unit="mm", layer=layer, point=pt, geom=None, nets=(net, *s.nets),
+                        sensor=s.name, source=source_near(net_features(board, layer, [net]), Point(pt)),
+                    )
+
+
+def _parallel_length(path: BaseGeometry, other: BaseGeometry, distance_mm: float) -> tuple[float, BaseGeometry]:
+    """Length of ``path`` lying within ``distance_mm`` of ``other`` (and that piece)."""
+    if path.is_empty or other.is_empty:
+        return 0.0, shapely.MultiLineString()
+    piece = path.intersection(other.buffer(distance_mm))
+    return piece.length, piece
+
+
+class AggressorParallel(Rule):
+    """Sensor traces running alongside aggressor nets.
+
+    What it checks:
+        The length of every sensor trace (the centre lines of its draws, outside the electrode)
+        that lies within ``parallel_distance_mm`` of aggressor copper, on the same layer or
+        projected from another layer.  Longer than ``max_parallel_mm`` is a warning.
+    Why it matters:
+        Coupling grows with the length of the parallel run; a long run beside a clock or PWM line
+        injects its edges into the sensing input along the whole length.
+    Known limitations:
+        Needs draws with centre lines (traces drawn as regions are not measured).
+    Example:
+        A 20 mm run 0.5 mm beside an LED line: limit 5 mm.
+    Fix:
+        Separate the runs, cross at right angles on different layers, or put ground between.
+    Parameters:
+        See the table.
+    References:
+        Avoid parallel runs with aggressors; if unavoidable, short and at a right angle:
+        common practice (vendor guidance, anonymous).
+    """
+
+    id = "routing.aggressor-parallel"
+    title = "Sensor trace parallel to an aggressor"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {
+        "parallel_distance_mm": Param(1.0, "mm", "common practice", "runs closer than this count as parallel"),
+        "max_parallel_mm": Param(5.0, "mm", "common practice", "longest accepted parallel run"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        board = design.board
+        aggressors = design.nets_with("aggressor")
+        if not aggressors:
+            return
+        for s in design.sensors:
+            for e in s.electrodes:
+                tp = _trace_paths(design, e)
+                for net in aggressors:
+                    ag_all = union(lay.by_net.get(net) for lay in board.copper_layers())
+                    for layer, path in sorted(tp.items()):
+                        length, piece = _parallel_length(path, ag_all, params["parallel_distance_mm"])
+                        if length > params["max_parallel_mm"]:
+                            kind = aggressor_kind(design, net)
+                            yield finding(
+                                "warning",
+                                f"trace of {e.net} on {layer} runs {fmt(length, 1)} mm within "
+                                f"{fmt(params['parallel_distance_mm'])} mm of {kind} net {net}; limit "
+                                f"{fmt(params['max_parallel_mm'], 1)} mm",
+                                value=length, limit=params["max_parallel_mm"], unit="mm", layer=layer, geom=piece,
+                                nets=(e.net, net), sensor=s.name,
+                                source=source_near(net_features(board, layer, [e.net]), piece),
+                            )
+
+
+class RxParallelTx(Rule):
+    """Receiver traces running alongside another node's transmitter.
+
+    What it checks:
+        For every receiver net, the length of its trace centre lines within
+        ``parallel_distance_mm`` of transmitter copper (traces or electrodes) of a different
+        sensor, on the same layer or projected from another layer.  Longer than
+        ``max_parallel_mm`` is a warning.
+    Why it matters:
+        Every place where an RX runs beside a TX is an extra, touchable mutual node: ghost keys
+        and baseline shifts when a finger passes over the traces.
+    Known limitations:
+        Needs draws with centre lines; ground between the runs is not credited.
+    Example:
+        RX1's trace running 15 mm 0.3 mm beside TX2's trace: limit 5 mm.
+    Fix:
+        Separate the runs, cross them at right angles on different layers, or put ground between.
+    Parameters:
+        See the table.
+    References:
+        Avoid RX-TX parallel runs of different nodes (5-10 mm at under 1 mm at most): common practice.
+    """
+
+    id = "routing.rx-parallel-tx"
+    title = "RX trace parallel to another node's TX"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {
+        "parallel_distance_mm": Param(1.0, "mm", "common practice", "runs closer than this count as parallel"),
+        "max_parallel_mm": Param(5.0, "mm", "common practice", "longest accepted parallel run"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        board = design.board
+        for a in design.sensors:
+            for rx in a.electrodes_with("receiver"):
+                tp = _trace_paths(design, rx)
+                if not tp:
+                    continue
+                for b in design.sensors:
+                    if b is a:
+                        continue
+                    for tx in b.electrodes_with("transmitter"):
+                        tx_cu = union([tx.geometry, *tx.trace.values()])
+                        for layer, path in sorted(tp.items()):
+                            length, piece = _parallel_length(path, tx_cu, params["parallel_distance_mm"])
+                            if length > params["max_parallel_mm"]:
+                                yield finding(
+                                    "warning",
+                                    f"RX trace {rx.net} ({a.name}) on {layer} runs {fmt(length, 1)} mm within "
+                                    f"{fmt(params['parallel_distance_mm'])} mm of TX {tx.net} of {b.name}; limit "
+                                    f"{fmt(params['max_parallel_mm'], 1)} mm",
+                                    value=length, limit=params["max_parallel_mm"], unit="mm", layer=layer, geom=piece,
+                                    nets=(rx.net, tx.net), sensor=a.name,
+                                    source=source_near(net_features(board, layer, [rx.net]), piece),
+                                )
+
+
+def _segments(geom: BaseGeometry) -> Iterator[tuple[tuple[float, float], tuple[float, float]]]:
+    for line in getattr(geom, "geoms", [geom]):
+        if not isinstance(line, LineString):
+            continue
+        cs = list(line.coords)
+        for p, q in zip(cs, cs[1:]):
+            if p != q:
+                yield (p[0], p[1]), (q[0], q[1])
+
+
+def crossing_angles(a: BaseGeometry, b: BaseGeometry) -> list[tuple[float, tuple[float, float]]]:
+    """Acute angle (degrees, 0-90) and point of every crossing between the segments of ``a`` and ``b``."""
+    out: list[tuple[float, tuple[float, float]]] = []
+    segs_b = list(_segments(b))
+    if not segs_b:
+        return out
+    tree = shapely.STRtree([LineString(s) for s in segs_b])
+    for p, q in _segments(a):
+        la = LineString([p, q])
+        for j in tree.query(la, predicate="intersects"):
+            r, t = segs_b[int(j)]
+            x = la.intersection(LineString([r, t]))
+            if x.is_empty or x.geom_type != "Point":
+                continue
+            ang_a = math.atan2(q[1] - p[1], q[0] - p[0])
+            ang_b = math.atan2(t[1] - r[1], t[0] - r[0])
+            d = abs(math.degrees(ang_a - ang_b)) % 180.0
+            out.append((min(d, 180.0 - d), (x.x, x.y)))
+    return out
+
+
+class CrossingAngle(Rule):
+    """Crossing angle between sensor traces and aggressor or other sensors' traces on other layers.
+
+    What it checks:
+        Where a sensor trace's centre line crosses, in projection, the centre line of an
+        aggressor net or of another sensor's trace on a different layer, the acute angle between
+        them.  Below ``min_angle_deg`` is a warning.
+    Why it matters:
+        The coupling at a crossing grows with the overlap area, which is smallest at a right angle;
+        a shallow crossing is a short parallel run.
+    Known limitations:
+        Needs draws with centre lines on both sides.
+    Example:
+        A sensor trace crossing an LED line at 30 degrees: limit 60.
+    Fix:
+        Cross at (near) 90 degrees.
+    Parameters:
+        See the table.
+    References:
+        Cross sensor traces with other signals at right angles: common practice (vendor guidance,
+        anonymous).
+    """
+
+    id = "routing.crossing-angle"
+    title = "Shallow crossing with another net"
+    default_severity = "warning"
+    needs = ("sensors",)
+    params = {
+        "min_angle_deg": Param(60.0, "deg", "common practice", "shallowest accepted crossing angle"),
+    }
+
+    def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        board = design.board
+        sensing = {e.net: s for s in design.sensors for e in s.electrodes}
+        others: dict[str, dict[str, BaseGeometry]] = {}  # net -> layer -> paths
+        for lay in board.copper_layers():
+            for net in {f.net for f in lay.features if f.net}:
+                if net in sensing or role(design, net) == "aggressor":
+                    feats = net_features(board, lay.name, [net])
+                    if net in sensing:
+                        e = next(e for e in sensing[net].electrodes if e.net == net)
+                        feats = trace_features(board, e).get(lay.name, [])
+                    p = paths(feats)
+                    if not p.is_empty:
+                        others.setdefault(net, {})[lay.name] = p
+        for s in design.sensors:
+            for e in s.electrodes:
+                for layer, path in sorted(others.get(e.net, {}).items()):
+                    for net, by_layer in sorted(others.items()):
+                        if net == e.net or (net in sensing and sensing[net] is s):
+                            continue
+                        for olayer, opath in sorted(by_layer.items()):
+                            if olayer == layer:
+                                continue
+                            crossings = crossing_angles(path, opath)
+                            if not crossings:
+                                continue
+                            ang, pt = min(crossings)
+                            if ang >= params["min_angle_deg"]:
+                                continue
+                            yield finding(
+                                "warning",
+                                f"trace of {e.net} on {layer} crosses {net} on {olayer} at {fmt(ang, 1)} deg; "
+                                f"limit {fmt(params['min_angle_deg'], 0)} deg",
+                                value=ang, limit=params["min_angle_deg"], unit="deg", layer=layer, point=pt,
+                                nets=(e.net, net), sensor=s.name,
+                                source=source_near(net_features(board, layer, [e.net]), Point(pt)),
+                            )
+
+
+RULES: tuple[type[Rule], ...] = (
+    ForeignCopperInZone,
+    ForeignViaInZone,
+    TraceUnderElectrode,
+    AggressorNearSensor,
+    AggressorParallel,
+    RxParallelTx,
+    CrossingAngle,
+)
