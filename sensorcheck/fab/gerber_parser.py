@@ -29,8 +29,8 @@ from dataclasses import dataclass, field
 from typing import Any, Callable
 
 from gerbonara import graphic_objects as go
-from gerbonara.rs274x import GerberFile, GerberParser
-from gerbonara.utils import MM, Inch
+from gerbonara.rs274x import GerberFile, GerberParser, GraphicsState
+from gerbonara.utils import MM, Inch, InterpMode
 
 from sensorcheck.errors import InputError, LimitError
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
@@ -274,6 +274,55 @@ class ParseResult:
     comments: list[str] = field(default_factory=list)
 
 
+class SensorcheckGraphicsState(GraphicsState):
+    """gerbonara's graphics state with the single-quadrant (G74) arc centre chosen per the spec.
+
+    Gerber spec 2023.08 section 4.7.2 (single-quadrant mode, kept for older files): I and J are
+    unsigned; the centre is the one of the four sign choices that makes an arc of at most 90
+    degrees in the given direction; start = end is an arc of zero length (the aperture at the
+    point). gerbonara 1.6.3 picks by a numeric-error sort that can choose the wrong centre and
+    draws nothing for start = end.
+    """
+
+    def interpolate(self, x: Any, y: Any, i: Any = None, j: Any = None, aperture: bool = True,
+                    multi_quadrant: bool = False) -> Any:
+        # gerbonara's flag "multi_quadrant" is True after G74, which is the single-quadrant mode
+        if not multi_quadrant or self.interpolation_mode == InterpMode.LINEAR or (i is None and j is None):
+            return super().interpolate(x, y, i, j, aperture, multi_quadrant)
+        if self.unit is None:
+            raise SyntaxError("Gerber file does not contain a unit definition.")
+        ap = self.aperture if aperture else None
+        if aperture and ap is None:
+            raise SyntaxError("Interpolation attempted without selecting aperture first")
+        old_point = self.map_coord(*self.update_point_native(x, y))
+        new_point = self.map_coord(*self.point)
+        kw = dict(polarity_dark=self._polarity_dark, unit=self.unit, attrs=copy.copy(self.object_attrs))
+        if math.isclose(old_point[0], new_point[0], abs_tol=1e-12) and \
+                math.isclose(old_point[1], new_point[1], abs_tol=1e-12):
+            return go.Line(*old_point, *new_point, ap, **kw)
+        clockwise = self.interpolation_mode == InterpMode.CIRCULAR_CW
+        i, j = abs(i or 0.0), abs(j or 0.0)
+        best: tuple[float, float, float] | None = None
+        for si in (1, -1):
+            for sj in (1, -1):
+                cx, cy = self.map_coord(si * i, sj * j, relative=True)
+                ax, ay = old_point[0] + cx, old_point[1] + cy
+                r1 = math.hypot(old_point[0] - ax, old_point[1] - ay)
+                r2 = math.hypot(new_point[0] - ax, new_point[1] - ay)
+                a1 = math.atan2(old_point[1] - ay, old_point[0] - ax)
+                a2 = math.atan2(new_point[1] - ay, new_point[0] - ax)
+                sweep = (a1 - a2) if clockwise else (a2 - a1)
+                sweep %= 2 * math.pi
+                if sweep > math.pi / 2 + 1e-6:
+                    continue
+                err = abs(r1 - r2)
+                if best is None or err < best[0]:
+                    best = (err, cx, cy)
+        if best is None:
+            raise SyntaxError("single-quadrant arc (G74) with no centre giving an arc of 90 degrees or less")
+        return go.Arc(*old_point, *new_point, best[1], best[2], clockwise=clockwise, aperture=ap, **kw)
+
+
 class SensorcheckGerberParser(GerberParser):
     """gerbonara's parser with the fixes listed in the module docstring."""
 
@@ -288,6 +337,7 @@ class SensorcheckGerberParser(GerberParser):
 
     def __init__(self, target: GerberFile, name: str, limits: Limits = DEFAULT_LIMITS) -> None:
         super().__init__(target, include_dir=None)
+        self.graphics_state = SensorcheckGraphicsState(warn=self.warn, file_settings=self.file_settings)
         self.sc_name = name
         self.sc_limits = limits
         self.sc_warnings: list[str] = []
