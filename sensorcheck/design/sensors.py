@@ -399,7 +399,7 @@ def build_design(board: Board, config: Config) -> Design:
     """Roles, sensors and zones of ``board`` under ``config`` (see the module docstring)."""
     ra = assign_roles(board, config)
     roles = dict(ra.roles)
-    notes: list[str] = list(ra.notes)
+    notes: list[str] = [*config.notes, *ra.notes]
     sensors: list[Sensor] = []
     margin = zone_margin_mm(config)
     face = config.overlay.face if config.overlay is not None else config.face

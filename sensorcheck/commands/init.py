@@ -1,0 +1,315 @@
+"""``sensorcheck init PATH [--output FILE] [--force]``: write a starter sensorcheck.toml.
+
+Net names are grouped by the role their names suggest; the stackup is taken from the job
+file when there is one.  Every guess carries a ``# REVIEW:`` comment saying why it was made,
+and what cannot be guessed from fabrication data (the overlay, a battery-powered product)
+is written commented out with a ``# REVIEW:`` line saying what to fill in.  The file loads
+with :func:`sensorcheck.design.config.load_config` as written.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import re
+import sys
+import tempfile
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+
+from sensorcheck.board.model import Board, Stackup
+from sensorcheck.design.roles import matches, natural_key
+
+_COPPER_RE = re.compile(r"^(top|bottom|inner[1-9][0-9]*)-copper$")
+_STACKUP_KINDS = ("copper", "dielectric", "mask", "silk", "paste", "other")
+
+
+@dataclass(frozen=True, slots=True)
+class Guess:
+    """A rule of thumb: net-name regex -> role, the aggressor kind, and why (the REVIEW text)."""
+
+    role: str
+    regex: str
+    why: str
+    kind: str | None = None
+
+
+#: tried in order, first match wins (UART-style names are excluded from TX/RX first)
+GUESSES: tuple[Guess, ...] = (
+    Guess("ground", r"^(A|D|P|S)?GND[A-Z0-9_]*$|^[A-Z0-9_]*_GND$|^VSS[A-Z]?$|^0V$",
+          "ground by name (GND, GNDA, AGND, VSS)"),
+    Guess("shield", r"^(DRIVEN_?)?(SHIELD|SHLD)[A-Z0-9_]*$", "a driven shield by name"),
+    Guess("guard", r"^GUARD[A-Z0-9_]*$", "a guard by name"),
+    Guess("aggressor", r"^(LED|D_?LED|BL)[A-Z0-9_]*$|^[A-Z0-9_]*_LED[A-Z0-9_]*$",
+          "an LED line: PWM-driven LEDs switch fast", kind="led"),
+    Guess("aggressor", r"^(CLK|SCK|SCL|SCLK|MCLK|BCLK|XTAL|OSC)[A-Z0-9_]*$|^[A-Z0-9_]*_(CLK|SCK|SCL)$",
+          "a clock or serial clock by name", kind="clock"),
+    Guess("aggressor", r"^(SW|LX|VSW|SW_NODE)$|^PWM[A-Z0-9_]*$|^[A-Z0-9_]*_PWM[0-9]*$",
+          "a switching node or PWM line by name", kind="switching"),
+    Guess("aggressor", r"^(ANT|RF)[A-Z0-9_]*$", "an antenna/RF line by name", kind="radio"),
+    Guess("skip", r"(UART|USART|SERIAL|^TXD|^RXD|_TXD|_RXD)", "a serial port, not a sensor"),
+    Guess("transmitter", r"^C?TX[_\-]?[A-Z]?[0-9]*$|^[A-Z0-9]+[_\-]TX[0-9]*$|^(DRV|DRIVE)[_\-]?[0-9]+$",
+          "TX in the name: a mutual-capacitance transmitter"),
+    Guess("receiver", r"^C?RX[_\-]?[A-Z]?[0-9]*$|^[A-Z0-9]+[_\-]RX[0-9]*$|^(SNS|SENSE)[_\-]?[0-9]+$",
+          "RX in the name: a mutual-capacitance receiver"),
+    Guess("transmitter", r"^X[_\-]?[0-9]+$", "X lines of a touchpad are often driven (rows as TX); could be the "
+          "other way round"),
+    Guess("receiver", r"^Y[_\-]?[0-9]+$", "Y lines of a touchpad are often sensed (columns as RX); could be the "
+          "other way round"),
+    Guess("self", r"^(TOUCH|TCH|BTN|BUTTON|KEY|SLIDER|SLD|WHEEL|WHL|PAD|PROX|CSENSE|SENSOR|ELECTRODE)"
+          r"([_\-]?\[?[0-9]+\]?[A-Z]?|[_\-][A-Z0-9]+)?$",
+          "a touch electrode by name; self-capacitance unless a TX net faces it"),
+    Guess("self", r"^SW[_\-]?[0-9]+$", "SW1, SW2...: touch keys are often named like switches; could be "
+          "mechanical switches"),
+)
+
+
+def _escape_pattern(name: str) -> str:
+    """fnmatch pattern that matches exactly ``name``."""
+    return re.sub(r"([\[\]*?])", lambda m: "[" + m.group(1) + "]", name)
+
+
+def _q(text: str) -> str:
+    """A TOML basic string (JSON's escapes are valid TOML)."""
+    return json.dumps(text, ensure_ascii=False)
+
+
+def _comment(text: str) -> str:
+    return " ".join(text.split()).replace("\n", " ")
+
+
+def guess_roles(nets: list[str]) -> dict[str, tuple[str, str | None, str]]:
+    """net -> (role, aggressor kind, why) for the nets whose names suggest one."""
+    out: dict[str, tuple[str, str | None, str]] = {}
+    for net in nets:
+        up = net.upper().lstrip("/\\")
+        up = up.rsplit("/", 1)[-1]  # hierarchical names: the last part
+        for g in GUESSES:
+            if re.search(g.regex, up):
+                if g.role != "skip":
+                    out[net] = (g.role, g.kind, g.why)
+                break
+    return out
+
+
+def _stem(net: str) -> str | None:
+    m = re.match(r"^(.*?[A-Za-z])[_\-.]?(\d+)$", net)
+    return m.group(1) if m else None
+
+
+def _patterns(members: list[str], all_nets: list[str]) -> list[str]:
+    """Few patterns covering exactly ``members`` of ``all_nets``: STEM* where that matches no
+    other net, else the names themselves."""
+    others = [n for n in all_nets if n not in set(members)]
+    out: list[str] = []
+    covered: set[str] = set()
+    stems: dict[str, list[str]] = {}
+    for n in members:
+        s = _stem(n)
+        if s is not None and not re.search(r"[\[\]*?]", s):
+            stems.setdefault(s, []).append(n)
+    for s, group in sorted(stems.items()):
+        pat = f"{s}*"
+        if len(group) >= 2 and not any(matches(o, pat) for o in others):
+            out.append(pat)
+            covered.update(n for n in members if matches(n, pat))
+    out.extend(_escape_pattern(n) for n in members if n not in covered)
+    return out
+
+
+def _stackup_lines(stackup: Stackup | None) -> list[str]:
+    if stackup is None or stackup.source != "jobfile":
+        return [
+            "# REVIEW: no Gerber job file with a stackup was found; give the stackup so that layer",
+            "# distances (ground under electrodes, parasitics) are right:",
+            "# [stackup]",
+            "# board_thickness_mm = 1.6",
+            "# [[stackup.layers]]",
+            '# name = "top copper"',
+            '# kind = "copper"',
+            "# thickness_mm = 0.035",
+            '# copper_layer = "top-copper"',
+            "",
+        ]
+    valid = all(
+        la.kind in _STACKUP_KINDS and la.thickness_mm > 0 and la.name.strip()
+        and (la.copper_layer is None or (la.kind == "copper" and _COPPER_RE.match(la.copper_layer)))
+        and (la.epsilon_r is None or la.epsilon_r >= 1.0)
+        for la in stackup.layers
+    ) and stackup.board_thickness_mm > 0
+    prefix = "" if valid else "# "
+    lines = ["# REVIEW: stackup as the Gerber job file states it; correct it here if the job file is wrong"
+             + ("" if valid else " (written commented out: some layer had no usable thickness or kind)")]
+    lines += [f"{prefix}[stackup]", f"{prefix}board_thickness_mm = {stackup.board_thickness_mm:g}"]
+    copper_seen: set[str] = set()
+    for la in stackup.layers:
+        lines += [f"{prefix}[[stackup.layers]]", f"{prefix}name = {_q(la.name)}", f"{prefix}kind = {_q(la.kind)}",
+                  f"{prefix}thickness_mm = {la.thickness_mm:g}"]
+        if la.copper_layer and la.kind == "copper" and la.copper_layer not in copper_seen:
+            copper_seen.add(la.copper_layer)
+            lines.append(f"{prefix}copper_layer = {_q(la.copper_layer)}")
+        if la.material:
+            lines.append(f"{prefix}material = {_q(la.material)}")
+        if la.epsilon_r is not None and la.epsilon_r >= 1.0:
+            lines.append(f"{prefix}epsilon_r = {la.epsilon_r:g}")
+    lines.append("")
+    return lines
+
+
+def _face_guess(board: Board, roles: dict[str, tuple[str, str | None, str]]) -> tuple[str, str]:
+    sensing = [n for n, (r, _, _) in roles.items() if r in ("self", "receiver", "transmitter")]
+    cu = board.copper_layers()
+    if not cu or not sensing:
+        return "top", "no sensor nets recognised: top is the usual touched face"
+    top = sum(cu[0].by_net[n].area for n in sensing if n in cu[0].by_net)
+    bottom = sum(cu[-1].by_net[n].area for n in sensing if n in cu[-1].by_net) if len(cu) > 1 else 0.0
+    if bottom > top:
+        return "bottom", f"more sensor copper on the bottom layer ({bottom:.0f} mm2) than on top ({top:.0f} mm2)"
+    return "top", f"more sensor copper on the top layer ({top:.0f} mm2) than on the bottom ({bottom:.0f} mm2)"
+
+
+def starter_config(board: Board) -> str:
+    """The text of a starter sensorcheck.toml for ``board`` (deterministic: no date, sorted)."""
+    nets = [n for n in board.net_names() if not n.startswith("~")]
+    roles = guess_roles(nets)
+    face, face_why = _face_guess(board, roles)
+    lines: list[str] = [
+        f"# sensorcheck.toml: starter config written by `sensorcheck init` for {_comment(board.name)}.",
+        "# Every guess is marked REVIEW with the reason; check each before trusting a report.",
+        "",
+        'profile = "default"',
+        "",
+        "[board]",
+        f"# REVIEW: {face_why}",
+        f"face = {_q(face)}",
+        "",
+        "# REVIEW: the overlay (cover plate over the touch face) is not in fabrication data. Without it,",
+        "# rules that need its thickness report a note. List its layers from the touch surface down:",
+        "# [[overlay.layers]]",
+        '# material = "pmma"        # or epsilon_r = 2.8',
+        "# thickness_mm = 2.0",
+        "# [[overlay.layers]]",
+        '# material = "acrylic-adhesive"',
+        "# thickness_mm = 0.1",
+        "",
+    ]
+    lines += _stackup_lines(board.stackup)
+    lines += ["[roles]"]
+    if not nets:
+        lines += ["# REVIEW: the board carries no net names (no Gerber X2 net attributes, no IPC-D-356 netlist);",
+                  "# give roles by place instead, one per electrode:"]
+    by_role: dict[str, list[str]] = {}
+    for net in sorted(roles, key=natural_key):
+        by_role.setdefault(roles[net][0], []).append(net)
+    for role in ("transmitter", "receiver", "self", "shield", "guard", "ground"):
+        members = by_role.get(role, [])
+        if not members:
+            continue
+        whys = sorted({roles[n][2] for n in members})
+        lines.append(f"# REVIEW: {len(members)} net(s): {_comment('; '.join(whys))}")
+        lines.append(f"{role} = [{', '.join(_q(p) for p in _patterns(members, nets))}]")
+    agg = by_role.get("aggressor", [])
+    if agg:
+        kinds: dict[str, list[str]] = {}
+        for n in agg:
+            kinds.setdefault(roles[n][1] or "other", []).append(n)
+        items = []
+        for kind in sorted(kinds):
+            lines.append(f"# REVIEW: {kind}: {_comment(roles[kinds[kind][0]][2])} ({', '.join(kinds[kind][:6])}"
+                         + (" ..." if len(kinds[kind]) > 6 else "") + ")")
+            items += [f"{{pattern = {_q(p)}, kind = {_q(kind)}}}" for p in _patterns(kinds[kind], nets)]
+        lines.append("aggressor = [" + ", ".join(items) + "]")
+    unassigned = [n for n in nets if n not in roles]
+    if unassigned:
+        shown = ", ".join(sorted(unassigned, key=natural_key)[:12])
+        lines.append(f"# REVIEW: no role guessed for {len(unassigned)} net(s) ({_comment(shown)}"
+                     + (" ..." if len(unassigned) > 12 else "") + "); add any that sense or disturb")
+    lines += [
+        "# For boards without net names: the copper under a point takes the role (and a sensor name).",
+        "# [[roles.place]]",
+        '# layer = "top-copper"',
+        "# point_mm = [10.0, 20.0]",
+        '# role = "self"',
+        '# sensor = "B1"',
+        "",
+    ]
+    lines += _group_lines(by_role.get("self", []))
+    lines += [
+        "[finger]",
+        "# REVIEW: a battery product on a table couples weakly to earth: give device_ground in pF",
+        "# (e.g. 2.0) instead of earthed; that is what decides whether the touch signal turns around.",
+        'device_ground = "earthed"',
+        "",
+        "# REVIEW: give your controller's limits where it has them (pF):",
+        "# [controller]",
+        "# max_parasitic_pf = 30.0",
+        "# pin_capacitance_pf = 5.0",
+        "",
+        "# REVIEW: the ESD level the product must pass (IEC 61000-4-2):",
+        "# [esd]",
+        "# level_kv = 8.0",
+        '# mode = "air"',
+        "",
+    ]
+    return "\n".join(lines).rstrip() + "\n"
+
+
+def _group_lines(self_nets: list[str]) -> list[str]:
+    """[[sensors]] groups for self nets whose stem says slider or wheel (ordered by name)."""
+    stems: dict[str, list[str]] = {}
+    for n in self_nets:
+        s = _stem(n)
+        if s is not None and re.search(r"SLID|SLD|WHEEL|WHL|SCROLL", s.upper()):
+            stems.setdefault(s, []).append(n)
+    out: list[str] = []
+    for s, members in sorted(stems.items()):
+        kind = "wheel" if re.search(r"WHEEL|WHL", s.upper()) else "slider"
+        if len(members) < (3 if kind == "wheel" else 2):
+            continue
+        members = sorted(members, key=natural_key)
+        out += [
+            f"# REVIEW: a {kind} by name, segments in name order: check they run in this order on the board",
+            "[[sensors]]",
+            f"name = {_q(s.lower().strip('_-.') or kind)}",
+            f"kind = {_q(kind)}",
+            f"nets = [{', '.join(_q(n) for n in members)}]",
+            "",
+        ]
+    return out
+
+
+def _default_output(path: Path) -> Path:
+    return path / "sensorcheck.toml" if path.is_dir() else path.with_name("sensorcheck.toml")
+
+
+def _write_atomic(target: Path, text: str) -> None:
+    target.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=".sensorcheck-", suffix=".toml", dir=target.parent)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as f:
+            f.write(text)
+        os.replace(tmp, target)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def run(args: argparse.Namespace, *, loader: Callable[[Path], Board] | None = None) -> int:
+    """Write the starter config; 2 when the output exists and --force was not given."""
+    path = Path(args.path)
+    output = Path(args.output) if getattr(args, "output", None) else _default_output(path)
+    if output.exists() and not getattr(args, "force", False):
+        print(f"sensorcheck: error: {output} exists; use --force to overwrite it", file=sys.stderr)
+        return 2
+    if loader is None:
+        from sensorcheck.board.build import load_board
+
+        loader = load_board
+    board = loader(path)
+    text = starter_config(board)
+    _write_atomic(output, text)
+    review = sum(1 for line in text.splitlines() if "REVIEW:" in line)
+    print(f"wrote {output}: {review} item(s) marked REVIEW to check")
+    return 0
