@@ -7,6 +7,7 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
 import shapely
 from shapely.geometry.base import BaseGeometry
 
@@ -36,31 +37,41 @@ class HatchMeasure:
 
 
 def measure_hatch(copper_geom: BaseGeometry, window: BaseGeometry) -> HatchMeasure:
-    """Fill = copper area / window area; hatch line width and opening from the fill and the openings.
+    """Fill = copper area / window area, with the hatch's opening and line width read from the image.
 
-    For a square hatch of line width w and opening g, fill = 1 - (g/(g+w))^2 (derived).  The
-    opening g is the side of a square of the mean area of the copper's closed openings inside the
-    window; the pitch is then g / sqrt(1 - fill) and w = pitch - g.  A hatch with few whole openings
-    in the window gives a rough width; solid copper gives no opening.
+    The opening g is the side of a square of the mean area of the copper's closed openings inside
+    the window (clearances around what the window excludes do not count); the line width w is the
+    median distance from each opening to its nearest neighbour (the copper line between them), so
+    it does not depend on how the window cuts the hatch.  For a square hatch the fill of a whole
+    number of periods is then 1 - (g/(g+w))^2 (derived), which the tests check.  Solid copper (no
+    openings) gives no opening and no width.
     """
     if window.is_empty or window.area <= 0:
         return HatchMeasure(0.0, 0, None, None)
     c = copper_geom.intersection(window) if not copper_geom.is_empty else copper_geom
     fill = min(1.0, c.area / window.area) if not c.is_empty else 0.0
-    holes: list[float] = []
+    openings: list[BaseGeometry] = []
     for poly in getattr(c, "geoms", [c]):
         if poly.geom_type != "Polygon":
             continue
         for ring in poly.interiors:
-            a = shapely.Polygon(ring).area
-            if a > 1e-4:
-                holes.append(a)
-    if not holes or fill <= 0 or fill >= 1:
-        return HatchMeasure(fill, len(holes), None, None)
-    g = math.sqrt(sum(holes) / len(holes))
-    # the fill counts copper only; with whole openings only, the pitch follows from the hatch formula
-    pitch = g / math.sqrt(max(1e-12, 1.0 - fill))
-    return HatchMeasure(fill, len(holes), g, max(0.0, pitch - g))
+            opening = shapely.Polygon(ring)
+            # an opening that covers part of the window's own hole (the cut-out around the sensor)
+            # is a clearance, not a hatch opening
+            if opening.area > 1e-4 and window.covers(opening):
+                openings.append(opening)
+    if not openings:
+        return HatchMeasure(fill, 0, None, None)
+    g = math.sqrt(sum(o.area for o in openings) / len(openings))
+    if len(openings) < 2:
+        return HatchMeasure(fill, 1, g, None)
+    tree = shapely.STRtree(openings)
+    idx, dist = tree.query_nearest(openings, exclusive=True, return_distance=True)
+    nearest: dict[int, float] = {}
+    for i, d in zip(idx[0], dist):
+        nearest[int(i)] = min(float(d), nearest.get(int(i), math.inf))
+    w = float(np.median(list(nearest.values())))
+    return HatchMeasure(fill, len(openings), g, w)
 
 
 def _hatch_text(m: HatchMeasure) -> str:
