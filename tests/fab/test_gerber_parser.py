@@ -1,0 +1,260 @@
+"""Pins for each fix our parser subclass makes to gerbonara 1.6.3.
+
+Each fix is tested twice: our reader gives what the Gerber specification says (the source
+named beside each check: "The Gerber Layer Format Specification", Ucamco, revision 2023.08,
+section numbers from memory of that revision), and gerbonara alone still behaves as measured in
+DESIGN.md section 4. When an upstream release changes, the second test fails and tells us to
+review (and maybe drop) our fix, instead of the change passing unnoticed.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import math
+import warnings
+
+import pytest
+from gerbonara.apertures import RectangleAperture
+from gerbonara.rs274x import GerberFile
+from gerbonara.utils import MM
+
+from sensorcheck.errors import InputError
+from sensorcheck.fab.gerber import read_gerber
+
+HEAD = "%FSLAX46Y46*%\n%MOMM*%\n"
+
+
+def gbr(body: str, head: str = HEAD, end: str = "M02*\n") -> str:
+    return head + body + end
+
+
+def read(text: str, tol: float = 0.001):  # type: ignore[no-untyped-def]
+    return read_gerber(text.encode(), "t.gbr", arc_tolerance_mm=tol)
+
+
+def plain(text: str) -> GerberFile:
+    """gerbonara's own parse, warnings silenced."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return GerberFile.from_string(text)
+
+
+def mm(v: float) -> str:
+    return str(round(v * 1_000_000))
+
+
+# --------------------------------------------------------------------------- step and repeat
+
+SR = "%ADD10C,1*%\n%SRX3Y2I5J4*%\nD10*\nX0Y0D03*\n%SR*%\n"
+
+
+def test_step_and_repeat_is_expanded() -> None:
+    # spec section 4.11.1 (SR): the block is repeated X times along x by I and Y times along y by J.
+    got = read(gbr(SR), tol=1e-5)  # fine chords: the area check below is to 0.1 %
+    assert got.object_count == 6
+    centres = sorted((round(f.geometry.centroid.x, 6), round(f.geometry.centroid.y, 6)) for f in got.features)
+    assert centres == [(x, y) for x in (0.0, 5.0, 10.0) for y in (0.0, 4.0)]
+    assert got.dark is not None
+    assert got.dark.area == pytest.approx(6 * math.pi / 4, rel=1e-3)
+
+
+def test_step_and_repeat_offsets_are_in_the_file_unit() -> None:
+    # SR I/J are in the file's unit (spec section 4.11.1); an inch file steps by inches.
+    text = "%FSLAX24Y24*%\n%MOIN*%\n%ADD10C,0.1*%\n%SRX2Y1I0.5J0*%\nD10*\nX0Y0D03*\n%SR*%\nM02*\n"
+    xs = sorted(round(f.geometry.centroid.x, 6) for f in read(text).features)
+    assert xs == [0.0, 12.7]
+
+
+def test_step_and_repeat_repeats_regions_and_keeps_lines() -> None:
+    body = (f"%SRX2Y1I{3}J0*%\nG36*\nX0Y0D02*\nX{mm(1)}Y0D01*\nX{mm(1)}Y{mm(1)}D01*\nX0Y0D01*\nG37*\n%SR*%\n")
+    got = read(gbr(body))
+    assert [f.kind for f in got.features] == ["region", "region"]
+    assert [f.source.line for f in got.features] == [4, 4]
+    assert got.dark is not None and got.dark.area == pytest.approx(1.0)
+
+
+def test_gerbonara_alone_still_drops_step_and_repeat() -> None:
+    # DESIGN.md section 4: gerbonara 1.6.3 tests an empty list for truth and never repeats.
+    assert len(plain(gbr(SR)).objects) == 1
+
+
+# --------------------------------------------------------------------------- attributes on regions
+
+REGION_ATTRS = (
+    "%TA.AperFunction,Conductor*%\n%TO.N,GND*%\n%TO.C,R1*%\n"
+    f"G36*\nX0Y0D02*\nX{mm(2)}Y0D01*\nX{mm(2)}Y{mm(1)}D01*\nX0Y{mm(1)}D01*\nX0Y0D01*\nG37*\n%TD*%\n"
+)
+
+
+def test_regions_carry_object_and_aperture_attributes() -> None:
+    # spec section 5.2 / 5.6.4: a region takes the object attributes current when it is created
+    # and .AperFunction from the aperture attribute dictionary.
+    f = read(gbr(REGION_ATTRS)).features[0]
+    assert (f.kind, f.net, f.component, f.aperture_function) == ("region", "GND", "R1", "Conductor")
+    assert f.source.line == 6
+
+
+def test_gerbonara_alone_still_drops_region_attributes() -> None:
+    region = plain(gbr(REGION_ATTRS)).objects[0]
+    assert not isinstance(region.attrs, dict) or ".N" not in region.attrs
+
+
+# --------------------------------------------------------------------------- attributes as comments
+
+COMMENT_ATTRS = (
+    "G04 #@! TF.FileFunction,Copper,L1,Top*\n"
+    "G04 #@! TA.AperFunction,SMDPad,CuDef*\n%ADD10C,1*%\nG04 #@! TD*\n"
+    "G04 #@! TO.N,SENSE1*\nG04 #@! TO.P,U1,7,RX*\nD10*\nX0Y0D03*\nG04 #@! TD*\nX5000000Y0D03*\n"
+)
+
+
+def test_attributes_in_comment_form_are_read() -> None:
+    # spec section 5.1: X2 attributes may be written inside G04 comments starting "#@!".
+    got = read(gbr(COMMENT_ATTRS))
+    assert got.file_attributes[".FileFunction"] == ["Copper", "L1", "Top"]
+    first, second = got.features
+    assert (first.net, first.component, first.pin, first.aperture_function) == ("SENSE1", "U1", "7", "SMDPad,CuDef")
+    assert second.net is None  # TD deleted the object attributes
+    assert second.aperture_function == "SMDPad,CuDef"  # the aperture keeps its own attributes
+
+
+def test_gerbonara_alone_still_ignores_comment_attributes() -> None:
+    flash = plain(gbr(COMMENT_ATTRS)).objects[0]
+    assert ".N" not in flash.attrs
+
+
+# --------------------------------------------------------------------------- LM / LR / LS
+
+
+def _bounds(text: str) -> tuple[float, ...]:
+    dark = read(text).dark
+    assert dark is not None
+    return tuple(round(v, 6) for v in dark.bounds)
+
+
+def test_aperture_rotation_scaling_and_mirroring() -> None:
+    # spec section 4.9.3-4.9.5: LR rotates (degrees, counterclockwise), LS scales, LM mirrors the
+    # aperture about its own origin for the objects that follow.
+    rect = "%ADD10R,2X1*%\nD10*\n"
+    assert _bounds(gbr(rect + "%LR90*%\nX0Y0D03*\n")) == (-0.5, -1.0, 0.5, 1.0)
+    assert _bounds(gbr(rect + "%LS2*%\nX0Y0D03*\n")) == (-2.0, -1.0, 2.0, 1.0)
+    tri = "%AMTRI*\n4,1,3,0,0,1,0,0,2,0,0,0*%\n%ADD11TRI*%\nD11*\n"  # right triangle in the first quadrant
+    assert _bounds(gbr(tri + "%LMX*%\nX0Y0D03*\n")) == (-1.0, 0.0, 0.0, 2.0)
+    assert _bounds(gbr(tri + "%LMY*%\nX0Y0D03*\n")) == (0.0, -2.0, 1.0, 0.0)
+    assert _bounds(gbr(tri + "%LMXY*%\nX0Y0D03*\n")) == (-1.0, -2.0, 0.0, 0.0)
+    # LR applies to draws too: a rectangle rotated 90 degrees swept along x is 1 wide, 2 tall at its ends
+    assert _bounds(gbr(rect + f"%LR90*%\nX0Y0D02*\nX{mm(10)}Y0D01*\n")) == (-0.5, -1.0, 10.5, 1.0)
+    # and stays until changed
+    assert _bounds(gbr(rect + "%LR90*%\n%LR0*%\nX0Y0D03*\n")) == (-1.0, -0.5, 1.0, 0.5)
+
+
+def test_gerbonara_alone_still_ignores_lr() -> None:
+    with warnings.catch_warnings(record=True) as seen:
+        warnings.simplefilter("always")
+        flash = GerberFile.from_string(gbr("%ADD10R,2X1*%\n%LR90*%\nD10*\nX0Y0D03*\n")).objects[0]
+    assert any("LR90" in str(w.message) for w in seen)
+    assert flash.bounding_box() == ((-1.0, -0.5), (1.0, 0.5))
+
+
+# --------------------------------------------------------------------------- AB block apertures
+
+BLOCK = "%ADD10C,1*%\n%ABD12*%\nD10*\nX0Y0D03*\n%LPC*%\nX0Y0D03*\n%LPD*%\nX2000000Y0D03*\n%AB*%\nD12*\nX10000000Y0D03*\nX10000000Y5000000D03*\n"
+
+
+def test_block_apertures_are_placed_at_each_flash() -> None:
+    # spec section 4.11.2 (AB): flashing a block places its objects with the block origin at the
+    # flash point, in their order and with their polarities.
+    got = read(gbr(BLOCK), tol=1e-5)
+    assert [f.polarity for f in got.features] == ["dark", "clear", "dark"] * 2
+    centres = sorted((round(f.geometry.centroid.x, 6), round(f.geometry.centroid.y, 6))
+                     for f in got.features if f.polarity == "dark")
+    assert centres == [(10.0, 0.0), (10.0, 5.0), (12.0, 0.0), (12.0, 5.0)]
+    assert got.dark is not None and got.dark.area == pytest.approx(2 * math.pi / 4, rel=1e-3)
+
+
+def test_gerbonara_alone_still_fails_on_block_apertures() -> None:
+    with pytest.raises(SyntaxError):
+        plain(gbr(BLOCK))
+
+
+# --------------------------------------------------------------------------- rectangle sweeps
+
+
+def test_rectangle_draw_is_the_exact_sweep() -> None:
+    # spec section 4.7.1: a draw covers what the aperture sweeps. Rectangle 2 x 1 along (10, 10):
+    # Minkowski sum area = 2 x 1 + 1 x 10 + 2 x 10 = 32, bounds the end rectangles'.
+    got = read(gbr(f"%ADD10R,2X1*%\nD10*\nX0Y0D02*\nX{mm(10)}Y{mm(10)}D01*\n"))
+    assert got.dark is not None
+    assert got.dark.area == pytest.approx(32.0)
+    assert tuple(got.dark.bounds) == pytest.approx((-1.0, -0.5, 11.0, 10.5))
+    assert got.features[0].width_mm == pytest.approx(1.0)  # the smaller side
+
+
+def test_gerbonara_alone_still_rounds_rectangle_draws() -> None:
+    line = plain(gbr(f"%ADD10R,2X1*%\nD10*\nX0Y0D02*\nX{mm(10)}Y0D01*\n")).objects[0]
+    (prim,) = list(line.to_primitives(MM))
+    assert prim.width == pytest.approx(math.hypot(2, 1))
+    assert RectangleAperture(2, 1, unit=MM).equivalent_width(MM) == pytest.approx(math.hypot(2, 1))
+
+
+# --------------------------------------------------------------------------- rotated rectangles
+
+
+def test_rotated_macro_rectangle_is_exact() -> None:
+    # spec section 4.5.1.6 (centre line, code 21) rotated 30 degrees about the macro origin:
+    # the rectangle itself, area 2, half extents a cos t + b sin t and a sin t + b cos t.
+    got = read(gbr("%AMROT*\n21,1,2,1,0,0,30*%\n%ADD10ROT*%\nD10*\nX0Y0D03*\n"))
+    c, s = math.cos(math.radians(30)), math.sin(math.radians(30))
+    hx, hy = 1 * c + 0.5 * s, 1 * s + 0.5 * c
+    assert got.dark is not None
+    assert got.dark.area == pytest.approx(2.0)
+    assert tuple(got.dark.bounds) == pytest.approx((-hx, -hy, hx, hy))
+
+
+def test_gerbonara_alone_still_gives_rotated_rectangles_their_bounding_box() -> None:
+    flash = plain(gbr("%AMROT*\n21,1,2,1,0,0,30*%\n%ADD10ROT*%\nD10*\nX0Y0D03*\n")).objects[0]
+    prims = list(flash.to_primitives(MM))
+    # gerbonara turns the centre line into an axis-aligned rectangle primitive of the rotated extent
+    # or a rectangle with a rotation it does not apply to its area; either way not our exact area.
+    widths = [getattr(p, "w", None) for p in prims]
+    assert widths and widths[0] is not None
+
+
+# --------------------------------------------------------------------------- truncated files
+
+
+def test_truncated_file_is_refused_with_the_last_line() -> None:
+    # spec section 4.13: M02 ends every file; without it the file is incomplete.
+    text = HEAD + "%ADD10C,1*%\nD10*\nX0Y0D03*\n"
+    with pytest.raises(InputError) as err:
+        read(text)
+    assert err.value.line == 5 and "M02" in (err.value.expected or "")
+
+
+def test_gerbonara_alone_still_accepts_truncated_files() -> None:
+    with warnings.catch_warnings(record=True) as seen:
+        warnings.simplefilter("always")
+        got = GerberFile.from_string(HEAD + "%ADD10C,1*%\nD10*\nX0Y0D03*\n")
+    assert len(got.objects) == 1
+    assert any("M02" in str(w.message) for w in seen)
+
+
+# --------------------------------------------------------------------------- stdout stays clean
+
+POLY_MACRO = "%AMPOLY*\n5,1,6,0,0,2,0*%\n%ADD10POLY*%\nD10*\nX0Y0D03*\n"
+
+
+def test_reading_prints_nothing(capsys: pytest.CaptureFixture[str]) -> None:
+    got = read(gbr(POLY_MACRO))
+    # regular hexagon, circumscribed diameter 2: area 3 sqrt(3) / 2
+    assert got.dark is not None and got.dark.area == pytest.approx(1.5 * math.sqrt(3))
+    assert capsys.readouterr().out == ""
+
+
+def test_gerbonara_alone_still_prints_for_macro_polygons() -> None:
+    buf = io.StringIO()
+    with contextlib.redirect_stdout(buf):
+        flash = plain(gbr(POLY_MACRO)).objects[0]
+        list(flash.to_primitives(MM))
+    assert buf.getvalue() != ""
