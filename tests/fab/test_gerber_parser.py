@@ -214,11 +214,11 @@ def test_rotated_macro_rectangle_is_exact() -> None:
 
 def test_gerbonara_alone_still_gives_rotated_rectangles_their_bounding_box() -> None:
     flash = plain(gbr("%AMROT*\n21,1,2,1,0,0,30*%\n%ADD10ROT*%\nD10*\nX0Y0D03*\n")).objects[0]
-    prims = list(flash.to_primitives(MM))
-    # gerbonara turns the centre line into an axis-aligned rectangle primitive of the rotated extent
-    # or a rectangle with a rotation it does not apply to its area; either way not our exact area.
-    widths = [getattr(p, "w", None) for p in prims]
-    assert widths and widths[0] is not None
+    (prim,) = list(flash.to_primitives(MM))
+    pts = prim.to_arc_poly().outline  # gerbonara's polygon for the rotated rectangle
+    area = 0.5 * abs(sum(x0 * y1 - x1 * y0 for (x0, y0), (x1, y1) in zip(pts, pts[1:] + pts[:1])))
+    c, s = math.cos(math.radians(30)), math.sin(math.radians(30))
+    assert area == pytest.approx(4 * (c + 0.5 * s) * (s + 0.5 * c))  # the bounding box, not 2
 
 
 # --------------------------------------------------------------------------- truncated files
