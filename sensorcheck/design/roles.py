@@ -28,6 +28,7 @@ class RoleAssignment:
 
     roles: dict[str, tuple[Role, AggressorKind | None]] = field(default_factory=dict)
     sensor_of: dict[str, str] = field(default_factory=dict)  # net -> sensor name given by pattern or place
+    by_place: set[str] = field(default_factory=set)  # nets whose role came from [[roles.place]]
     notes: list[str] = field(default_factory=list)
 
 
@@ -106,6 +107,7 @@ def assign_roles(board: Board, config: Config) -> RoleAssignment:
             continue
         net = hit[0]
         out.roles[net] = (place.role, "other" if place.role == "aggressor" else None)
+        out.by_place.add(net)
         if place.sensor:
             out.sensor_of[net] = place.sensor
     return out

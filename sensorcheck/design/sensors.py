@@ -381,7 +381,7 @@ def _make_sensor(name: str, kind: SensorKind, electrodes: list[Electrode], margi
                  columns: Sequence[str] = ()) -> Sensor:
     rank = {n: i for i, n in enumerate(face_order)}
     rx_like = [e for e in electrodes if e.role in ("receiver", "self")] or electrodes
-    layer = min((e.layer for e in rx_like), key=lambda la: rank.get(la, 99))
+    layer = min((e.layer for e in rx_like), key=lambda la: rank.get(la, 99)) if rx_like else face_order[0]
     return Sensor(name=name, kind=kind, layer=layer, electrodes=electrodes,
                   zone=sensing_zone([e.geometry for e in electrodes], margin), zone_margin_mm=margin,
                   order=tuple(order), rows=tuple(rows), columns=tuple(columns), how_found=how)
@@ -444,6 +444,9 @@ def build_design(board: Board, config: Config) -> Design:
             "[[roles.place]] for boards without net names, or [[sensors]] groups; "
             "`sensorcheck init PATH` writes a starter file"
         )
+    for s in sensors:
+        if s.how_found == "roles" and any(n in ra.by_place for n in s.nets):
+            s.how_found = "place"
     names: dict[str, int] = {}
     for s in sensors:
         names[s.name] = names.get(s.name, 0) + 1
@@ -630,7 +633,8 @@ def _self_sensors(board: Board, nets: list[str], sensor_of: dict[str, str], marg
                   face_order: list[str], used: set[str], notes: list[str]) -> list[Sensor]:
     electrodes: dict[str, Electrode] = {}
     for n in nets:
-        e = self_electrode(board, n, "self", face, notes)
+        e = (whole_net_electrode(board, n, "self", face) if "PROX" in n.upper()
+             else self_electrode(board, n, "self", face, notes))
         if e is not None:
             electrodes[n] = e
     out: list[Sensor] = []
@@ -677,8 +681,7 @@ def _self_sensors(board: Board, nets: list[str], sensor_of: dict[str, str], marg
     for n in nets:
         if n in grouped or n not in electrodes:
             continue
-        e = electrodes[n]
         kind: SensorKind = "proximity" if "PROX" in n.upper() else "self-button"
-        out.append(_make_sensor(sensor_of.get(n, n), kind, [e], margin, "roles", face_order))
+        out.append(_make_sensor(sensor_of.get(n, n), kind, [electrodes[n]], margin, "roles", face_order))
     used.update(nets)
     return out

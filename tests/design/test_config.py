@@ -412,3 +412,35 @@ def test_find_config(tmp_path: Path) -> None:
     loose = tmp_path / "loose" / "fab"
     loose.mkdir(parents=True)
     assert find_config(loose) is None
+
+
+# --------------------------------------------------------------------------- robustness
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(data=st.data())
+def test_mutated_config_gives_config_error_or_config(tmp_path: Path, data: st.DataObject) -> None:
+    """Byte-level mutations of the full example: a Config or a ConfigError, never another exception."""
+    raw = bytearray(FULL.encode())
+    for _ in range(data.draw(st.integers(1, 4))):
+        op = data.draw(st.sampled_from(["delete", "insert", "replace"]))
+        pos = data.draw(st.integers(0, len(raw) - 1))
+        if op == "delete":
+            del raw[pos : pos + data.draw(st.integers(1, 12))]
+        else:
+            chunk = data.draw(st.sampled_from([b"-", b"0", b"[", b"]", b"'", b'"', b"=", b"\n", b"x", b"1e999",
+                                               b"true", b"{", b"}", b",", b"\xff", b"nan", b"[[", b"."]))
+            if op == "insert":
+                raw[pos:pos] = chunk
+            else:
+                raw[pos : pos + len(chunk)] = chunk
+    p = tmp_path / "mutated.toml"
+    p.write_bytes(bytes(raw))
+    try:
+        load_config(p, known_rules=KNOWN, profiles_dir=tmp_path)
+    except ConfigError as exc:
+        assert exc.file == str(p)
+        assert exc.describe().startswith(str(p))

@@ -365,3 +365,22 @@ def test_conflicting_patterns_keep_the_first() -> None:
     d = build_design(board, cfg(self=["TOUCH1"], ground=["TOUCH*", "GND"]))
     assert d.roles["TOUCH1"][0] == "self"
     assert any("keeps the first" in n for n in d.notes)
+
+
+def test_proximity_loop_by_name_keeps_all_its_copper() -> None:
+    """A thin loop (0.5 mm wide, 40 x 20 mm) is a proximity electrode: none of it is 'trace'."""
+    loop = box(0, 0, 40, 20).difference(box(0.5, 0.5, 39.5, 19.5))
+    d = build_design(make_board({"top-copper": {"PROX1": loop}}), cfg(self=["PROX*"]))
+    (s,) = d.sensors
+    assert s.kind == "proximity"
+    assert s.electrodes[0].geometry.area == pytest.approx(40 * 20 - 39 * 19)
+    # the zone fills the loop's inside: a hand anywhere over it is in the zone
+    assert s.zone.area == pytest.approx(42 * 22 - (4 - math.pi), rel=1e-3)
+
+
+def test_place_sets_how_found() -> None:
+    board = make_board({"top-copper": {"~n1": disc(0, 0, 5)}})
+    c = Config()
+    c.roles_by_place = [RoleByPlace(layer="top-copper", role="self", point_mm=(0, 0), sensor="K")]
+    (s,) = build_design(board, c).sensors
+    assert (s.name, s.how_found) == ("K", "place")
