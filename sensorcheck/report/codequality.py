@@ -57,4 +57,4 @@ def issues(results: Sequence[Result]) -> list[dict[str, Any]]:
 
 def render(results: Sequence[Result]) -> str:
     """The report: a JSON array (``[]`` when there is nothing), newline at the end, no BOM."""
-    return json.dumps(issues(results), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+    return json.dumps(issues(results), indent=2, sort_keys=True, ensure_ascii=True) + "\n"

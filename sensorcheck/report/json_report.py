@@ -20,7 +20,8 @@ Schema, draft 2020-12)::
     }
 
 Keys are sorted, findings are in ``finding.sort_key`` order and sensors by name, so the same
-result gives the same bytes. Numbers that are not finite become ``null``. Drawing geometry
+result gives the same bytes. The text is pure ASCII (``\uXXXX`` escapes): names keep every
+character exactly, yet no terminal escape or bidi override ever appears raw in the file. Numbers that are not finite become ``null``. Drawing geometry
 (outline rings, board layers) is not included: the HTML page carries it.
 """
 
@@ -327,4 +328,4 @@ def report_data(results: Sequence[Result]) -> dict[str, Any]:
 
 def render(results: Sequence[Result]) -> str:
     """The JSON report, indented, keys sorted, ending in a newline."""
-    return json.dumps(report_data(results), indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
+    return json.dumps(report_data(results), indent=2, sort_keys=True, ensure_ascii=True, allow_nan=False) + "\n"

@@ -26,6 +26,7 @@ from sensorcheck.report.common import (
     ordered,
     rule_catalogue,
     rule_ids_run,
+    safe_text,
     value_text,
 )
 from sensorcheck.rules.finding import Finding, Result
@@ -44,6 +45,8 @@ def _line(f: Finding) -> str:
     vt = value_text(f)
     if vt:
         parts.append(f"({vt})")
+    if f.nets:
+        parts.append(f"nets {safe_text(', '.join(f.nets))}")
     if f.fingerprint:
         parts.append(f"fingerprint {f.fingerprint}")
     if f.waived_by is not None:

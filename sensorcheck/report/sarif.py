@@ -207,4 +207,4 @@ def log_data(results: Sequence[Result]) -> dict[str, Any]:
 
 def render(results: Sequence[Result]) -> str:
     """The SARIF 2.1.0 log as indented JSON with sorted keys."""
-    return json.dumps(log_data(results), indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
+    return json.dumps(log_data(results), indent=2, sort_keys=True, ensure_ascii=True, allow_nan=False) + "\n"

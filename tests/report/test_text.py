@@ -1,0 +1,61 @@
+"""Terminal report: content, and no control codes unless colour is asked for (ECMA-48 control
+sequences start with ESC, 0x1b; C1 CSI is 0x9b)."""
+
+from __future__ import annotations
+
+import os
+import re
+import subprocess
+import sys
+from pathlib import Path
+
+from sensorcheck.report import render
+from sensorcheck.report.text import render as render_text
+from sensorcheck.rules.finding import Result
+
+_CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f]")
+
+
+def test_plain_text_has_no_control_codes(results: list[Result]) -> None:
+    text = render(results, "text")
+    assert not _CONTROL.search(text)
+    assert text.isascii() or "\u202e" not in text  # bidi override shown as an escape
+    assert "\\u202egnp.exe" in text
+    assert "\\x1b[31mRED" in text
+
+
+def test_colour_only_when_asked(results: list[Result]) -> None:
+    assert "\x1b[" in render_text(results, color=True)
+
+
+def test_environment_cannot_force_colour(tmp_path: Path) -> None:
+    # rich honours FORCE_COLOR/TTY_COMPATIBLE when not told otherwise; our choice overrides them.
+    code = (
+        "import sys; sys.path.insert(0, sys.argv[1]);"
+        "from report.sample import make_results; from sensorcheck.report import render;"
+        "sys.stdout.write(render(make_results(), 'text'))"
+    )
+    env = {**os.environ, "FORCE_COLOR": "1", "TTY_COMPATIBLE": "1", "COLUMNS": "40"}
+    tests_dir = str(Path(__file__).resolve().parents[1])
+    out = subprocess.run([sys.executable, "-c", code, tests_dir], env=env, capture_output=True, text=True, check=True).stdout
+    assert not _CONTROL.search(out)
+    assert max(len(line) for line in out.splitlines()) <= 100  # width fixed, not COLUMNS
+
+
+def test_content(one_board: list[Result]) -> None:
+    text = render(one_board, "text")
+    lines = text.splitlines()
+    # Grouped by severity (worst first), then rule.
+    heads = [line for line in lines if re.match(r"^(ERRORS|WARNINGS|NOTES) \(\d+\)$", line)]
+    assert heads == ["ERRORS (3)", "WARNINGS (3)", "NOTES (3)"]
+    assert text.index("routing.aggressor-near-trace") < text.index("routing.via-in-zone") < text.index("WARNINGS")
+    # Sensor table with key numbers and the estimate's model.
+    assert "rx_area_mm2 = 28.27" in text and "model: BEM 2.5-D, 412 panels" in text
+    # Waived with reason, internal errors, notes, cautions.
+    assert "reason: thin <b>glass</b> | front\\npanel, 50% approved (until 2027-06-30)" in text
+    assert "INTERNAL ERRORS (1)" in text and "singular matrix" in text
+    assert "no job file: stackup from sensorcheck.toml" in text
+    assert "Caution: Estimates are not measurements" in text
+    assert "3 errors, 3 warnings, 3 notes, 1 waived, 1 internal error; 7 rules ran" in text
+    # Markup in names is shown, not interpreted.
+    assert "[bold]B[/bold] & <b>" in text
