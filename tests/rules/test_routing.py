@@ -1,0 +1,157 @@
+"""routing.* rules on hand-drawn boards; overlap areas and run lengths computed by hand below."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from shapely.geometry import box
+
+from .build import draw, electrode, make_board, make_config, make_design, region, sensor, via, with_traces
+from .helpers import run_one
+
+PAD = box(-6, -6, 6, 6)  # 12 x 12 button B1 at the origin; zone margin 5 mm
+
+
+def button_board(*extra, roles=None, holes=(), b1_trace=None, second=False):
+    shapes = [region("top-copper", PAD, "TOUCH1"), *extra]
+    if b1_trace is not None:
+        shapes.append(b1_trace)
+    if second:
+        shapes.append(region("top-copper", box(24, -6, 36, 6), "TOUCH2"))
+    board = make_board(shapes, holes=holes)
+    sensors = [sensor("B1", "self-button", [with_traces(board, electrode("TOUCH1", "self", PAD))])]
+    if second:
+        sensors.append(sensor("B2", "self-button", [with_traces(board, electrode("TOUCH2", "self", box(24, -6, 36, 6)))]))
+    r = {"TOUCH1": "self", "TOUCH2": "self", "GND": "ground", **(roles or {})}
+    return make_design(board, make_config(1.0), r, sensors)
+
+
+def test_foreign_trace_under_electrode_is_an_error() -> None:
+    # a 0.2 mm trace on the bottom crossing under the 12 mm pad: 0.2 x 12 = 2.4 mm2 under it
+    d = button_board(draw("bottom-copper", [(-20, 0), (20, 0)], 0.2, "SIG", line=42))
+    (f,) = run_one("routing.foreign-copper-in-zone", d)
+    assert f.severity == "error" and f.value == pytest.approx(2.4, rel=1e-6)
+    assert f.location.layer == "bottom-copper" and f.location.line == 42 and f.nets == ("SIG",)
+
+
+def test_foreign_trace_in_zone_warns() -> None:
+    # at y = 8 (2 mm outside the pad, inside the 5 mm zone) the zone is 2 x (6 + sqrt(5^2 - 2^2)) wide
+    d = button_board(draw("bottom-copper", [(-20, 8), (20, 8)], 0.2, "SIG"))
+    (f,) = run_one("routing.foreign-copper-in-zone", d)
+    width = 2 * (6 + math.sqrt(25 - 4))
+    assert f.severity == "warning" and f.value == pytest.approx(0.2 * width, rel=0.01)
+
+
+@pytest.mark.parametrize("net, y", [("SIG", 15.0), ("GND", 0.0)])
+def test_no_foreign_copper(net: str, y: float) -> None:
+    # GOOD: outside the zone, or ground (a reference net) under the pad (judged by hatch rules)
+    d = button_board(draw("bottom-copper", [(-20, y), (20, y)], 0.2, net))
+    assert run_one("routing.foreign-copper-in-zone", d) == []
+
+
+@pytest.mark.parametrize(
+    "hole, expect",
+    [
+        (via(0, 8, net="SIG"), 2.0),  # BAD: signal via 2 mm from the pad, inside the 5 mm zone
+        (via(0, 6.3, net="GND"), 0.3),  # BAD: ground via inside the 0.5 mm clearance
+        (via(0, 8, net="GND"), None),  # GOOD: ground stitching outside the clearance
+        (via(0, 12, net="SIG"), None),  # GOOD: outside the zone
+        (via(0, 0, net="TOUCH1"), None),  # GOOD: the sensor's own via
+    ],
+)
+def test_foreign_via(hole, expect) -> None:
+    found = run_one("routing.foreign-via-in-zone", button_board(holes=[hole]))
+    if expect is None:
+        assert found == []
+    else:
+        (f,) = found
+        assert f.severity == "error" and f.value == pytest.approx(expect) and f.location.file == "drill.drl"
+
+
+def test_trace_under_other_electrode() -> None:
+    # B1's trace on the bottom from (0,0) to (30,0) passes under B2 (x 24..36): 6 mm x 0.2 plus a half round cap
+    bad = button_board(b1_trace=draw("bottom-copper", [(0, 0), (30, 0)], 0.2, "TOUCH1", line=7), second=True)
+    (f,) = run_one("routing.trace-under-electrode", bad)
+    assert f.severity == "error" and f.sensor == "B2" and f.location.line == 7
+    assert f.value == pytest.approx(6 * 0.2 + math.pi * 0.1**2 / 2, rel=0.01)
+    good = button_board(b1_trace=draw("bottom-copper", [(0, 0), (0, -30)], 0.2, "TOUCH1"), second=True)
+    assert run_one("routing.trace-under-electrode", good) == []
+
+
+@pytest.mark.parametrize(
+    "shape, kind, expect",
+    [
+        (region("bottom-copper", box(-1, -1, 1, 1), "LED1"), "led", ("error", 4.0)),  # LED pad under the button
+        (draw("top-copper", [(-10, 8.1), (10, 8.1)], 0.2, "LED1"), "led", ("warning", 2.0)),  # 2 mm away, limit 4
+        (draw("top-copper", [(-10, 11.1), (10, 11.1)], 0.2, "LED1"), "led", None),  # 5 mm away
+        (draw("top-copper", [(-10, 8.1), (10, 8.1)], 0.2, "CLK"), "clock", None),  # 2 mm, limit 1 mm
+        (draw("top-copper", [(-10, 6.6), (10, 6.6)], 0.2, "CLK"), "clock", ("warning", 0.5)),
+    ],
+)
+def test_aggressor_near_sensor(shape, kind, expect) -> None:
+    d = button_board(shape, roles={shape.net: ("aggressor", kind)})
+    found = run_one("routing.aggressor-near-sensor", d)
+    if expect is None:
+        assert found == []
+        return
+    (f,) = found
+    assert f.severity == expect[0]
+    if expect[0] == "error":
+        assert f.value == pytest.approx(expect[1])  # the 2 x 2 mm LED pad lies wholly under the button
+    else:
+        assert f.value == pytest.approx(expect[1], abs=1e-6) and f.unit == "mm"
+
+
+def test_aggressor_parallel_run() -> None:
+    # B1's trace along y = 0 from x = 6 to 40; an LED line at y = 0.7 from x = 10 to 30 (0.2 mm wide).
+    # Trace centre line within 1 mm of the LED copper: 20 mm plus 2 x sqrt(1.1^2 - 0.7^2) at the round ends.
+    trace = draw("top-copper", [(6, 0), (40, 0)], 0.2, "TOUCH1")
+    led = draw("top-copper", [(10, 0.7), (30, 0.7)], 0.2, "LED1")
+    (f,) = run_one("routing.aggressor-parallel", button_board(led, b1_trace=trace, roles={"LED1": ("aggressor", "led")}))
+    assert f.value == pytest.approx(20 + 2 * math.sqrt(1.1**2 - 0.7**2), rel=0.005)
+    far = draw("top-copper", [(10, 5), (30, 5)], 0.2, "LED1")
+    assert run_one("routing.aggressor-parallel", button_board(far, b1_trace=trace, roles={"LED1": ("aggressor", "led")})) == []
+
+
+def two_nodes(tx2_x: float):
+    """K1 at the origin (RX0 trace down x = 0 to y = -30); K2 at x = 40 whose TX trace runs to x = tx2_x, y -12..-28."""
+    rx1, tx1 = box(-4, -4, 4, 4), box(-7, -7, 7, 7).difference(box(-5, -5, 5, 5))
+    rx2, tx2 = box(36, -4, 44, 4), box(33, -7, 47, 7).difference(box(35, -5, 45, 5))
+    shapes = [
+        region("top-copper", rx1, "RX0"), region("top-copper", tx1, "TX0"),
+        region("top-copper", rx2, "RX1"), region("top-copper", tx2, "TX1"),
+        draw("bottom-copper", [(0, -4), (0, -30)], 0.2, "RX0", line=3),
+        draw("bottom-copper", [(40, -7), (40, -12), (tx2_x, -12), (tx2_x, -28)], 0.2, "TX1"),
+    ]
+    board = make_board(shapes)
+    k1 = sensor("K1", "mutual-node", [with_traces(board, electrode("TX0", "transmitter", tx1)),
+                                       with_traces(board, electrode("RX0", "receiver", rx1))])
+    k2 = sensor("K2", "mutual-node", [with_traces(board, electrode("TX1", "transmitter", tx2)),
+                                       with_traces(board, electrode("RX1", "receiver", rx2))])
+    roles = {"TX0": "transmitter", "TX1": "transmitter", "RX0": "receiver", "RX1": "receiver"}
+    return make_design(board, make_config(1.0), roles, [k1, k2])
+
+
+def test_rx_parallel_to_other_tx() -> None:
+    # RX0's centre line (x = 0) within 1 mm of TX1 copper (edge at x = 0.4): from y = -28 - sqrt(1.1^2 - 0.5^2)
+    # up to where the horizontal TX1 run's round corner at (0.5, -12) stops: -12 + sqrt(1.1^2 - 0.5^2)
+    (f,) = run_one("routing.rx-parallel-tx", two_nodes(0.5))
+    reach = math.sqrt(1.1**2 - 0.5**2)
+    assert f.value == pytest.approx(16 + 2 * reach, rel=0.01)
+    assert f.sensor == "K1" and set(f.nets) == {"RX0", "TX1"} and f.location.line == 3
+    assert run_one("routing.rx-parallel-tx", two_nodes(5.0)) == []
+
+
+@pytest.mark.parametrize("angle_deg, warn", [(30.0, True), (90.0, False), (65.0, False), (45.0, True)])
+def test_crossing_angle(angle_deg: float, warn: bool) -> None:
+    trace = draw("top-copper", [(6, 0), (40, 0)], 0.2, "TOUCH1")
+    a = math.radians(angle_deg)
+    led = draw("bottom-copper", [(25 - 10 * math.cos(a), -10 * math.sin(a)), (25 + 10 * math.cos(a), 10 * math.sin(a))], 0.2, "LED1")
+    found = run_one("routing.crossing-angle", button_board(led, b1_trace=trace, roles={"LED1": ("aggressor", "led")}))
+    if not warn:
+        assert found == []
+        return
+    (f,) = found
+    assert f.value == pytest.approx(angle_deg, abs=1e-6)
+    assert f.location.x_mm == pytest.approx(25.0) and f.location.y_mm == pytest.approx(0.0, abs=1e-9)
