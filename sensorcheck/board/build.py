@@ -1,0 +1,429 @@
+"""Read a set of fabrication outputs (folder or .zip) into a :class:`~sensorcheck.board.model.Board`.
+
+One bad file never loses the others' results: its problem goes into its ``FileInfo.error`` (and
+the ``layers``/``check`` commands exit 2). Problems of the whole input (missing, empty, unsafe
+archive) raise :class:`~sensorcheck.errors.InputError`.
+
+After reading, the board is checked for things a reader cannot see alone:
+
+* two files claiming the same layer (the second one is an error: say which with a layer map);
+* the same content twice (Altium's ``NC_Drill/`` copy): read once, the copy is noted;
+* a drill file whose holes lie far outside the board but would fit scaled by 25.4 (units wrong);
+* a layer whose extent lies far outside the board outline (units or origin wrong).
+"""
+
+from __future__ import annotations
+
+import hashlib
+from collections.abc import Callable, Mapping
+from pathlib import Path
+
+import numpy as np
+import shapely
+from scipy.spatial import cKDTree
+from shapely.geometry import LineString, Polygon
+from shapely.geometry.base import BaseGeometry
+from shapely.ops import polygonize, unary_union
+
+from sensorcheck.board.connectivity import assign_nets
+from sensorcheck.board.model import (
+    Board,
+    Component,
+    FileInfo,
+    Hole,
+    Layer,
+    NetPoint,
+    SourceRef,
+    Stackup,
+    StackupLayer,
+)
+from sensorcheck.errors import InputError, SensorcheckError
+from sensorcheck.fab.archive import InputFile, open_input, read_bytes, read_head, safe_name
+from sensorcheck.fab.identify import Identification, check_layer_map, identify, job_file_functions, sniff
+from sensorcheck.limits import DEFAULT_LIMITS, Limits
+
+Progress = Callable[[str], None]
+
+#: default stackup when neither a job file nor the config gives one: FR-4, 1.6 mm, 35 um copper.
+#: FR-4 relative permittivity 4.4 (typical 4.2-4.8 at 1 MHz; handbook range, value from memory).
+DEFAULT_BOARD_MM = 1.6
+DEFAULT_COPPER_MM = 0.035
+DEFAULT_FR4_EPSILON_R = 4.4
+#: how far a layer or the holes may reach past the outline before the file is called wrong (mm)
+EXTENT_MARGIN_MM = 10.0
+#: outline line ends closer than this are joined (10 um: far below any routing tool, far above
+#: the rounding of arc end points seen in real files, about 0.1 um)
+OUTLINE_SNAP_MM = 0.01
+
+_READ_ROLES = ("copper", "mask", "paste", "silk", "outline")
+_FOLDER_NAMES = {"fab", "gerber", "gerbers", "output", "outputs", "plot", "plots", "fabrication", "production"}
+
+
+def default_stackup(copper_layers: list[str], board_thickness_mm: float = DEFAULT_BOARD_MM) -> Stackup:
+    """Copper layers evenly spaced in FR-4 over ``board_thickness_mm``; source "default"."""
+    n = max(len(copper_layers), 2)
+    names = copper_layers if len(copper_layers) >= 2 else ["top-copper", "bottom-copper"]
+    die = max(board_thickness_mm - n * DEFAULT_COPPER_MM, 0.1) / (n - 1)
+    layers: list[StackupLayer] = []
+    for i, cu in enumerate(names):
+        layers.append(StackupLayer(name=cu, kind="copper", thickness_mm=DEFAULT_COPPER_MM, material="copper", copper_layer=cu))
+        if i < n - 1:
+            layers.append(StackupLayer(name=f"FR-4 {i + 1}", kind="dielectric", thickness_mm=die, material="FR-4",
+                                       epsilon_r=DEFAULT_FR4_EPSILON_R))
+    return Stackup(layers=layers, board_thickness_mm=board_thickness_mm, source="default")
+
+
+def _snap_ends(lines: list[LineString], tol_mm: float) -> list[LineString]:
+    """Join line ends closer than ``tol_mm`` (generators round arc end points differently)."""
+    ends = np.array([c for ln in lines for c in (ln.coords[0], ln.coords[-1])], dtype=float)
+    tree = cKDTree(ends)
+    parent = list(range(len(ends)))
+
+    def find(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    for a, b in tree.query_pairs(tol_mm):
+        ra, rb = find(a), find(b)
+        if ra != rb:
+            parent[max(ra, rb)] = min(ra, rb)
+    out: list[LineString] = []
+    for k, ln in enumerate(lines):
+        coords = [tuple(c) for c in ln.coords]
+        coords[0] = tuple(ends[find(2 * k)])
+        coords[-1] = tuple(ends[find(2 * k + 1)])
+        if len(coords) == 2 and coords[0] == coords[1]:
+            continue
+        out.append(LineString(coords))
+    return out
+
+
+def outline_polygon(features_paths: list[BaseGeometry], dark: BaseGeometry | None) -> tuple[BaseGeometry | None, str | None]:
+    """The board shape from the profile layer: draws joined into rings (largest face, with cut-outs).
+
+    Returns (polygon, note). Falls back to the filled dark image when the lines do not close.
+    """
+    lines = [ln for p in features_paths if p is not None and not p.is_empty
+             for ln in shapely.get_parts(p) if isinstance(ln, LineString) and len(ln.coords) >= 2]
+    if lines:
+        merged = unary_union(_snap_ends(lines, OUTLINE_SNAP_MM))
+        faces = list(polygonize(merged))
+        if faces:
+            outer = max(faces, key=lambda f: Polygon(f.exterior).area)
+            shell = Polygon(outer.exterior)
+            holes = [Polygon(f.exterior) for f in faces if f is not outer and shell.contains(f.representative_point())
+                     and not any(Polygon(g.exterior).contains(f.representative_point()) and g is not outer and g is not f
+                                 and Polygon(g.exterior).area > Polygon(f.exterior).area for g in faces)]
+            board = shell.difference(unary_union(holes)) if holes else shell
+            return board, None
+    if dark is not None and not dark.is_empty:
+        parts = [p for p in shapely.get_parts(dark) if isinstance(p, Polygon)]
+        if parts:
+            big = max(parts, key=lambda p: Polygon(p.exterior).area)
+            return Polygon(big.exterior), "the outline's lines do not close into a ring: using the filled drawn shape"
+    return None, "the outline layer draws no closed shape"
+
+
+def _board_name(path: Path) -> str:
+    p = path.resolve()
+    stem = p.stem if p.is_file() else p.name
+    if stem.lower() in _FOLDER_NAMES and p.parent.name:
+        return p.parent.name
+    return stem
+
+
+def _copper_order(infos: list[tuple[Identification, Layer]]) -> list[tuple[Identification, Layer]]:
+    def key(item: tuple[Identification, Layer]) -> tuple[int, float, str]:
+        ident, _ = item
+        if ident.copper_number_absolute and ident.copper_number is not None:
+            return (0, float(ident.copper_number) if ident.side != "bottom" else 1e9, ident.name)
+        side_rank = {"top": 0, "inner": 1, "bottom": 2}.get(ident.side or "", 1)
+        num = float(ident.copper_number) if ident.copper_number is not None else 1e6
+        if side_rank == 0:
+            return (0, 0.0, ident.name)
+        if side_rank == 2:
+            return (0, 1e9, ident.name)
+        return (0, 1 + num, ident.name)
+    return sorted(infos, key=key)
+
+
+def load_board(
+    path: str | Path,
+    *,
+    layer_map: Mapping[str, str] | None = None,
+    limits: Limits = DEFAULT_LIMITS,
+    stackup_override: Stackup | None = None,
+    progress: Progress | None = None,
+) -> Board:
+    """Read every file of a folder or .zip of fabrication outputs into a Board."""
+    if layer_map:
+        check_layer_map(layer_map)
+    say = progress or (lambda _msg: None)
+    p = Path(path)
+    with open_input(p, limits=limits) as files:
+        board = Board(name=_board_name(p), source=safe_name(str(path)))
+        _read_all(board, files, dict(layer_map or {}), limits, say)
+    if board.stackup is None:
+        board.stackup = stackup_override or default_stackup([layer.name for layer in board.copper_layers()])
+    return board
+
+
+def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], limits: Limits, say: Progress) -> None:
+    from sensorcheck.fab.excellon import read_excellon
+    from sensorcheck.fab.gerber import read_gerber
+    from sensorcheck.fab.ipc356 import read_ipc356
+    from sensorcheck.fab.jobfile import read_jobfile
+    from sensorcheck.fab.placement import read_component_layer, read_pick_and_place
+
+    infos: dict[str, FileInfo] = {}
+    heads: dict[str, bytes] = {}
+    for f in files:
+        shown = safe_name(f.name)
+        info = FileInfo(path=shown, role=None)
+        infos[f.name] = info
+        board.files.append(info)
+        if f.error:
+            info.error = f"{shown}: {f.error}"
+            continue
+        try:
+            heads[f.name] = read_head(f)
+        except OSError as exc:
+            info.error = f"{shown}: cannot read: {exc.strerror or exc}"
+
+    # job files first: their FilesAttributes help identify the rest
+    job_functions: dict[str, str] = {}
+    for f in files:
+        if f.name in heads and (f.name.lower().endswith(".gbrjob") or sniff(heads[f.name]) == "gbrjob"):
+            try:
+                job_functions.update(job_file_functions(read_bytes(f, limits)))
+            except SensorcheckError:
+                pass  # reported when the job file itself is read below
+
+    idents: dict[str, Identification] = {}
+    for f in files:
+        if f.name not in heads:
+            continue
+        ident = identify(f.name, heads[f.name], layer_map=layer_map, job_functions=job_functions)
+        idents[f.name] = ident
+        info = infos[f.name]
+        info.role, info.layer, info.side = ident.role, ident.layer, ident.side
+        info.identified_by, info.generator, info.note = ident.identified_by, ident.generator, ident.note
+
+    seen_content: dict[tuple[str | None, str], str] = {}
+    copper: list[tuple[Identification, Layer]] = []
+    others: list[Layer] = []
+    x2_images: dict[str, dict[str | None, BaseGeometry]] = {}
+    drill_holes: dict[str, list[Hole]] = {}
+    outline_src: tuple[str, list[BaseGeometry], BaseGeometry | None] | None = None
+    for f in files:
+        ident = idents.get(f.name)
+        info = infos[f.name]
+        if ident is None or ident.role is None:
+            continue
+        if ident.role == "other":
+            info.note = info.note or "not used by the checks"
+            continue
+        shown = safe_name(f.name)
+        try:
+            data = read_bytes(f, limits)
+            digest = hashlib.sha256(data).hexdigest()
+            key = (ident.role, digest)
+            if key in seen_content:
+                info.note = f"same content as {seen_content[key]}: read once"
+                continue
+            seen_content[key] = shown
+            say(f"reading {shown}")
+            if ident.kind == "gerber" and ident.role in _READ_ROLES:
+                g = read_gerber(data, shown, limits=limits)
+                layer = Layer(name=ident.layer or "", function=ident.role, side=ident.side or "none", file=shown,
+                              units="inch" if g.units == "inch" else "mm", generator=g.generator or ident.generator,
+                              features=g.features, dark=g.dark,
+                              x2_file_function=",".join(g.file_attributes.get(".FileFunction", [])) or None)
+                info.units, info.generator, info.object_count = layer.units, layer.generator, g.object_count
+                info.dark_area_mm2 = round(float(g.dark.area), 6) if g.dark is not None else 0.0
+                if g.warnings:
+                    info.note = "; ".join([*( [info.note] if info.note else []), *g.warnings[:3]])
+                if ident.role == "copper":
+                    copper.append((ident, layer))
+                    x2_images[id(layer).__str__()] = g.by_net  # re-keyed by layer name after ordering
+                else:
+                    if ident.role == "outline":
+                        outline_src = (shown, [ft.path if ft.path is not None else ft.geometry.boundary for ft in g.features], g.dark)
+                    others.append(layer)
+            elif ident.kind == "gerber" and ident.role == "components":
+                comps = read_component_layer(data, shown, ident.side or "top")
+                board.components.extend(comps)
+                info.object_count = len(comps)
+            elif ident.kind == "gerber" and ident.role == "drill":
+                g = read_gerber(data, shown, limits=limits)
+                holes = _holes_from_gerber(g.features, ident.plated, shown)
+                drill_holes[shown] = holes
+                info.units, info.object_count = g.units, len(holes)
+            elif ident.kind == "excellon":
+                ex = read_excellon(data, shown, plated_hint=ident.plated, limits=limits)
+                drill_holes[shown] = ex.holes
+                info.units, info.object_count = ex.units, len(ex.holes)
+                info.generator = info.generator or ex.generator
+                if not ex.holes:
+                    info.note = "no holes in this drill file"
+            elif ident.kind == "ipc356":
+                pts = read_ipc356(data, shown, limits=limits)
+                board.net_points.extend(pts)
+                info.object_count = len(pts)
+                info.nets = sorted({pt.net for pt in pts})
+            elif ident.kind == "gbrjob":
+                job = read_jobfile(data, shown)
+                if job.stackup is not None and board.stackup is None:
+                    board.stackup = job.stackup
+                info.generator = job.generator
+                info.object_count = len(job.stackup.layers) if job.stackup else 0
+                if job.notes:
+                    info.note = "; ".join(job.notes)
+            elif ident.kind == "pnp":
+                comps = read_pick_and_place(data, shown, default_side=ident.side if ident.side in ("top", "bottom") else "top")
+                board.components.extend(comps)
+                info.object_count = len(comps)
+            else:
+                info.note = info.note or "identified, but no reader for this kind of file"
+        except SensorcheckError as exc:
+            info.error = exc.describe()
+        except Exception as exc:  # a bug in a reader must not lose the other files
+            info.error = f"{shown}: internal error while reading ({type(exc).__name__}: {exc})"
+
+    # copper in stack order; duplicate claims are errors
+    claimed: dict[str, str] = {}
+    ordered = _copper_order(copper)
+    n_cu = len(ordered)
+    x2_by_name: dict[str, dict[str | None, BaseGeometry]] = {}
+    for position, (ident, layer) in enumerate(ordered, start=1):
+        info = infos[_key_of(infos, layer.file)]
+        absolute = ident.copper_number_absolute and ident.copper_number is not None
+        cidx = ident.copper_number if absolute else position  # X2/job L-number, else the place in the stack
+        assert cidx is not None
+        if ident.side == "top":
+            name = "top-copper"
+        elif ident.side == "bottom":
+            name = "bottom-copper"
+            cidx = cidx if absolute else n_cu
+        else:
+            name = f"inner{cidx - 1}-copper"
+        if name in claimed:
+            info.error = f"{layer.file}: also identified as {name} (first: {claimed[name]}); say which is which with a layer map"
+            continue
+        claimed[name] = layer.file
+        layer.name, layer.copper_index = name, cidx
+        info.layer = name
+        x2_by_name[name] = x2_images[str(id(layer))]
+        board.layers.append(layer)
+    for layer in others:
+        info = infos[_key_of(infos, layer.file)]
+        if layer.name in claimed:
+            info.error = f"{layer.file}: also identified as {layer.name} (first: {claimed[layer.name]}); say which is which with a layer map"
+            continue
+        claimed[layer.name] = layer.file
+        board.layers.append(layer)
+    order = {"top-silk": 0, "top-paste": 1, "top-mask": 2}
+    board.layers.sort(key=lambda layer: (
+        order.get(layer.name, 3 if layer.function == "copper" else 10),
+        layer.copper_index or 0,
+        {"bottom-mask": 0, "bottom-paste": 1, "bottom-silk": 2, "outline": 3}.get(layer.name, 9),
+    ))
+
+    if outline_src is not None:
+        shape, note = outline_polygon(outline_src[1], outline_src[2])
+        board.outline = shape
+        if note:
+            oi = infos[_key_of(infos, outline_src[0])]
+            oi.note = f"{oi.note}; {note}" if oi.note else note
+
+    _sanity_checks(board, infos, drill_holes)
+    for holes in drill_holes.values():
+        board.holes.extend(holes)
+
+    say("finding nets")
+    assign_nets(board, x2_by_name)
+    for layer in board.copper_layers():
+        info = infos[_key_of(infos, layer.file)]
+        info.nets = sorted(layer.by_net)
+
+
+def _key_of(infos: dict[str, FileInfo], shown: str) -> str:
+    for k, v in infos.items():
+        if v.path == shown:
+            return k
+    raise KeyError(shown)
+
+
+def _holes_from_gerber(features, plated: bool | None, name: str) -> list[Hole]:  # type: ignore[no-untyped-def]
+    """Holes of an X2 drill file written in Gerber: each flash's extent is its diameter."""
+    holes: list[Hole] = []
+    for ft in features:
+        if ft.polarity != "dark":
+            continue
+        if ft.kind == "flash":
+            minx, miny, maxx, maxy = ft.geometry.bounds
+            holes.append(Hole((minx + maxx) / 2, (miny + maxy) / 2, maxx - minx, plated, ft.source))
+        elif ft.kind == "draw" and ft.path is not None and ft.width_mm:
+            (x0, y0), (x1, y1) = ft.path.coords[0], ft.path.coords[-1]
+            holes.append(Hole(x0, y0, ft.width_mm, plated, ft.source, end_x_mm=x1, end_y_mm=y1))
+    return holes
+
+
+def _bounds_of(geoms: list[tuple[float, float, float, float]]) -> tuple[float, float, float, float] | None:
+    if not geoms:
+        return None
+    return (min(g[0] for g in geoms), min(g[1] for g in geoms), max(g[2] for g in geoms), max(g[3] for g in geoms))
+
+
+def _inside(b: tuple[float, float, float, float], ref: tuple[float, float, float, float], margin: float) -> bool:
+    return b[0] >= ref[0] - margin and b[1] >= ref[1] - margin and b[2] <= ref[2] + margin and b[3] <= ref[3] + margin
+
+
+def _sanity_checks(board: Board, infos: dict[str, FileInfo], drill_holes: dict[str, list[Hole]]) -> None:
+    """Units and extents: a drill file at the wrong scale, a layer far outside the board."""
+    if board.outline is not None and not board.outline.is_empty:
+        ref = tuple(board.outline.bounds)
+        ref_name = "the board outline"
+    else:
+        cu = [layer.dark.bounds for layer in board.copper_layers() if layer.dark is not None and not layer.dark.is_empty]
+        ref = _bounds_of(cu)  # type: ignore[assignment]
+        ref_name = "the copper"
+    if ref is None:
+        return
+    size = max(ref[2] - ref[0], ref[3] - ref[1])
+    margin = max(EXTENT_MARGIN_MM, 0.5 * size)
+    for fname, holes in list(drill_holes.items()):
+        if not holes:
+            continue
+        hb = _bounds_of([(h.x_mm, h.y_mm, h.x_mm, h.y_mm) for h in holes])
+        assert hb is not None
+        if _inside(hb, ref, margin):  # type: ignore[arg-type]
+            continue
+        info = infos[_key_of(infos, fname)]
+        hint = ""
+        for factor, units in ((1 / 25.4, "mm"), (25.4, "inch")):
+            scaled = (hb[0] * factor, hb[1] * factor, hb[2] * factor, hb[3] * factor)
+            if _inside(scaled, ref, margin):  # type: ignore[arg-type]
+                hint = f"; read as {units} they would fit: the file's units (INCH/METRIC) look wrong"
+        line = holes[0].source.line
+        err = InputError(fname, line, f"holes span x {hb[0]:.2f}..{hb[2]:.2f}, y {hb[1]:.2f}..{hb[3]:.2f} mm, "
+                         f"far outside {ref_name} (x {ref[0]:.2f}..{ref[2]:.2f}, y {ref[1]:.2f}..{ref[3]:.2f} mm){hint}",
+                         f"holes within {ref_name}")
+        info.error = err.describe()
+        drill_holes[fname] = []
+    for layer in list(board.layers):
+        if layer.dark is None or layer.dark.is_empty or layer.function == "outline":
+            continue
+        lb = tuple(layer.dark.bounds)
+        if _inside(lb, ref, margin):  # type: ignore[arg-type]
+            continue
+        if ref_name == "the copper" and layer.function == "copper":
+            continue
+        info = infos[_key_of(infos, layer.file)]
+        err = InputError(layer.file, None, f"the image spans x {lb[0]:.2f}..{lb[2]:.2f}, y {lb[1]:.2f}..{lb[3]:.2f} mm, "
+                         f"far outside {ref_name} (x {ref[0]:.2f}..{ref[2]:.2f}, y {ref[1]:.2f}..{ref[3]:.2f} mm)",
+                         "a layer within the board (check its units and origin)")
+        info.error = err.describe()
+        board.layers.remove(layer)
