@@ -232,3 +232,51 @@ def first_paragraph(doc: str) -> str:
     text = doc.strip()
     para = text.split("\n\n", 1)[0] if text else ""
     return " ".join(para.split())
+
+
+def overlay_lines(overlay: dict[str, object] | None) -> list[str]:
+    """The overlay stack as short lines: its scalar settings, then one line per layer (top down)."""
+    if not overlay:
+        return []
+    scalars = [
+        f"{safe_text(k)} = {num(v)}"  # type: ignore[arg-type]
+        for k, v in sorted(overlay.items())
+        if isinstance(v, (int, float, str)) and not isinstance(v, bool)
+    ]
+    lines = ["; ".join(scalars)] if scalars else []
+    layers = overlay.get("layers")
+    for layer in layers if isinstance(layers, (list, tuple)) else []:
+        if not isinstance(layer, dict):
+            lines.append(f"layer: {safe_text(layer)}")
+            continue
+        parts = [safe_text(layer.get("name") or layer.get("material") or "layer")]
+        if isinstance(layer.get("thickness_mm"), (int, float)):
+            parts.append(f"{num(layer['thickness_mm'])} mm")
+        if isinstance(layer.get("epsilon_r"), (int, float)):
+            parts.append(f"eps_r {num(layer['epsilon_r'])}")
+        if layer.get("kind"):
+            parts.append(safe_text(layer["kind"]))
+        if layer.get("epsilon_source"):
+            parts.append(f"(permittivity: {safe_text(layer['epsilon_source'])})")
+        lines.append("layer: " + " ".join(parts))
+    for k, v in sorted(overlay.items()):
+        if k != "layers" and isinstance(v, (dict, list, tuple)):
+            lines.append(f"{safe_text(k)}: {safe_text(v)}")
+    return lines
+
+
+def sensor_verdict(findings: Iterable[Finding]) -> str:
+    """``FAIL``, ``REVIEW`` (warnings or notes only), ``PASS``; counts appended when there are any."""
+    c = counts(findings)
+    if c["error"] or c["internal"]:
+        word = "FAIL"
+    elif c["warning"] or c["note"]:
+        word = "REVIEW"
+    else:
+        word = "PASS"
+    parts = [plural(c[k], k) for k in ("error", "warning", "note") if c[k]]
+    if c["internal"]:
+        parts.append(plural(c["internal"], "internal error"))
+    if c["waived"]:
+        parts.append(f"{c['waived']} waived")
+    return f"{word} ({', '.join(parts)})" if parts else word

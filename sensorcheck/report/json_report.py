@@ -20,7 +20,7 @@ Schema, draft 2020-12)::
     }
 
 Keys are sorted, findings are in ``finding.sort_key`` order and sensors by name, so the same
-result gives the same bytes. The text is pure ASCII (``\uXXXX`` escapes): names keep every
+result gives the same bytes. The text is pure ASCII (``\\uXXXX`` escapes): names keep every
 character exactly, yet no terminal escape or bidi override ever appears raw in the file. Numbers that are not finite become ``null``. Drawing geometry
 (outline rings, board layers) is not included: the HTML page carries it.
 """

@@ -20,6 +20,8 @@ from sensorcheck.report.common import (
     counts,
     num,
     ordered,
+    overlay_lines,
+    sensor_verdict,
     rule_catalogue,
     rule_ids_run,
     safe_text,
@@ -77,6 +79,7 @@ def _estimate_lines(estimate: dict[str, object] | None) -> list[str]:
 
 def _sensor_section(s: SensorSummary, findings: list[Finding]) -> list[str]:
     out = [f"### Sensor {md(s.name)} ({md(s.kind)}{', ' + md(s.layer) if s.layer else ''})", ""]
+    out += [f"**Result: {sensor_verdict(findings)}**", ""]
     if s.nets:
         out += ["Nets: " + ", ".join(md(n) for n in s.nets), ""]
     if s.values:
@@ -122,6 +125,9 @@ def _board_section(result: Result, label: str, catalogue: dict[str, RuleInfo]) -
     out.append(f"sensorcheck {md(result.tool_version)}{'  ' if result.timestamp else ''}")
     if result.timestamp:
         out.append(f"Checked: {md(result.timestamp)}")
+    ov = overlay_lines(result.overlay)
+    if ov:
+        out += ["", "Overlay (as configured):", ""] + [f"- {md(line)}" for line in ov]
     out += ["", f"**Summary:** {summary_line(findings)}", ""]
     for s in sensors_sorted(result):
         out += _sensor_section(s, [f for f in findings if f.sensor == s.name])

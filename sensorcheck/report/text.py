@@ -20,6 +20,8 @@ from sensorcheck.report.common import (
     board_labels,
     num,
     ordered,
+    overlay_lines,
+    sensor_verdict,
     rule_catalogue,
     rule_ids_run,
     safe_text,
@@ -56,7 +58,7 @@ def _estimate_text(s: SensorSummary) -> Text:
     return Text("\n".join([f"model: {safe_text(model)}", *scalars]))
 
 
-def _sensor_table(result: Result, fancy: bool) -> Table:
+def _sensor_table(result: Result, fancy: bool, findings: list[Finding]) -> Table:
     table = Table(
         title="Sensors",
         title_justify="left",
@@ -64,18 +66,25 @@ def _sensor_table(result: Result, fancy: bool) -> Table:
         show_lines=False,
         expand=False,
     )
-    for col in ("Sensor", "Kind", "Layer", "Nets", "Key numbers", "Estimate"):
-        table.add_column(col, overflow="fold", no_wrap=col in ("Kind", "Layer", "Key numbers", "Estimate"))
+    for col in ("Sensor", "Nets", "Key numbers", "Estimate", "Result"):
+        table.add_column(col, overflow="fold", no_wrap=col in ("Key numbers", "Result"), min_width=12 if col == "Sensor" else None)
     for s in sensors_sorted(result):
+        name = _t(s.name, "bold")
+        name.append(f"\n{safe_text(s.kind)}\n{safe_text(s.layer or '-')}", style="")
         table.add_row(
-            _t(s.name, "bold"),
-            _t(s.kind),
-            _t(s.layer or "-"),
-            _t(", ".join(s.nets) or "-"),
+            name,
+            Text("\n".join(safe_text(n) for n in s.nets) or "-"),
             _values_text(s),
             _estimate_text(s),
+            _verdict(sensor_verdict(f for f in findings if f.sensor == s.name)),
         )
     return table
+
+
+def _verdict(text: str) -> Text:
+    style = {"FAIL": _STYLE["error"], "REVIEW": _STYLE["warning"], "PASS": "green"}[text.split(" ", 1)[0]]
+    word, _, rest = text.partition(" (")
+    return Text("\n".join([word, *rest.rstrip(")").split(", ")]) if rest else word, style=style)
 
 
 def _finding_lines(f: Finding) -> Text:
@@ -152,12 +161,11 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
     if result.timestamp:
         info.append(f"   {safe_text(result.timestamp)}")
     parts.append(info)
-    if result.overlay:
-        ov = ", ".join(f"{safe_text(k)}={num(v) if isinstance(v, (int, float, str)) else safe_text(v)}" for k, v in sorted(result.overlay.items()))
-        parts.append(Text(f"overlay: {ov}"))
+    for i, line in enumerate(overlay_lines(result.overlay)):
+        parts.append(Text(("overlay: " if i == 0 else "         ") + line))
     parts.append(Text(""))
     if result.sensors:
-        parts.append(_sensor_table(result, fancy))
+        parts.append(_sensor_table(result, fancy, findings))
     else:
         parts.append(Text("No sensors recognised."))
     parts.append(Text(""))

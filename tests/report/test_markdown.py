@@ -59,6 +59,8 @@ def test_checklist_content(one_board: list[Result]) -> None:
     assert "- [ ] Scope the LED1 PWM edge on the RX line of the prototype." in items  # Finding.review
     assert "- [ ] Confirm the hatch pitch on the fabricated board." in items
     assert "| gap\\_mm | 0.5 |" in lines  # sensor values
+    assert "**Result: FAIL (2 errors, 1 warning, 1 note, 1 internal error)**" in lines  # K1's verdict
+    assert "**Result: REVIEW (1 note, 1 waived)**" in lines
     assert any("BEM 2.5-D, 412 panels" in line for line in lines)  # estimate with its model
     assert any(line.startswith("| routing.aggressor-near-trace |") and "fail: 2 errors" in line for line in lines)
     assert any(line.startswith("| hatch.fill-near-sensor |") and "pass" in line for line in lines)

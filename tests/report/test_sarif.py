@@ -118,3 +118,11 @@ def test_hostile_names_stay_data(one_board: list[Result]) -> None:
     # Messages are made line-safe: no raw control characters reach a viewer's message text.
     for r in log["runs"][0]["results"]:
         assert not any(ord(c) < 32 for c in r["message"]["text"])
+
+
+def test_uri_is_a_relative_uri_reference(one_board: list[Result]) -> None:
+    # RFC 3986: a space is not allowed in a URI; it is percent-encoded. Relative stays relative.
+    one_board[0].findings[0].location = type(one_board[0].findings[0].location)("top-copper", 1.0, 2.0, None, "hw/my board #1.gbr", 5)
+    log = json.loads(render(one_board, "sarif"))
+    uris = {r["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] for r in log["runs"][0]["results"]}
+    assert "hw/my%20board%20%231.gbr" in uris

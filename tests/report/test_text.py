@@ -19,7 +19,7 @@ _CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f]")
 def test_plain_text_has_no_control_codes(results: list[Result]) -> None:
     text = render(results, "text")
     assert not _CONTROL.search(text)
-    assert text.isascii() or "\u202e" not in text  # bidi override shown as an escape
+    assert "\u202e" not in text  # the bidi override is shown as an escape, not obeyed
     assert "\\u202egnp.exe" in text
     assert "\\x1b[31mRED" in text
 
@@ -43,7 +43,7 @@ def test_environment_cannot_force_colour(tmp_path: Path) -> None:
 
 
 def test_content(one_board: list[Result]) -> None:
-    text = render(one_board, "text")
+    text = render_text(one_board, width=160)  # wide enough that no cell wraps
     lines = text.splitlines()
     # Grouped by severity (worst first), then rule.
     heads = [line for line in lines if re.match(r"^(ERRORS|WARNINGS|NOTES) \(\d+\)$", line)]
@@ -57,5 +57,22 @@ def test_content(one_board: list[Result]) -> None:
     assert "no job file: stackup from sensorcheck.toml" in text
     assert "Caution: Estimates are not measurements" in text
     assert "3 errors, 3 warnings, 3 notes, 1 waived, 1 internal error; 7 rules ran" in text
+    # Per-sensor verdict beside its numbers.
+    k1_row = next(i for i, line in enumerate(lines) if line.startswith("| K1 "))
+    assert "FAIL" in lines[k1_row] and "2 errors" in lines[k1_row + 1]
     # Markup in names is shown, not interpreted.
     assert "[bold]B[/bold] & <b>" in text
+
+
+def test_overlay_stack_is_listed(one_board: list[Result]) -> None:
+    one_board[0].overlay = {
+        "face": "top",
+        "layers": [
+            {"name": "pmma", "thickness_mm": 2.0, "epsilon_r": 2.6, "epsilon_source": "handbook", "kind": "overlay"},
+            {"name": "adhesive", "thickness_mm": 0.05, "epsilon_r": 3.0, "epsilon_source": "config", "kind": "adhesive"},
+        ],
+    }
+    text = render(one_board, "text")
+    assert "overlay: face = top" in text
+    assert "layer: pmma 2 mm eps_r 2.6 overlay (permittivity: handbook)" in text
+    assert "layer: adhesive 0.05 mm eps_r 3 adhesive (permittivity: config)" in text

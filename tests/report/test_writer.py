@@ -139,3 +139,17 @@ def test_hostile_names_never_leave_raw_control_characters(fmt: str) -> None:
     # Line-based formats: a newline in a name never starts a new line of its own.
     if fmt in ("github", "gerber", "markdown", "text"):
         assert not any(line.startswith(("::warning::x", "::error file=x")) for line in text.splitlines())
+
+
+@pytest.mark.parametrize("fmt", MACHINE_FORMATS)
+def test_timestamp_only_when_set(fmt: str) -> None:
+    stamp = "2026-12-02T05:00:00Z"
+    plain = make_results()
+    assert stamp not in render(plain, fmt)
+    stamped = make_results()
+    for r in stamped:
+        r.timestamp = stamp
+    if fmt in ("json", "sarif", "junit", "markdown", "text"):
+        assert stamp in render(stamped, fmt)
+    else:  # code quality, annotations and the Gerber layer carry no time at all
+        assert render(stamped, fmt) == render(plain, fmt)
