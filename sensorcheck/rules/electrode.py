@@ -8,7 +8,7 @@ from typing import Any
 
 import numpy as np
 import shapely
-from shapely.geometry import LineString, Point
+from shapely.geometry import LineString
 
 from sensorcheck.design.model import Design, Sensor
 from sensorcheck.rules.common import (
@@ -156,23 +156,31 @@ def _segments_in_order(s: Sensor) -> list[Any]:
 def coverage_sweep(segments: list[Any], closed: bool, contact_mm: float, step_mm: float) -> list[tuple[tuple[float, float], list[float]]]:
     """Overlap area of a contact disc with each segment, at points along the segments' centre line.
 
-    The centre line joins the segment centroids in order (closed for a wheel); returns
-    (point, overlaps in segment order) for every step.
+    The centre line joins the segment centroids in order (closed for a wheel), cut into equal
+    intervals of at most ``step_mm``; the disc sits at the middle of each interval (so a dead
+    stretch is measured by the midpoint rule).  Returns (point, overlaps in segment order) per interval.
     """
     cs = [g.centroid for g in segments]
     pts = [(c.x, c.y) for c in cs]
     if closed:
         pts.append(pts[0])
     line = LineString(pts)
-    n = max(2, int(math.ceil(line.length / step_mm)) + 1)
+    n = max(1, int(math.ceil(line.length / step_mm)))
     seg_arr = np.array(segments, dtype=object)
     out = []
-    for d in np.linspace(0.0, line.length, n):
+    for d in (np.arange(n) + 0.5) * (line.length / n):
         p = line.interpolate(float(d))
         disc = p.buffer(contact_mm / 2.0, quad_segs=32)
         areas = shapely.area(shapely.intersection(seg_arr, disc))
         out.append(((p.x, p.y), [float(a) for a in areas]))
     return out
+
+
+def _centre_line_length(segments: list[Any], closed: bool) -> float:
+    pts = [(g.centroid.x, g.centroid.y) for g in segments]
+    if closed:
+        pts.append(pts[0])
+    return LineString(pts).length
 
 
 class SliderCoverage(Rule):
@@ -221,7 +229,7 @@ class SliderCoverage(Rule):
                               nets=s.nets, sensor=s.name)
                 continue
             sweep = coverage_sweep(segs, s.kind == "wheel", df, params["step_mm"])
-            step = params["step_mm"]
+            step = _centre_line_length(segs, s.kind == "wheel") / len(sweep)
             dead_mm = 0.0
             worst_ratio, worst_pt = 1.0, sweep[0][0]
             for pt, areas in sweep:
