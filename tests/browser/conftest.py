@@ -74,6 +74,17 @@ def browser() -> Iterator[Any]:
             b.close()
 
 
+@pytest.fixture(scope="session")
+def review_board() -> dict[str, Any]:
+    """The synthetic board's result, the names that carry markup, and where screenshots go."""
+    return {
+        "result": synthetic_result(),
+        "evil_net": EVIL_NET,
+        "evil_sensor": EVIL_SENSOR,
+        "artifacts": artifacts_dir(),
+    }
+
+
 # ---------------------------------------------------------------- the synthetic board
 
 
