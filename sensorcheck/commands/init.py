@@ -19,8 +19,12 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
+from shapely.geometry import Polygon
+from shapely.geometry.base import BaseGeometry
+
 from sensorcheck.board.model import Board, Stackup
 from sensorcheck.design.roles import matches, natural_key
+from sensorcheck.design.sensors import split_electrode
 
 _COPPER_RE = re.compile(r"^(top|bottom|inner[1-9][0-9]*)-copper$")
 _STACKUP_KINDS = ("copper", "dielectric", "mask", "silk", "paste", "other")
@@ -42,9 +46,9 @@ GUESSES: tuple[Guess, ...] = (
           "ground by name (GND, GNDA, AGND, VSS)"),
     Guess("shield", r"^(DRIVEN_?)?(SHIELD|SHLD)[A-Z0-9_]*$", "a driven shield by name"),
     Guess("guard", r"^GUARD[A-Z0-9_]*$", "a guard by name"),
-    Guess("aggressor", r"^(LED|D_?LED|BL)[A-Z0-9_]*$|^[A-Z0-9_]*_LED[A-Z0-9_]*$",
+    Guess("aggressor", r"^(LED|D_?LED|BL)[A-Z0-9_.]*$|^[A-Z0-9_.]*[_.]LED[A-Z0-9_.]*$",
           "an LED line: PWM-driven LEDs switch fast", kind="led"),
-    Guess("aggressor", r"^(CLK|SCK|SCL|SCLK|MCLK|BCLK|XTAL|OSC)[A-Z0-9_]*$|^[A-Z0-9_]*_(CLK|SCK|SCL)$",
+    Guess("aggressor", r"^(CLK|SCK|SCL|SCLK|MCLK|BCLK|XTAL|OSC)[A-Z0-9_.]*$|^[A-Z0-9_.]*[_.](CLK|SCK|SCL|SCLK)$",
           "a clock or serial clock by name", kind="clock"),
     Guess("aggressor", r"^(SW|LX|VSW|SW_NODE)$|^PWM[A-Z0-9_]*$|^[A-Z0-9_]*_PWM[0-9]*$",
           "a switching node or PWM line by name", kind="switching"),
@@ -58,7 +62,7 @@ GUESSES: tuple[Guess, ...] = (
           "other way round"),
     Guess("receiver", r"^Y[_\-]?[0-9]+$", "Y lines of a touchpad are often sensed (columns as RX); could be the "
           "other way round"),
-    Guess("self", r"^(TOUCH|TCH|BTN|BUTTON|KEY|SLIDER|SLD|WHEEL|WHL|PAD|PROX|CSENSE|SENSOR|ELECTRODE)"
+    Guess("self", r"(^|[_\-.])(TOUCH|TCH|BTN|BUTTON|KEY|SLIDER|SLD|WHEEL|WHL|PAD|PROX|CSENSE|SENSOR|ELECTRODE)"
           r"([_\-]?\[?[0-9]+\]?[A-Z]?|[_\-][A-Z0-9]+)?$",
           "a touch electrode by name; self-capacitance unless a TX net faces it"),
     Guess("self", r"^SW[_\-]?[0-9]+$", "SW1, SW2...: touch keys are often named like switches; could be "
@@ -91,6 +95,104 @@ def guess_roles(nets: list[str]) -> dict[str, tuple[str, str | None, str]]:
                 if g.role != "skip":
                     out[net] = (g.role, g.kind, g.why)
                 break
+    return out
+
+
+#: electrode-like copper (what init proposes for nets whose names say nothing): one solid piece of
+#: 20-900 mm2 (a 5-34 mm disc), at most two holes (LED windows), compact (its outline fills at least
+#: 70 % of its convex hull) and no longer than 5x its width (slider segments are long)
+ELECTRODE_AREA_MM2 = (20.0, 900.0)
+MAX_HOLES = 2
+MIN_SOLIDITY = 0.7
+MAX_ASPECT = 5.0
+_POWER_RE = re.compile(r"(GND|VCC|VDD|VSS|VBAT|VBUS|VIN|VOUT|^\+|^-|(^|[_.])[0-9]+V[0-9]*([_.]|$)|^V[0-9])")
+
+
+@dataclass(frozen=True, slots=True)
+class Candidate:
+    net: str
+    layer: str
+    x_mm: float
+    y_mm: float
+    area_mm2: float
+    geometry: BaseGeometry
+
+
+def _runs(cands: list[Candidate]) -> dict[str, tuple[str, list[str]]]:
+    """Unnamed candidates that sit next to each other in a line or around a circle (as slider and
+    wheel segments do): net -> (sensor name, member nets in position order)."""
+    from sensorcheck.design.model import Electrode
+    from sensorcheck.design.sensors import SEGMENT_GAP_MAX_MM, arrange
+
+    parent = list(range(len(cands)))
+
+    def find(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    for i, a in enumerate(cands):
+        for j in range(i + 1, len(cands)):
+            b = cands[j]
+            if a.layer == b.layer and a.geometry.distance(b.geometry) <= SEGMENT_GAP_MAX_MM:
+                parent[find(i)] = find(j)
+    groups: dict[int, list[int]] = {}
+    for i in range(len(cands)):
+        groups.setdefault(find(i), []).append(i)
+    out: dict[str, tuple[str, list[str]]] = {}
+    counts = {"slider": 0, "wheel": 0}
+    for idx in sorted(groups.values(), key=lambda g: (-cands[g[0]].y_mm, cands[g[0]].x_mm)):
+        if len(idx) < 3:
+            continue
+        segs = [Electrode(net=cands[i].net, role="self", layer=cands[i].layer, geometry=cands[i].geometry) for i in idx]
+        arr = arrange(segs, require_adjacent=True)
+        if arr is None:
+            continue
+        counts[arr.kind] += 1
+        name = f"{'S' if arr.kind == 'slider' else 'W'}{counts[arr.kind]}"
+        members = [segs[k].net for k in arr.order]
+        for n in members:
+            out[n] = (name, members)
+    return out
+
+
+def electrode_candidates(board: Board, skip: set[str]) -> list[Candidate]:
+    """Nets (named or not) on an outer copper layer with one electrode-like solid piece."""
+    cu = board.copper_layers()
+    outer = [cu[0], cu[-1]] if len(cu) > 1 else cu[:1]
+    out: list[Candidate] = []
+    seen: set[str] = set()
+    for la in outer:
+        for net in sorted(la.by_net, key=natural_key):
+            if net in skip or net in seen:
+                continue
+            last = net.upper().rsplit("/", 1)[-1]
+            if _POWER_RE.search(last) or last.startswith("UNCONNECTED"):
+                continue
+            geom = la.by_net[net]
+            if geom.is_empty or geom.area < ELECTRODE_AREA_MM2[0] or geom.area > 4 * ELECTRODE_AREA_MM2[1]:
+                continue
+            electrode, _trace = split_electrode(la, net)
+            polys = list(getattr(electrode, "geoms", [electrode]))
+            if len(polys) != 1 or electrode.is_empty:
+                continue
+            poly = polys[0]
+            if not (ELECTRODE_AREA_MM2[0] <= poly.area <= ELECTRODE_AREA_MM2[1]) or len(poly.interiors) > MAX_HOLES:
+                continue
+            filled = Polygon(poly.exterior)
+            if filled.area < MIN_SOLIDITY * filled.convex_hull.area:
+                continue
+            rect = filled.minimum_rotated_rectangle
+            if not isinstance(rect, Polygon):
+                continue
+            xs, ys = rect.exterior.coords.xy
+            sides = sorted(((xs[i + 1] - xs[i]) ** 2 + (ys[i + 1] - ys[i]) ** 2) ** 0.5 for i in range(2))
+            if sides[0] <= 0 or sides[1] / sides[0] > MAX_ASPECT:
+                continue
+            pt = poly.representative_point()
+            out.append(Candidate(net, la.name, round(pt.x, 3), round(pt.y, 3), poly.area, poly))
+            seen.add(net)
     return out
 
 
@@ -174,7 +276,13 @@ def starter_config(board: Board) -> str:
     """The text of a starter sensorcheck.toml for ``board`` (deterministic: no date, sorted)."""
     nets = [n for n in board.net_names() if not n.startswith("~")]
     roles = guess_roles(nets)
-    face, face_why = _face_guess(board, roles)
+    cands = electrode_candidates(board, set(roles))
+    unnamed = [c for c in cands if c.net.startswith("~")]
+    for c in cands:
+        if not c.net.startswith("~"):
+            roles[c.net] = ("self", None, "the name says nothing, but the net has one solid electrode-like pad "
+                            "(5-34 mm across) on an outer layer; remove any that are not electrodes")
+    face, face_why = _face_guess(board, {**roles, **{c.net: ("self", None, "") for c in unnamed}})
     lines: list[str] = [
         f"# sensorcheck.toml: starter config written by `sensorcheck init` for {_comment(board.name)}.",
         "# Every guess is marked REVIEW with the reason; check each before trusting a report.",
@@ -226,6 +334,29 @@ def starter_config(board: Board) -> str:
         shown = ", ".join(sorted(unassigned, key=natural_key)[:12])
         lines.append(f"# REVIEW: no role guessed for {len(unassigned)} net(s) ({_comment(shown)}"
                      + (" ..." if len(unassigned) > 12 else "") + "); add any that sense or disturb")
+    if unnamed:
+        unnamed = sorted(unnamed, key=lambda c: (c.layer != face_layer_name(board, face), -c.y_mm, c.x_mm))
+        lines.append("")
+        lines.append(f"# REVIEW: {len(unnamed)} piece(s) of copper without a net name look like electrodes (one solid "
+                     "pad 5-34 mm across); each place below gives one the self role. Remove the ones that "
+                     "are not electrodes and rename the sensors.")
+        runs = _runs(unnamed)
+        for name in sorted({r[0] for r in runs.values()}, key=natural_key):
+            members = next(r[1] for r in runs.values() if r[0] == name)
+            kind = "slider" if name.startswith("S") else "wheel"
+            lines.append(f"# REVIEW: {len(members)} of them sit next to each other as {kind} segments do: "
+                         f"they share the sensor name {name} (one {kind}, ordered by position)")
+        order = sorted(unnamed, key=lambda c: (c.net not in runs, runs.get(c.net, ("", []))[0]))
+        k = 0
+        for c in order:
+            if c.net in runs:
+                sensor = runs[c.net][0]
+            else:
+                k += 1
+                sensor = f"E{k}"
+            lines += ["[[roles.place]]", f"layer = {_q(c.layer)}", f"point_mm = [{c.x_mm:g}, {c.y_mm:g}]",
+                      'role = "self"', f'sensor = "{sensor}"  # {c.area_mm2:.0f} mm2']
+        lines.append("")
     lines += [
         "# For boards without net names: the copper under a point takes the role (and a sensor name).",
         "# [[roles.place]]",
@@ -254,6 +385,13 @@ def starter_config(board: Board) -> str:
         "",
     ]
     return "\n".join(lines).rstrip() + "\n"
+
+
+def face_layer_name(board: Board, face: str) -> str:
+    cu = board.copper_layers()
+    if not cu:
+        return ""
+    return cu[0].name if face == "top" else cu[-1].name
 
 
 def _group_lines(self_nets: list[str]) -> list[str]:
