@@ -4,8 +4,9 @@ GitLab's documentation (doc/ci/testing/code_quality.md, "Code Quality report for
 one JSON array of objects, each with ``description``, ``check_name``, ``fingerprint`` (unique:
 issues with the same fingerprint are merged), ``severity`` (info, minor, major, critical,
 blocker), ``location.path`` (relative to the repository) and ``location.lines.begin``; no byte
-order mark. Waived findings are left out (GitLab has no way to show a suppression); a rule that
-raised is reported as ``critical`` so a broken check is never quieter than a finding.
+order mark. Waived findings are left out (GitLab has no way to show a suppression); a file that
+could not be read or a rule that raised is reported as ``critical``, so a check that could not be
+made is never quieter than a finding.
 """
 
 from __future__ import annotations
@@ -14,14 +15,14 @@ import json
 from collections.abc import Sequence
 from typing import Any
 
-from sensorcheck.report.common import board_labels, finding_path, full_message, ordered
+from sensorcheck.report.common import board_labels, finding_path, full_message, is_problem, kind_label, ordered
 from sensorcheck.rules.finding import Finding, Result
 
 SEVERITY_MAP: dict[str, str] = {"error": "major", "warning": "minor", "note": "info"}
 
 
 def _severity(f: Finding) -> str:
-    return "critical" if f.kind == "internal-error" else SEVERITY_MAP[f.severity]
+    return "critical" if is_problem(f) else SEVERITY_MAP[f.severity]
 
 
 def issues(results: Sequence[Result]) -> list[dict[str, Any]]:
@@ -39,7 +40,7 @@ def issues(results: Sequence[Result]) -> list[dict[str, Any]]:
             if n:
                 fp = f"{fp}-b{n}"
             prefix = f"{label}: " if batch else ""
-            kind = "internal error: " if f.kind == "internal-error" else ""
+            kind = f"{kind_label(f)}: " if is_problem(f) else ""
             out.append(
                 {
                     "description": f"{prefix}{kind}{f.rule_id}: {full_message(f)}",

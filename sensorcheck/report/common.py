@@ -193,13 +193,28 @@ def finding_path(f: Finding, result: Result) -> str:
     return artifact_path(f.location.file) or artifact_path(result.source) or result.source or "."
 
 
+#: How a report names a finding that is not about the design (``Finding.kind`` other than "finding").
+KIND_LABEL: dict[str, str] = {"internal-error": "internal error", "input-error": "input error"}
+
+
+def is_problem(f: Finding) -> bool:
+    """True for a check that could not be made (a file not read, a rule that raised), not a finding."""
+    return f.kind != "finding"
+
+
+def kind_label(f: Finding) -> str:
+    return KIND_LABEL.get(f.kind, f.kind.replace("-", " "))
+
+
 def counts(findings: Iterable[Finding]) -> dict[str, int]:
-    """Unwaived findings per severity, plus ``waived`` and ``internal`` (internal errors)."""
-    c = {"error": 0, "warning": 0, "note": 0, "waived": 0, "internal": 0}
+    """Unwaived findings per severity, plus ``waived``, ``input`` (files not read) and ``internal``."""
+    c = {"error": 0, "warning": 0, "note": 0, "waived": 0, "input": 0, "internal": 0}
     for f in findings:
         if f.waived:
             c["waived"] += 1
-        elif f.kind == "internal-error":
+        elif f.kind == "input-error":
+            c["input"] += 1
+        elif is_problem(f):
             c["internal"] += 1
         else:
             c[f.severity] += 1
@@ -214,6 +229,8 @@ def summary_line(findings: Iterable[Finding]) -> str:
     c = counts(findings)
     parts = [plural(c["error"], "error"), plural(c["warning"], "warning"), plural(c["note"], "note")]
     parts.append(f"{c['waived']} waived")
+    if c["input"]:
+        parts.append(plural(c["input"], "input error"))
     if c["internal"]:
         parts.append(plural(c["internal"], "internal error"))
     return ", ".join(parts)
@@ -268,13 +285,15 @@ def overlay_lines(overlay: dict[str, object] | None) -> list[str]:
 def sensor_verdict(findings: Iterable[Finding]) -> str:
     """``FAIL``, ``REVIEW`` (warnings or notes only), ``PASS``; counts appended when there are any."""
     c = counts(findings)
-    if c["error"] or c["internal"]:
+    if c["error"] or c["internal"] or c["input"]:
         word = "FAIL"
     elif c["warning"] or c["note"]:
         word = "REVIEW"
     else:
         word = "PASS"
     parts = [plural(c[k], k) for k in ("error", "warning", "note") if c[k]]
+    if c["input"]:
+        parts.append(plural(c["input"], "input error"))
     if c["internal"]:
         parts.append(plural(c["internal"], "internal error"))
     if c["waived"]:

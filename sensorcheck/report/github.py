@@ -13,7 +13,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from sensorcheck.report.common import artifact_path, board_labels, counts, full_message, ordered, plural
+from sensorcheck.report.common import artifact_path, board_labels, counts, full_message, is_problem, kind_label, ordered, plural
 from sensorcheck.rules.finding import Finding, Result
 
 MAX_PER_LEVEL = 10
@@ -37,8 +37,8 @@ def command(name: str, message: str, **props: str | int | None) -> str:
 
 
 def _annotation(f: Finding, result: Result, label: str, batch: bool) -> str:
-    level = "error" if f.kind == "internal-error" else f.severity
-    title = f.rule_id if f.kind == "finding" else f"internal error in {f.rule_id}"
+    level = "error" if is_problem(f) else f.severity
+    title = f.rule_id if not is_problem(f) else f"{kind_label(f)} ({f.rule_id})"
     if batch:
         title = f"{label}: {title}"
     # Only a real source file is attached; a finding on the whole board gets a file-less annotation.
@@ -56,11 +56,11 @@ def lines(results: Sequence[Result]) -> list[str]:
     candidates: list[tuple[Finding, Result, str]] = []
     for result, label in zip(results, board_labels(results), strict=True):
         candidates += [(f, result, label) for f in result.findings if not f.waived]
-    # Worst first across the batch; internal errors rank as errors.
+    # Worst first across the batch; input and internal errors rank as errors.
     order = ordered(f for f, _, _ in candidates)
     where = {id(f): (r, label) for f, r, label in candidates}
     for f in order:
-        level = "error" if f.kind == "internal-error" else f.severity
+        level = "error" if is_problem(f) else f.severity
         # One notice slot is kept for the summary.
         cap = MAX_PER_LEVEL - 1 if level == "note" else MAX_PER_LEVEL
         if shown[level] >= cap:
@@ -72,6 +72,8 @@ def lines(results: Sequence[Result]) -> list[str]:
     total = counts(f for r in results for f in r.findings)
     text = f"sensorcheck: {plural(total['error'], 'error')}, {plural(total['warning'], 'warning')}, "
     text += f"{plural(total['note'], 'note')}, {total['waived']} waived"
+    if total["input"]:
+        text += f", {plural(total['input'], 'input error')}"
     if total["internal"]:
         text += f", {plural(total['internal'], 'internal error')}"
     omitted = sum(left.values())

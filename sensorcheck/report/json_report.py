@@ -6,7 +6,7 @@ Schema, draft 2020-12)::
     {
       "format": "sensorcheck-report", "version": 1,
       "tool": {"name": "sensorcheck", "version": "0.1.0"},
-      "summary": {"error": 0, "warning": 0, "note": 0, "waived": 0, "internal": 0},
+      "summary": {"error": 0, "warning": 0, "note": 0, "waived": 0, "input": 0, "internal": 0},
       "boards": [
         {"board": ..., "source": ..., "config_file": ..., "timestamp": ... (only when set),
          "summary": {...}, "overlay": {...} | null, "files": [...], "notes": [...],
@@ -58,9 +58,9 @@ _LOCATION: dict[str, Any] = {
 }
 _COUNTS: dict[str, Any] = {
     "type": "object",
-    "required": ["error", "warning", "note", "waived", "internal"],
+    "required": ["error", "warning", "note", "waived", "input", "internal"],
     "additionalProperties": False,
-    "properties": {k: {"type": "integer", "minimum": 0} for k in ("error", "warning", "note", "waived", "internal")},
+    "properties": {k: {"type": "integer", "minimum": 0} for k in ("error", "warning", "note", "waived", "input", "internal")},
 }
 _SEVERITY: dict[str, Any] = {"enum": ["error", "warning", "note"]}
 
@@ -170,7 +170,7 @@ REPORT_SCHEMA: dict[str, Any] = {
                                 "fingerprint": {"type": "string"},
                                 "rule_id": {"type": "string"},
                                 "severity": _SEVERITY,
-                                "kind": {"enum": ["finding", "internal-error"]},
+                                "kind": {"enum": ["finding", "internal-error", "input-error"]},
                                 "message": {"type": "string"},
                                 "value": _NUM_OR_NULL,
                                 "limit": _NUM_OR_NULL,

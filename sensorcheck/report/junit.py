@@ -5,7 +5,8 @@
   id, so name + classname is unique even for a batch of boards), a passing rule an empty test case,
   so the CI test count shows how many rules were checked;
 - a ``failure`` when the rule has unwaived findings at error level (all of them listed in its
-  body), ``error`` when the rule itself raised (an internal error), ``skipped`` when every finding
+  body), ``error`` when the rule itself raised or an input could not be read (``type`` says which:
+  internal-error, input-error; unreadable files appear under the ``input`` family), ``skipped`` when every finding
   the rule has is waived (message: the waivers' reasons);
 - warnings, notes and waived findings next to failures are listed in ``system-out``.
 No time attributes (the report is byte-identical for the same result); ``timestamp`` on the
@@ -22,6 +23,7 @@ from sensorcheck.report.common import (
     TOOL_NAME,
     board_labels,
     family_of,
+    is_problem,
     full_message,
     ordered,
     rule_catalogue,
@@ -56,13 +58,13 @@ def _line(f: Finding) -> str:
 
 def _testcase(suite: ET.Element, classname: str, rule_id: str, findings: list[Finding]) -> dict[str, int]:
     case = ET.SubElement(suite, "testcase", {"classname": xml_text(classname), "name": xml_text(rule_id)})
-    internal = [f for f in findings if f.kind == "internal-error" and not f.waived]
+    internal = [f for f in findings if is_problem(f) and not f.waived]
     failing = [f for f in findings if f.kind == "finding" and not f.waived and f.severity == "error"]
     waived = [f for f in findings if f.waived]
     rest = [f for f in findings if f not in failing and f not in internal]
     tally = {"failures": 0, "errors": 0, "skipped": 0}
     if internal:
-        el = ET.SubElement(case, "error", {"type": "internal-error", "message": xml_text(internal[0].message)})
+        el = ET.SubElement(case, "error", {"type": internal[0].kind, "message": xml_text(safe_text(internal[0].message))})
         el.text = xml_text("\n".join(_line(f) for f in internal))
         tally["errors"] = 1
     if failing:

@@ -18,6 +18,8 @@ from collections.abc import Iterable, Sequence
 from sensorcheck.report.common import (
     board_labels,
     counts,
+    is_problem,
+    kind_label,
     num,
     ordered,
     overlay_lines,
@@ -56,7 +58,7 @@ def _table(header: Sequence[str], rows: Iterable[Sequence[str]]) -> list[str]:
 def _finding_row(f: Finding) -> list[str]:
     return [
         md(f.rule_id),
-        "internal error" if f.kind == "internal-error" else f.severity,
+        kind_label(f) if is_problem(f) else f.severity,
         md(f.message),
         md(value_text(f) or ""),
         md(where_text(f.location)),
@@ -106,6 +108,8 @@ def _rule_status(rule_id: str, findings: list[Finding]) -> str:
         return "pass"
     c = counts(mine)
     parts = []
+    if c["input"]:
+        parts.append("input not read")
     if c["internal"]:
         parts.append("did not run (internal error)")
     for key in ("error", "warning", "note"):
@@ -113,7 +117,7 @@ def _rule_status(rule_id: str, findings: list[Finding]) -> str:
             parts.append(f"{c[key]} {key}{'s' if c[key] > 1 else ''}")
     if c["waived"]:
         parts.append(f"{c['waived']} waived")
-    verdict = "fail" if c["error"] or c["internal"] else ("waived" if not (c["warning"] or c["note"]) else "pass with remarks")
+    verdict = "fail" if c["error"] or c["internal"] or c["input"] else ("waived" if not (c["warning"] or c["note"]) else "pass with remarks")
     return f"{verdict}: {', '.join(parts)}"
 
 

@@ -14,8 +14,9 @@ reference/output-formats.md B.1):
   scanning does not hash the Gerber line text (which changes with every export);
 - waived findings carry a ``suppressions`` entry (kind ``external``: the waiver lives in
   sensorcheck.toml, outside the analysed files) whose justification is the waiver's reason;
-- a rule or estimate that raised is a tool execution notification, not a result, and marks the
-  invocation unsuccessful.
+- a file that could not be read or a rule or estimate that raised is a tool execution
+  notification (with the file and line where known), not a result, and marks the invocation
+  unsuccessful.
 """
 
 from __future__ import annotations
@@ -32,6 +33,8 @@ from sensorcheck.report.common import (
     board_labels,
     first_paragraph,
     full_message,
+    is_problem,
+    kind_label,
     ordered,
     rule_catalogue,
     safe_text,
@@ -151,13 +154,18 @@ def _result(f: Finding, result: Result, label: str, rule_index: dict[str, int]) 
     return out
 
 
-def _notification(f: Finding, label: str) -> dict[str, Any]:
-    return {
+def _notification(f: Finding, result: Result, label: str) -> dict[str, Any]:
+    """A file that could not be read or a check that raised: the tool could not do its job there."""
+    out: dict[str, Any] = {
         "level": "error",
-        "message": {"text": f"{label}: {safe_text(f.message)}"},
+        "message": {"text": f"{label}: {kind_label(f)}: {safe_text(f.message)}"},
         "descriptor": {"id": f.rule_id},
-        "properties": {"board": label, "fingerprint": f.fingerprint},
+        "properties": {"board": label, "fingerprint": f.fingerprint, "kind": f.kind},
     }
+    path = artifact_path(f.location.file)
+    if path is not None:
+        out["locations"] = [{"physicalLocation": {"artifactLocation": {"uri": artifact_uri(path)}, "region": _region(f.location)}}]
+    return out
 
 
 def log_data(results: Sequence[Result]) -> dict[str, Any]:
@@ -168,8 +176,8 @@ def log_data(results: Sequence[Result]) -> dict[str, Any]:
     notifications: list[dict[str, Any]] = []
     for result, label in zip(results, board_labels(results), strict=True):
         for f in ordered(result.findings):
-            if f.kind == "internal-error":
-                notifications.append(_notification(f, label))
+            if is_problem(f):
+                notifications.append(_notification(f, result, label))
             else:
                 sarif_results.append(_result(f, result, label, rule_index))
     invocation: dict[str, Any] = {

@@ -18,6 +18,7 @@ from rich.text import Text
 
 from sensorcheck.report.common import (
     board_labels,
+    is_problem,
     num,
     ordered,
     overlay_lines,
@@ -128,7 +129,16 @@ def _findings_block(findings: list[Finding], catalogue: dict[str, RuleInfo]) -> 
             out.append(head)
             out.extend(_finding_lines(f) for f in by_rule[rule_id])
         out.append(Text(""))
-    internal = [f for f in findings if f.kind == "internal-error" and not f.waived]
+    unread = [f for f in findings if f.kind == "input-error" and not f.waived]
+    if unread:
+        out.append(Text(f"INPUT ERRORS ({len(unread)}): these inputs could not be read, so nothing in them was checked", style=_STYLE["internal"]))
+        for f in unread:
+            line = Text(f"  - {safe_text(f.message)}")
+            if f.location.file:
+                line.append(f"\n      {safe_text(f.location.file)}{':' + str(f.location.line) if f.location.line else ''}", style="dim")
+            out.append(line)
+        out.append(Text(""))
+    internal = [f for f in findings if is_problem(f) and f.kind != "input-error" and not f.waived]
     if internal:
         out.append(Text(f"INTERNAL ERRORS ({len(internal)}): these checks did not run", style=_STYLE["internal"]))
         for f in internal:

@@ -119,6 +119,8 @@ def _board_b() -> Result:
                 0.4, 0.6, "ratio", Location("top-copper", 7.0, 5.0, None, "b/top.gbr", 11), nets=("TX", "RX"), sensor="S1"),
         Finding("area.rx-to-ground", "note", "RX area is 5 % of the ground", 5.0, None, "%",
                 Location("top-copper", 5.0, 6.0), nets=("RX",), sensor="S1"),
+        Finding("input.unreadable", "error", "b/inner.gbr:57: unknown aperture D999 (expected a defined aperture)",
+                location=Location(file="b/inner.gbr", line=57), kind="input-error"),
     ]
     assign_fingerprints(findings, "panel-b")
     return Result(

@@ -30,7 +30,7 @@ def test_schema_is_a_valid_schema_and_report_fits(results: list[Result]) -> None
 def test_content(results: list[Result]) -> None:
     data = json.loads(render(results, "json"))
     assert data["format"] == "sensorcheck-report" and data["version"] == 1
-    assert data["summary"] == {"error": 4, "warning": 4, "note": 4, "waived": 1, "internal": 1}
+    assert data["summary"] == {"error": 4, "warning": 4, "note": 4, "waived": 1, "input": 1, "internal": 1}
     a = data["boards"][0]
     assert [s["name"] for s in a["sensors"]] == sorted(s.name for s in results[0].sensors)
     via = next(f for f in a["findings"] if f["rule_id"] == "routing.via-in-zone")

@@ -41,14 +41,15 @@ def test_structure(results: list[Result]) -> None:
     # One suite per rule family per board.
     assert names == [
         "panel-a.area", "panel-a.estimate", "panel-a.gap", "panel-a.hatch", "panel-a.routing",
-        "panel-b.area", "panel-b.gap", "panel-b.routing",
+        "panel-b.area", "panel-b.gap", "panel-b.input", "panel-b.routing",
     ]  # fmt: skip
     cases = root.findall(".//testcase")
     keys = [(c.get("classname"), c.get("name")) for c in cases]
     assert len(keys) == len(set(keys)), "GitLab needs unique name+classname"
-    # One test case per rule that ran: 7 on panel-a, 4 on panel-b, passing rules included.
-    assert len(cases) == 7 + 4
-    assert root.get("tests") == "11"
+    # One test case per rule that ran: 7 on panel-a, 4 on panel-b, passing rules included, and one
+    # for the file panel-b could not read.
+    assert len(cases) == 7 + 4 + 1
+    assert root.get("tests") == "12"
     by_key = {(c.get("classname"), c.get("name")): c for c in cases}
     agg = by_key[("sensorcheck.panel-a.routing", "routing.aggressor-near-trace")]
     (fail,) = agg.findall("failure")
@@ -63,6 +64,9 @@ def test_structure(results: list[Result]) -> None:
     # A rule that raised: an <error>.
     est = by_key[("sensorcheck.panel-a.estimate", "estimate.turnaround")]
     assert est.find("error") is not None and est.find("error").get("type") == "internal-error"  # type: ignore[union-attr]
+    unread = by_key[("sensorcheck.panel-b.input", "input.unreadable")]
+    assert unread.find("error").get("type") == "input-error"  # type: ignore[union-attr]
+    assert "unknown aperture D999" in (unread.find("error").text or "")  # type: ignore[union-attr]
     # Counts add up per suite.
     for s in suites:
         tc = s.findall("testcase")

@@ -126,3 +126,12 @@ def test_uri_is_a_relative_uri_reference(one_board: list[Result]) -> None:
     log = json.loads(render(one_board, "sarif"))
     uris = {r["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] for r in log["runs"][0]["results"]}
     assert "hw/my%20board%20%231.gbr" in uris
+
+
+def test_unreadable_input_is_a_notification_with_its_file(results: list[Result]) -> None:
+    log = json.loads(render(results, "sarif"))
+    inv = log["runs"][0]["invocations"][0]
+    unread = [n for n in inv["toolExecutionNotifications"] if n["properties"]["kind"] == "input-error"]
+    assert len(unread) == 1
+    loc = unread[0]["locations"][0]["physicalLocation"]
+    assert loc["artifactLocation"]["uri"] == "b/inner.gbr" and loc["region"]["startLine"] == 57

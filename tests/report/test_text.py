@@ -76,3 +76,10 @@ def test_overlay_stack_is_listed(one_board: list[Result]) -> None:
     assert "overlay: face = top" in text
     assert "layer: pmma 2 mm eps_r 2.6 overlay (permittivity: handbook)" in text
     assert "layer: adhesive 0.05 mm eps_r 3 adhesive (permittivity: config)" in text
+
+
+def test_unreadable_input_is_listed(results: list[Result]) -> None:
+    text = render(results, "text")
+    assert "INPUT ERRORS (1): these inputs could not be read" in text
+    assert "b/inner.gbr:57" in text
+    assert "1 error, 1 warning, 1 note, 0 waived, 1 input error; 5 rules ran" in text
