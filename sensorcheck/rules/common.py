@@ -7,6 +7,7 @@ from collections.abc import Iterable, Sequence
 from typing import Any
 
 import shapely
+import shapely.ops
 from shapely.geometry import LineString, MultiLineString, Point
 from shapely.geometry.base import BaseGeometry
 
@@ -245,7 +246,7 @@ def min_inscribed_width_mm(geom: BaseGeometry, tol_mm: float = 0.02) -> float:
 
 
 def nearest_points(a: BaseGeometry, b: BaseGeometry) -> tuple[tuple[float, float], tuple[float, float]]:
-    pa, pb = shapely.ops.nearest_points(a, b)
+    pa, pb = shapely.ops.nearest_points(a, b)  # noqa
     return (pa.x, pa.y), (pb.x, pb.y)
 
 

@@ -13,6 +13,7 @@ from shapely.geometry import LineString
 from sensorcheck.design.model import Design, Sensor
 from sensorcheck.rules.common import (
     contact_diameter_mm,
+    estimate_ok,
     finding,
     fmt,
     midpoint,
@@ -22,6 +23,7 @@ from sensorcheck.rules.common import (
     union,
 )
 from sensorcheck.rules.engine import Param, Rule
+from sensorcheck.rules.gap import _FLOOR_PARAMS
 from sensorcheck.rules.finding import Finding
 
 _CONTACT = Param(8.0, "mm", "common practice",
@@ -51,13 +53,15 @@ class SizeVsContact(Rule):
     References:
         Electrode at least D_f + 2t: common practice (vendor guidance, anonymous); geometric t for
         lateral rules: derived (field shape in a uniform overlay does not depend on eps_r).
+        Where the field solver has an estimate for the sensor, the estimate decides (floors as in
+        ``signal.touch-below-floor``).
     """
 
     id = "electrode.size-vs-contact"
     title = "Electrode size against contact and overlay"
     default_severity = "warning"
     needs = ("sensors", "overlay")
-    params = {"contact_diameter_mm": _CONTACT}
+    params = {"contact_diameter_mm": _CONTACT, **_FLOOR_PARAMS}
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         t = overlay_thickness_mm(design)
@@ -76,10 +80,19 @@ class SizeVsContact(Rule):
                 eq = math.sqrt(4 * g.area / math.pi)
                 if width >= limit - 0.05:
                     continue
+                msg = (
+                    f"electrode fits a {fmt(width, 1)} mm disc (equivalent diameter {fmt(eq, 1)} mm); limit "
+                    f"{fmt(limit, 1)} mm = contact {fmt(df, 1)} mm + 2 x overlay {fmt(t, 2)} mm"
+                )
+                est = estimates.get(s.name)
+                if est is not None:
+                    ok, text = estimate_ok(est, params["min_delta_pf"], params["min_percent_self"], params["min_percent_mutual"])
+                    if ok:
+                        continue
+                    msg += f"; {text}"
                 yield finding(
                     "warning",
-                    f"electrode fits a {fmt(width, 1)} mm disc (equivalent diameter {fmt(eq, 1)} mm); limit "
-                    f"{fmt(limit, 1)} mm = contact {fmt(df, 1)} mm + 2 x overlay {fmt(t, 2)} mm",
+                    msg,
                     value=width, limit=limit, unit="mm", layer=layer, geom=g, nets=tuple(net.split(",")), sensor=s.name,
                 )
 
@@ -190,7 +203,10 @@ class SliderCoverage(Rule):
         A disc of the contact diameter is swept along the centre line through the segment
         centroids (end to end for a slider, all the way round for a wheel).  At every step the
         disc must overlap at least two segments, the second-largest overlap being at least
-        ``min_second_fraction`` of the largest; no position may overlap nothing (a dead zone).
+        ``min_second_fraction`` of the largest; no position may overlap nothing (a dead zone).  At
+        the two ends of a slider the finger's centre cannot reach the edge, so the end stretches
+        where only the end segment sees it are judged by their length only (at most
+        ``max_end_fraction`` of the contact).
     Why it matters:
         The position comes from interpolating between neighbouring segments: where only one
         segment sees the finger, the position jumps; where none does, the finger is lost.
@@ -215,6 +231,9 @@ class SliderCoverage(Rule):
         "contact_diameter_mm": _CONTACT,
         "min_second_fraction": Param(0.1, "1", "derived", "second-largest overlap / largest overlap, at least"),
         "step_mm": Param(0.25, "mm", "derived", "sweep step along the centre line"),
+        "max_end_fraction": Param(0.5, "1", "common practice",
+                                  "slider end travel seen by one segment only, at most this fraction of the contact "
+                                  "(the finger centre cannot reach the ends: about half a contact is lost)"),
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
@@ -230,23 +249,35 @@ class SliderCoverage(Rule):
                 continue
             sweep = coverage_sweep(segs, s.kind == "wheel", df, params["step_mm"])
             step = _centre_line_length(segs, s.kind == "wheel") / len(sweep)
+            ratios: list[float] = []
             dead_mm = 0.0
-            worst_ratio, worst_pt = 1.0, sweep[0][0]
+            dead_pt = None
             for pt, areas in sweep:
                 srt = sorted(areas, reverse=True)
                 if srt[0] <= 1e-9:
                     dead_mm += step
-                    worst_ratio, worst_pt = 0.0, pt
-                    continue
-                r = srt[1] / srt[0]
-                if r < worst_ratio:
-                    worst_ratio, worst_pt = r, pt
+                    dead_pt = dead_pt or pt
+                    ratios.append(0.0)
+                else:
+                    ratios.append(srt[1] / srt[0])
+            ok = [r >= params["min_second_fraction"] for r in ratios]
+            lo, hi = 0, len(ok)
+            end_mm = 0.0
+            if s.kind == "slider" and any(ok):
+                # the finger's centre cannot reach the physical ends: the stretches before the first
+                # and after the last two-segment position are end travel, judged on their length only
+                lo = ok.index(True)
+                hi = len(ok) - ok[::-1].index(True)
+                end_mm = max(lo, len(ok) - hi) * step
+            worst_i = min(range(lo, hi), key=lambda i: ratios[i]) if hi > lo else 0
+            worst_ratio, worst_pt = (ratios[worst_i], sweep[worst_i][0]) if hi > lo else (0.0, sweep[0][0])
+            max_end = params["max_end_fraction"] * df
             if dead_mm > 0:
                 yield finding(
                     "warning",
                     f"a {fmt(df, 1)} mm contact swept along {s.name} overlaps no segment over {fmt(dead_mm, 2)} mm "
                     "(dead zone; limit 0 mm)",
-                    value=dead_mm, limit=0.0, unit="mm", layer=s.layer, point=worst_pt, geom=s.outline,
+                    value=dead_mm, limit=0.0, unit="mm", layer=s.layer, point=dead_pt, geom=s.outline,
                     nets=s.nets, sensor=s.name,
                 )
             elif worst_ratio < params["min_second_fraction"]:
@@ -257,6 +288,13 @@ class SliderCoverage(Rule):
                     "cover two segments)",
                     value=100 * worst_ratio, limit=100 * params["min_second_fraction"], unit="%", layer=s.layer,
                     point=worst_pt, geom=s.outline, nets=s.nets, sensor=s.name,
+                )
+            elif end_mm > max_end + step:
+                yield finding(
+                    "warning",
+                    f"at the ends of {s.name} a {fmt(df, 1)} mm contact sees a single segment over {fmt(end_mm, 1)} mm of "
+                    f"travel; limit {fmt(max_end, 1)} mm ({fmt(params['max_end_fraction'], 2)} x contact)",
+                    value=end_mm, limit=max_end, unit="mm", layer=s.layer, geom=s.outline, nets=s.nets, sensor=s.name,
                 )
 
 

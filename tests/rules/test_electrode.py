@@ -138,3 +138,29 @@ def test_matrix_pitch(pitch: float, warn: bool) -> None:
     if warn:
         assert len(found) == 6  # 3 row pitches + 3 column pitches
         assert all(f.value == pytest.approx(pitch) for f in found)
+
+
+def test_estimate_decides_for_size() -> None:
+    from sensorcheck.physics.estimate import SensorEstimate
+
+    d = buttons(box(0, 0, 10, 10))  # 10 mm < 12 mm: a warning by the rule of thumb ...
+    good = SensorEstimate("B0", "self", "m", 15.0, 0.6, 4.0, None)  # ... but 0.6 pF, 4 % clear 0.1 pF and 3 %
+    assert run_one("electrode.size-vs-contact", d, {"B0": good}) == []
+    weak = SensorEstimate("B0", "self", "m", 15.0, 0.3, 2.0, None)
+    (f,) = run_one("electrode.size-vs-contact", d, {"B0": weak})
+    assert "field-solver estimate" in f.message
+
+
+def test_slider_end_travel() -> None:
+    # 5 segments, 4 mm wide, 0.5 mm gaps: only 2 mm at each end between the end centroid and where the
+    # neighbour shows: end travel under the 4 mm limit (half the contact).  Wide end blocks push it over.
+    assert run_one("electrode.slider-coverage", slider(4.0, 0.5)) == []
+    segs = [box(-20, 0, 0, 12)] + [box(0.5 + 4.5 * i, 0, 4.5 + 4.5 * i, 12) for i in range(3)] + [box(14, 0, 34, 12)]
+    nets = [f"SL{i}" for i in range(5)]
+    board = make_board([region("top-copper", g, n) for g, n in zip(segs, nets)])
+    s = sensor("S1", "slider", [electrode(n, "self", g) for g, n in zip(segs, nets)], order=tuple(nets))
+    d = make_design(board, make_config(1.0), {n: "self" for n in nets}, [s])
+    (f,) = run_one("electrode.slider-coverage", d)
+    # end block centroid at -10; the neighbour (from x = 0.5) enters a 4 mm-radius disc at x = -3.5 and reaches
+    # 10 % of the first some way after: at least 6.5 mm of single-segment end travel, limit 4 mm
+    assert f.value >= 6.5 and f.limit == pytest.approx(4.0) and "ends" in f.message
