@@ -19,6 +19,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
+import shapely
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
@@ -105,6 +106,7 @@ ELECTRODE_AREA_MM2 = (20.0, 900.0)
 MAX_HOLES = 2
 MIN_SOLIDITY = 0.7
 MAX_ASPECT = 5.0
+MAX_COORDINATES = 5000
 _POWER_RE = re.compile(r"(GND|VCC|VDD|VSS|VBAT|VBUS|VIN|VOUT|^\+|^-|(^|[_.])[0-9]+V[0-9]*([_.]|$)|^V[0-9])")
 
 
@@ -173,6 +175,8 @@ def electrode_candidates(board: Board, skip: set[str]) -> list[Candidate]:
             geom = la.by_net[net]
             if geom.is_empty or geom.area < ELECTRODE_AREA_MM2[0] or geom.area > 4 * ELECTRODE_AREA_MM2[1]:
                 continue
+            if shapely.get_num_coordinates(geom) > MAX_COORDINATES:
+                continue  # hatch, pour or lettering: not a plain electrode (and slow to open)
             electrode, _trace = split_electrode(la, net)
             polys = list(getattr(electrode, "geoms", [electrode]))
             if len(polys) != 1 or electrode.is_empty:

@@ -1,0 +1,97 @@
+"""Real boards (../shared/corpus): `init` writes a config that loads, and the sensors it leads to
+match what the boards' designers published (corpus README, "sensors on the board").
+
+Each expected count below is the designers' statement, not our output; skipped without ../shared.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from sensorcheck.commands.init import starter_config
+from sensorcheck.design.config import load_config
+from sensorcheck.design.sensors import build_design
+
+pytestmark = pytest.mark.corpus
+
+
+def _known_rules() -> dict[str, dict[str, type]] | None:
+    try:
+        from sensorcheck.rules.engine import known_rules
+    except ImportError:
+        return None
+    return known_rules()
+
+
+def design_from_init(shared_dir: Path, board_id: str, tmp_path: Path):
+    build = pytest.importorskip("sensorcheck.board.build")
+    fab = shared_dir / "corpus" / board_id / "fab"
+    if not fab.is_dir():
+        pytest.skip(f"{board_id} not in the corpus")
+    board = build.load_board(fab)
+    p = tmp_path / "sensorcheck.toml"
+    p.write_text(starter_config(board), encoding="utf-8")
+    config = load_config(p, known_rules=_known_rules())
+    return build_design(board, config), p.read_text(encoding="utf-8")
+
+
+def test_b03_wheel(shared_dir: Path, tmp_path: Path) -> None:
+    # designers: "a 3-electrode interleaved wheel on the bottom copper"; nets /TOUCH0..2 (X2 names)
+    d, text = design_from_init(shared_dir, "b03-wheel", tmp_path)
+    assert 'face = "bottom"' in text
+    wheels = [s for s in d.sensors if s.kind == "wheel"]
+    assert len(wheels) == 1
+    w = wheels[0]
+    assert w.layer == "bottom-copper" and len(w.electrodes) == 3
+    assert sorted(w.order) == ["/TOUCH0", "/TOUCH1", "/TOUCH2"]
+    # the three electrodes of one wheel are the same shape rotated: equal areas
+    areas = [e.geometry.area for e in w.electrodes]
+    assert max(areas) == pytest.approx(min(areas), rel=0.02)
+
+
+def test_b06_two_thirteen_key_keyboards(shared_dir: Path, tmp_path: Path) -> None:
+    # designers: "two 13-key keyboards on one panel"; the key nets carry only generated names
+    d, text = design_from_init(shared_dir, "b06-keyboard", tmp_path)
+    buttons = [s for s in d.sensors if s.kind == "self-button"]
+    assert len(buttons) == 26
+    assert "REVIEW" in text
+
+
+def test_b02_eighteen_buttons(shared_dir: Path, tmp_path: Path) -> None:
+    # designers: "18 self-capacitance buttons" (pads with LED windows: one hole each)
+    d, _ = design_from_init(shared_dir, "b02-buttons-4layer", tmp_path)
+    buttons = [s for s in d.sensors if s.kind == "self-button"]
+    assert len(buttons) == 18
+    assert all(len(s.electrodes[0].geometry.interiors if hasattr(s.electrodes[0].geometry, "interiors") else []) <= 2
+               for s in buttons)
+
+
+def test_b07_eight_pad_slider_without_net_names(shared_dir: Path, tmp_path: Path) -> None:
+    # designers: "an 8-pad self-capacitance slider"; the files carry no net names, so init gives roles by place
+    d, text = design_from_init(shared_dir, "b07-slider-inch", tmp_path)
+    assert "[[roles.place]]" in text
+    sliders = [s for s in d.sensors if s.kind == "slider"]
+    assert len(sliders) == 1 and len(sliders[0].order) == 8
+    assert sliders[0].how_found == "place"
+    # ordered by position along the slider: centroid x strictly monotonic
+    xs = [e.geometry.centroid.x for e in sliders[0].electrodes]
+    assert xs == sorted(xs) or xs == sorted(xs, reverse=True)
+
+
+def test_cli_init_on_a_real_board(shared_dir: Path, tmp_path: Path) -> None:
+    """`sensorcheck init PATH --output FILE` end to end: exit 0, a file that loads, then exit 2 without --force."""
+    pytest.importorskip("sensorcheck.board.build")
+    from sensorcheck.cli import main
+
+    fab = shared_dir / "corpus" / "b06-keyboard" / "fab"
+    if not fab.is_dir():
+        pytest.skip("b06 not in the corpus")
+    out = tmp_path / "b06.toml"
+    assert main(["init", str(fab), "--output", str(out)]) == 0
+    config = load_config(out, known_rules=_known_rules())
+    assert config.stackup_override is not None  # b06 has a Gerber job file with its stackup
+    assert config.stackup_override.source == "config"
+    assert main(["init", str(fab), "--output", str(out)]) == 2
+    assert main(["init", str(fab), "--output", str(out), "--force"]) == 0
