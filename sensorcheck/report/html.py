@@ -279,10 +279,9 @@ def _svg(prefix: str, result: Result, fids: dict[int, str], findings: list[Findi
         )
         box = s.box_mm or _rings_box(s.outline_rings)
         if box:
-            cx, cy = (box[0] + box[2]) / 2, (box[1] + box[3]) / 2
+            cx = (box[0] + box[2]) / 2
             sensor_parts.append(
-                f'<text class="sensor-label" x="{_c(cx)}" y="{_c(-cy)}" text-anchor="middle" '
-                f'dominant-baseline="central">{esc(s.name)}</text>'
+                f'<text class="sensor-label" x="{_c(cx)}" y="{_c(-box[3])}" text-anchor="middle">{esc(s.name)}</text>'
             )
         sensor_parts.append("</g>")
     if zone_parts:
@@ -397,9 +396,19 @@ def _overlay_block(overlay: dict[str, Any] | None) -> str:
     lists = [(k, v) for k, v in overlay.items() if isinstance(v, list) and all(isinstance(x, dict) for x in v)]
     out = ['<div class="overlay"><strong>Overlay</strong>']
     if scalars:
-        out.append("<ul>" + "".join(f"<li>{_kv_html(k, v)}</li>" for k, v in scalars) + "</ul>")
+        out.append('<ul class="inline">' + "".join(f"<li>{_kv_html(k, v)}</li>" for k, v in scalars) + "</ul>")
     for key, rows in lists:
-        out.append(_dict_table(rows, caption=str(key)))
+        out.append(f'<div class="muted">{esc(key)}, from the touch surface down</div><ol class="stack">')
+        for row in rows:
+            name = row.get("name") or row.get("material") or "layer"
+            kind = f" ({esc(row['kind'])})" if row.get("kind") else ""
+            rest = [
+                _kv_html(k, v) for k, v in row.items()
+                if k not in ("name", "material", "kind") and not k.endswith("source") and not isinstance(v, list | dict)
+            ]
+            sources = [f'<span class="src">{esc(v)}</span>' for k, v in row.items() if k.endswith("source") and v]
+            out.append(f"<li><b>{esc(name)}</b>{kind}: {', '.join(rest)}{''.join(sources)}</li>")
+        out.append("</ol>")
     out.append("</div>")
     return "".join(out)
 
@@ -516,7 +525,10 @@ def _sensor_card(prefix: str, si: int, s: SensorSummary) -> str:
     if s.nets:
         facts.append("nets " + ", ".join(f"<code>{esc(n)}</code>" for n in s.nets))
     out = [
-        f'<article class="sensor-card" id="{prefix}-sensor{si}"><h4>{esc(s.name)}</h4>',
+        f'<article class="sensor-card" id="{prefix}-sensor{si}"><div class="card-head"><h4>{esc(s.name)}</h4>'
+        + (f'<button type="button" class="show-sensor" data-sid="{prefix}-s{si}">show on board</button>'
+           if s.box_mm or s.outline_rings else "")
+        + "</div>",
         f'<p class="facts-line">{" · ".join(facts)}</p>',
     ]
     if rows:
@@ -752,10 +764,13 @@ def _board_data(prefix: str, result: Result, findings: list[Finding], fids: dict
             }
         )
     sensors = []
-    for s in sensors_sorted(result):
+    for si, s in enumerate(sensors_sorted(result)):
         box = s.box_mm or _rings_box(s.outline_rings)
         if box:
-            sensors.append({"name": s.name, "box": [round(box[0], 4), round(-box[3], 4), round(box[2], 4), round(-box[1], 4)]})
+            sensors.append(
+                {"id": f"{prefix}-s{si}", "name": s.name,
+                 "box": [round(box[0], 4), round(-box[3], 4), round(box[2], 4), round(-box[1], 4)]}
+            )
     return {
         "board": result.board,
         "home": [round(x0, 4), round(-y1, 4), round(x1 - x0, 4), round(y1 - y0, 4)],

@@ -172,3 +172,19 @@ def test_click_on_board_lists_what_is_there(session: dict[str, Any]) -> None:
     assert "top-copper" in here  # B1's electrode is top copper
     assert "B1" in here
     assert "x 14.9" in here or "x 14.8" in here or "x 15.0" in here
+
+
+def test_show_sensor_on_board(session: dict[str, Any]) -> None:
+    page = session["page"]
+    page.focus(".canvas")
+    page.keyboard.press("0")
+    home = _view(page)
+    card = page.locator(".sensor-card", has=page.locator("h4", has_text="K1"))
+    card.locator("button.show-sensor").click()
+    group = page.locator('svg g.sensor[data-sensor="K1"]')
+    assert "hl" in group.get_attribute("class").split()
+    x, y, w, h = _view(page)
+    # K1 spans (52, 26)-(67, 41) mm in the synthetic board: all of it in view, and the view is closer
+    assert x <= 52 and x + w >= 67 and y <= -41 and y + h >= -26
+    assert w < home[2]
+    page.keyboard.press("0")

@@ -127,6 +127,30 @@
       cb.addEventListener("change", function () { section.classList.toggle("hide-" + cb.getAttribute("data-filter"), !cb.checked); });
     });
 
+    // a box [x0, y0, x1, y1] (SVG axes) filling most of the view, never closer than 6 % of the board
+    function zoomTo(b) {
+      var w = b[2] - b[0], h = b[3] - b[1];
+      var span = Math.max(w, h, Math.max(home[2], home[3]) * 0.06) * 1.8;
+      var cx = (b[0] + b[2]) / 2, cy = (b[1] + b[3]) / 2;
+      var aspect = home[3] / home[2];
+      var vw = aspect > 1 ? span / aspect : span, vh = aspect > 1 ? span : span * aspect;
+      if (vw < w * 1.3) { vw = w * 1.3; vh = vw * aspect; }
+      if (vh < h * 1.3) { vh = h * 1.3; vw = vh / aspect; }
+      setView([cx - vw / 2, cy - vh / 2, vw, vh]);
+    }
+    var sensorsById = {};
+    data.sensors.forEach(function (s) { sensorsById[s.id] = s; });
+    all(section, "button.show-sensor").forEach(function (b) {
+      b.addEventListener("click", function () {
+        var sid = b.getAttribute("data-sid");
+        all(svg, ".sensor.hl").forEach(function (g) { g.classList.remove("hl"); });
+        var g = document.getElementById(sid);
+        if (g) { g.classList.add("hl"); }
+        if (sensorsById[sid]) { zoomTo(sensorsById[sid].box); }
+        canvas.scrollIntoView({ block: "center" });
+      });
+    });
+
     // selecting a finding: highlight its marker and list entry, zoom to it
     function select(fid, zoom) {
       all(section, ".fmark.hl").forEach(function (m) { m.classList.remove("hl"); });
@@ -138,17 +162,7 @@
       mark.classList.add("hl");
       mark.parentNode.appendChild(mark);
       var f = byId[fid];
-      if (zoom && f) {
-        var b = f.box || [f.x, f.y, f.x, f.y];
-        var w = b[2] - b[0], h = b[3] - b[1];
-        var span = Math.max(w, h, Math.max(home[2], home[3]) * 0.06) * 1.8;
-        var cx = (b[0] + b[2]) / 2, cy = (b[1] + b[3]) / 2;
-        var aspect = home[3] / home[2];
-        var vw = aspect > 1 ? span / aspect : span, vh = aspect > 1 ? span : span * aspect;
-        if (vw < w * 1.3) { vw = w * 1.3; vh = vw * aspect; }
-        if (vh < h * 1.3) { vh = h * 1.3; vw = vh / aspect; }
-        setView([cx - vw / 2, cy - vh / 2, vw, vh]);
-      }
+      if (zoom && f) { zoomTo(f.box || [f.x, f.y, f.x, f.y]); }
       return item;
     }
     all(section, ".fbtn").forEach(function (b) {

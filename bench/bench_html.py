@@ -1,0 +1,142 @@
+"""Review page size and load time on real boards, measured in headless Chromium.
+
+Targets (issue 5): the page of the largest corpus board stays under 5 MB and reaches its load
+event in under 2 s from navigation start, by the browser's own clock
+(``PerformanceNavigationTiming.loadEventEnd``, W3C Navigation Timing Level 2).
+
+For each board: the check runs (``check_board`` with the drawing, estimates off unless
+``--estimate``), the page is rendered and written, then opened ``--runs`` times in a fresh tab;
+the bench prints the page size, the drawing tolerance used, the time to draw and render, and
+min/median/max of the load time, next to an empty page's load time measured in the same browser
+as the baseline. A screenshot of each page is kept beside it.
+
+    python bench/bench_html.py                      # b01, b03, b06 from ../shared/corpus
+    python bench/bench_html.py --out /tmp/pages b03-wheel --runs 5
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import sys
+import tempfile
+import time
+from pathlib import Path
+from typing import Any
+
+REPO = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(REPO))
+
+from sensorcheck.board.build import load_board  # noqa: E402
+from sensorcheck.board.drawing import drawing_from_board  # noqa: E402
+from sensorcheck.check import CheckOptions, check_board  # noqa: E402
+from sensorcheck.report.html import render  # noqa: E402
+from sensorcheck.rules.finding import Result  # noqa: E402
+
+CORPUS = REPO.parent / "shared" / "corpus"
+DEFAULT_BOARDS = ("b01-slider-proto", "b03-wheel", "b06-keyboard")
+LIMIT_BYTES = 5_000_000
+LIMIT_LOAD_S = 2.0
+CHROMIUM_ARGS = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--no-first-run",
+]
+LOAD_JS = """() => {
+  const n = performance.getEntriesByType('navigation')[0];
+  return [n.loadEventEnd - n.startTime, n.domContentLoadedEventEnd - n.startTime];
+}"""
+
+
+def _result_for(fab: Path, estimate: bool) -> tuple[Result, float]:
+    """The check's result with its drawing, and the seconds the drawing alone takes."""
+    result = check_board(fab, CheckOptions(with_drawing=True, estimate=estimate))
+    board = load_board(fab)
+    t0 = time.perf_counter()
+    drawing = drawing_from_board(board)
+    seconds = time.perf_counter() - t0
+    if result.drawing is None:  # the check stopped early: still show the board
+        result.drawing = drawing
+    return result, seconds
+
+
+def _load_times(browser: Any, url: str, runs: int, shot: Path | None) -> list[tuple[float, float]]:
+    times = []
+    for i in range(runs):
+        page = browser.new_page(viewport={"width": 1400, "height": 1000})
+        errors: list[str] = []
+        page.on("pageerror", lambda e: errors.append(str(e)))
+        page.on("console", lambda m: errors.append(m.text) if m.type == "error" else None)
+        page.goto(url, wait_until="load")
+        page.wait_for_function("performance.getEntriesByType('navigation')[0].loadEventEnd > 0")
+        load_ms, dcl_ms = page.evaluate(LOAD_JS)
+        times.append((load_ms / 1000.0, dcl_ms / 1000.0))
+        if errors:
+            print(f"  page errors: {errors[:3]}")
+        if shot is not None and i == 0:
+            page.wait_for_selector("html[data-ready]")
+            page.screenshot(path=str(shot))
+        page.close()
+    return times
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("boards", nargs="*", default=list(DEFAULT_BOARDS))
+    ap.add_argument("--out", type=Path, default=None, help="folder for the pages and screenshots")
+    ap.add_argument("--runs", type=int, default=3)
+    ap.add_argument("--estimate", action="store_true", help="run the field solver too (slower)")
+    ap.add_argument("--chromium", default="/usr/bin/chromium")
+    args = ap.parse_args(argv)
+    if not CORPUS.is_dir():
+        print(f"no corpus at {CORPUS}: nothing to measure")
+        return 0
+    out = args.out or Path(tempfile.mkdtemp(prefix="sensorcheck-html-"))
+    out.mkdir(parents=True, exist_ok=True)
+    from playwright.sync_api import sync_playwright
+
+    with sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=args.chromium, headless=True, args=CHROMIUM_ARGS)
+        empty = out / "empty.html"
+        empty.write_text(render([]), encoding="utf-8")
+        base = _load_times(browser, empty.as_uri(), args.runs, None)
+        base_med = statistics.median(t for t, _ in base)
+        print(f"baseline (empty page): load median {base_med * 1000:.0f} ms")
+        print(f"{'board':<20} {'page MB':>8} {'tol mm':>7} {'draw s':>7} {'render s':>8} "
+              f"{'load ms min/med/max':>22} {'x base':>7}  verdict")
+        worst_ok = True
+        for name in args.boards:
+            fab = CORPUS / name / "fab"
+            if not fab.is_dir():
+                print(f"{name:<20} missing")
+                continue
+            result, draw_s = _result_for(fab, args.estimate)
+            t0 = time.perf_counter()
+            page = render([result])
+            render_s = time.perf_counter() - t0
+            path = out / f"{name}.html"
+            path.write_text(page, encoding="utf-8")
+            size = path.stat().st_size
+            times = _load_times(browser, path.as_uri(), args.runs, out / f"{name}.png")
+            loads = sorted(t for t, _ in times)
+            med = statistics.median(loads)
+            ok = size < LIMIT_BYTES and loads[-1] < LIMIT_LOAD_S
+            worst_ok = worst_ok and ok
+            tol = result.drawing.simplify_tolerance_mm if result.drawing else float("nan")
+            print(
+                f"{name:<20} {size / 1e6:>8.2f} {tol:>7.3f} {draw_s:>7.2f} {render_s:>8.2f} "
+                f"{loads[0] * 1000:>6.0f}/{med * 1000:>5.0f}/{loads[-1] * 1000:>5.0f} ms "
+                f"{med / base_med:>6.1f}x  {'ok' if ok else 'OVER'} ({len(result.findings)} findings)"
+            )
+        browser.close()
+    print(f"pages and screenshots in {out}")
+    print(f"targets: page < {LIMIT_BYTES / 1e6:.0f} MB, load event < {LIMIT_LOAD_S:.0f} s: {'met' if worst_ok else 'NOT met'}")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
