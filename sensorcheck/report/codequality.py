@@ -15,7 +15,7 @@ import json
 from collections.abc import Sequence
 from typing import Any
 
-from sensorcheck.report.common import board_labels, finding_path, full_message, is_problem, kind_label, ordered
+from sensorcheck.report.common import board_labels, finding_path, full_message, is_problem, kind_label, ordered, source_line
 from sensorcheck.rules.finding import Finding, Result
 
 SEVERITY_MAP: dict[str, str] = {"error": "major", "warning": "minor", "note": "info"}
@@ -49,7 +49,7 @@ def issues(results: Sequence[Result]) -> list[dict[str, Any]]:
                     "severity": _severity(f),
                     "location": {
                         "path": finding_path(f, result),
-                        "lines": {"begin": f.location.line if f.location.line and f.location.line > 0 else 1},
+                        "lines": {"begin": source_line(f, result) or 1},
                     },
                 }
             )

@@ -188,9 +188,40 @@ def artifact_uri(path: str) -> str:
     return quote(path, safe="/!$&'()*+,;=@-._~")
 
 
+def is_archive(source: str) -> bool:
+    return source.lower().endswith(".zip")
+
+
+def source_file(file: str | None, result: Result) -> str | None:
+    """A finding's file as a path from the working folder (the repository root in CI).
+
+    Readers name files relative to the board's input (``Result.source``, a folder or a .zip), so
+    the folder is put in front; a file inside a .zip is represented by the archive itself (a CI
+    system can point only at files in the repository); an absolute path stays as it is.
+    """
+    if not file:
+        return None
+    p = PurePath(file)
+    if p.is_absolute() or not result.source:
+        return artifact_path(file)
+    if is_archive(result.source):
+        return artifact_path(result.source)
+    src = PurePath(result.source)
+    if not src.is_absolute() and p.parts[: len(src.parts)] == src.parts:
+        return artifact_path(file)  # already named from the working folder
+    return artifact_path(str(src / p))
+
+
+def source_line(f: Finding, result: Result) -> int | None:
+    """The 1-based line of the finding in :func:`source_file`'s file (None inside an archive)."""
+    if f.location.line is None or f.location.line < 1 or is_archive(result.source):
+        return None
+    return f.location.line
+
+
 def finding_path(f: Finding, result: Result) -> str:
     """The file a CI system should attach the finding to: its source file, else the board source."""
-    return artifact_path(f.location.file) or artifact_path(result.source) or result.source or "."
+    return source_file(f.location.file, result) or artifact_path(result.source) or result.source or "."
 
 
 #: How a report names a finding that is not about the design (``Finding.kind`` other than "finding").

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from sensorcheck.report.common import artifact_path, board_labels, counts, full_message, is_problem, kind_label, ordered, plural
+from sensorcheck.report.common import board_labels, counts, full_message, is_problem, kind_label, ordered, plural, source_file, source_line
 from sensorcheck.rules.finding import Finding, Result
 
 MAX_PER_LEVEL = 10
@@ -42,8 +42,8 @@ def _annotation(f: Finding, result: Result, label: str, batch: bool) -> str:
     if batch:
         title = f"{label}: {title}"
     # Only a real source file is attached; a finding on the whole board gets a file-less annotation.
-    path = artifact_path(f.location.file)
-    line = f.location.line if f.location.line and f.location.line > 0 else 1
+    path = source_file(f.location.file, result)
+    line = source_line(f, result) or 1
     return command(_COMMAND[level], full_message(f), file=path, line=line if path else None, title=title)
 
 

@@ -4,8 +4,10 @@ How a place on a board is told (SARIF has no board coordinate object; see
 reference/output-formats.md B.1):
 
 - ``physicalLocation.artifactLocation.uri``: the Gerber file of the layer, relative to the working
-  folder (the repository root in CI), with ``region.startLine`` = the line that drew the object
-  where the reader knew it, else 1 (code scanning needs a start line);
+  folder (the repository root in CI; readers name files relative to the board's folder, which is
+  put in front), with ``region.startLine`` = the line that drew the object where the reader knew
+  it, else 1 (code scanning needs a start line); for a .zip input the archive itself, the member
+  and its line in the location's properties;
 - ``logicalLocations``: the board, the layer (custom kind ``layer``), the sensor and the nets
   (spec 3.33.7 lets a tool use its own kinds);
 - a property bag on the location with the layer, the unit and x/y/box in mm, repeated in the
@@ -33,11 +35,13 @@ from sensorcheck.report.common import (
     board_labels,
     first_paragraph,
     full_message,
+    is_archive,
     is_problem,
     kind_label,
     ordered,
     rule_catalogue,
     safe_text,
+    source_file,
     where_text,
 )
 from sensorcheck.report.json_report import jsonable
@@ -68,8 +72,9 @@ def _rule(info: RuleInfo) -> dict[str, Any]:
     }
 
 
-def _region(loc: Location) -> dict[str, Any]:
-    return {"startLine": loc.line if loc.line and loc.line > 0 else 1}
+def _region(loc: Location, result: Result) -> dict[str, Any]:
+    line = loc.line if loc.line and loc.line > 0 and not is_archive(result.source) else 1
+    return {"startLine": line}
 
 
 def _place_properties(loc: Location) -> dict[str, Any]:
@@ -81,13 +86,17 @@ def _place_properties(loc: Location) -> dict[str, Any]:
         props["y"] = jsonable(loc.y_mm)
     if loc.box_mm is not None:
         props["bbox"] = jsonable(loc.box_mm)
+    if loc.file is not None:
+        props["file"] = loc.file  # as the reader named it, relative to the board's input
+        if loc.line is not None:
+            props["line"] = loc.line
     return props
 
 
 def _physical(loc: Location, result: Result) -> dict[str, Any] | None:
-    path = artifact_path(loc.file)
+    path = source_file(loc.file, result)
     if path is not None:
-        return {"artifactLocation": {"uri": artifact_uri(path)}, "region": _region(loc)}
+        return {"artifactLocation": {"uri": artifact_uri(path)}, "region": _region(loc, result)}
     source = artifact_path(result.source)
     if source:
         # The board's folder or archive: no line to point at.
@@ -162,9 +171,9 @@ def _notification(f: Finding, result: Result, label: str) -> dict[str, Any]:
         "descriptor": {"id": f.rule_id},
         "properties": {"board": label, "fingerprint": f.fingerprint, "kind": f.kind},
     }
-    path = artifact_path(f.location.file)
+    path = source_file(f.location.file, result)
     if path is not None:
-        out["locations"] = [{"physicalLocation": {"artifactLocation": {"uri": artifact_uri(path)}, "region": _region(f.location)}}]
+        out["locations"] = [{"physicalLocation": {"artifactLocation": {"uri": artifact_uri(path)}, "region": _region(f.location, result)}}]
     return out
 
 

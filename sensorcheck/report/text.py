@@ -13,6 +13,7 @@ from collections.abc import Sequence
 
 from rich import box
 from rich.console import Console, Group, RenderableType
+from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
 
@@ -88,25 +89,31 @@ def _verdict(text: str) -> Text:
     return Text("\n".join([word, *rest.rstrip(")").split(", ")]) if rest else word, style=style)
 
 
-def _finding_lines(f: Finding) -> Text:
-    line = Text("  - ")
+def _finding_lines(f: Finding) -> RenderableType:
+    """One finding: a bullet, then the block indented so wrapped lines keep their margin."""
+    body = Text()
     if f.sensor:
-        line.append(f"[{safe_text(f.sensor)}] ", style="bold")
-    line.append(safe_text(f.message))
+        body.append(f"[{safe_text(f.sensor)}] ", style="bold")
+    body.append(safe_text(f.message))
     vt = value_text(f)
     if vt:
-        line.append(f" ({vt})")
-    line.append(f"\n      at {where_text(f.location)}")
+        body.append(f" ({vt})")
+    where = Text(f"at {where_text(f.location)}")
     if f.location.file:
-        line.append(f"  {safe_text(f.location.file)}{':' + str(f.location.line) if f.location.line else ''}", style="dim")
+        where.append(f"  {safe_text(f.location.file)}{':' + str(f.location.line) if f.location.line else ''}", style="dim")
     extra = []
     if f.nets:
         extra.append(f"nets {safe_text(', '.join(f.nets))}")
     if f.fingerprint:
         extra.append(f"fingerprint {safe_text(f.fingerprint)}")
+    rows: list[RenderableType] = [body, Padding(where, (0, 0, 0, 2))]
     if extra:
-        line.append("\n      " + "  ".join(extra), style="dim")
-    return line
+        rows.append(Padding(Text("  ".join(extra), style="dim"), (0, 0, 0, 2)))
+    grid = Table.grid(padding=0)
+    grid.add_column(width=4, no_wrap=True)
+    grid.add_column(overflow="fold")
+    grid.add_row(Text("  - "), Group(*rows))
+    return grid
 
 
 def _findings_block(findings: list[Finding], catalogue: dict[str, RuleInfo]) -> list[RenderableType]:

@@ -77,7 +77,10 @@ def test_location_carries_file_line_layer_and_mm(one_board: list[Result]) -> Non
     loc = res["locations"][0]
     assert loc["physicalLocation"]["artifactLocation"]["uri"] == "fab/panel-a-F_Cu.gbr"
     assert loc["physicalLocation"]["region"]["startLine"] == 120
-    assert loc["properties"] == {"layer": "top-copper", "unit": "mm", "x": 12.5, "y": 30.25, "bbox": [10.0, 29.0, 15.0, 31.5]}
+    assert loc["properties"] == {
+        "layer": "top-copper", "unit": "mm", "x": 12.5, "y": 30.25, "bbox": [10.0, 29.0, 15.0, 31.5],
+        "file": "fab/panel-a-F_Cu.gbr", "line": 120,
+    }  # fmt: skip
     kinds = {(ll["kind"], ll["name"]) for ll in loc["logicalLocations"]}
     assert {("layer", "top-copper"), ("sensor", "K1"), ("net", "LED1"), ("net", "RX1"), ("board", "panel-a")} <= kinds
     # Viewers show only text: the place is in the message too.
@@ -125,7 +128,7 @@ def test_uri_is_a_relative_uri_reference(one_board: list[Result]) -> None:
     one_board[0].findings[0].location = type(one_board[0].findings[0].location)("top-copper", 1.0, 2.0, None, "hw/my board #1.gbr", 5)
     log = json.loads(render(one_board, "sarif"))
     uris = {r["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] for r in log["runs"][0]["results"]}
-    assert "hw/my%20board%20%231.gbr" in uris
+    assert "fab/hw/my%20board%20%231.gbr" in uris  # the board folder "fab" in front
 
 
 def test_unreadable_input_is_a_notification_with_its_file(results: list[Result]) -> None:
@@ -135,3 +138,19 @@ def test_unreadable_input_is_a_notification_with_its_file(results: list[Result])
     assert len(unread) == 1
     loc = unread[0]["locations"][0]["physicalLocation"]
     assert loc["artifactLocation"]["uri"] == "b/inner.gbr" and loc["region"]["startLine"] == 57
+
+
+def test_paths_are_made_relative_to_the_working_folder(one_board: list[Result]) -> None:
+    # Readers name files relative to the board's input; CI needs them from the repository root.
+    res = one_board[0]
+    res.source = "hw/boards/rev-b"
+    log = json.loads(render(one_board, "sarif"))
+    led = next(r for r in log["runs"][0]["results"] if "LED1 runs" in r["message"]["text"])
+    assert led["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] == "hw/boards/rev-b/fab/panel-a-F_Cu.gbr"
+    # A .zip input: the archive is the artifact; the member and its line stay in the properties.
+    res.source = "hw/rev-b.zip"
+    log = json.loads(render(one_board, "sarif"))
+    led = next(r for r in log["runs"][0]["results"] if "LED1 runs" in r["message"]["text"])
+    loc = led["locations"][0]
+    assert loc["physicalLocation"] == {"artifactLocation": {"uri": "hw/rev-b.zip"}, "region": {"startLine": 1}}
+    assert (loc["properties"]["file"], loc["properties"]["line"]) == ("fab/panel-a-F_Cu.gbr", 120)
