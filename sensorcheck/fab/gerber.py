@@ -18,6 +18,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 
+import numpy as np
 import shapely
 from shapely.geometry.base import BaseGeometry
 
@@ -108,7 +109,8 @@ def read_gerber(
     try:
         parsed = parse_gerber_text(text, name, limits)
         features = gerber_geometry.objects_to_features(parsed, name, arc_tolerance_mm)
-        vertices = int(sum(shapely.get_num_coordinates(f.geometry) for f in features))
+        vertices = int(shapely.get_num_coordinates(np.array([f.geometry for f in features], dtype=object)).sum()) \
+            if features else 0
         if vertices > limits.max_vertices:
             raise LimitError(name, None, f"{vertices} polygon vertices", f"at most limits.max_vertices = {limits.max_vertices}")
         by_net = gerber_geometry.images_by_net(features)

@@ -29,7 +29,9 @@ import numpy as np
 import shapely
 from gerbonara import graphic_objects as go
 from gerbonara.utils import Inch
-from shapely.geometry import GeometryCollection, Polygon
+from scipy.sparse import coo_matrix
+from scipy.sparse.csgraph import connected_components
+from shapely.geometry import GeometryCollection, MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Feature, ObjectKind, Polarity, SourceRef
@@ -374,7 +376,7 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float)
     flash_shapes: list[BaseGeometry] = []
     flash_xy: list[tuple[float, float]] = []
     # draws grouped by (aperture shape identity): index, x1, y1, x2, y2
-    draw_groups: dict[int, tuple[BaseGeometry, list[int], list[tuple[float, float, float, float]]]] = {}
+    draw_groups: dict[Any, tuple[BaseGeometry | None, list[int], list[tuple[float, float, float, float]]]] = {}
     region_idx: list[int] = []
     region_coords: list[np.ndarray] = []
 
@@ -397,10 +399,15 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float)
             if ap.hole and any(ap.hole):
                 parsed.warnings.append(f"{name}:{line}: aperture D{ap.original_number} has a hole; "
                                        "a draw sweeps the solid shape (the hole is ignored)")
-            shape = cache_for(obj.unit).shape(ap, xform, line, solid=True)
-            grp = draw_groups.get(id(shape))
+            if ap.shape == "C":  # a circle sweeps a stadium: built directly, grouped by radius
+                key: Any = ("C", ap.params[0] * k * xform[3])
+                shape = None
+            else:
+                shape = cache_for(obj.unit).shape(ap, xform, line, solid=True)
+                key = id(shape)
+            grp = draw_groups.get(key)
             if grp is None:
-                grp = draw_groups[id(shape)] = (shape, [], [])
+                grp = draw_groups[key] = (shape, [], [])
             grp[1].append(i)
             grp[2].append((obj.x1 * k, obj.y1 * k, obj.x2 * k, obj.y2 * k))
             scale = xform[3]
@@ -433,9 +440,11 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float)
         for j, i in enumerate(flash_idx):
             geoms[i] = moved[j]
 
-    for shape, idx, seg in draw_groups.values():
+    for key, (shape, idx, seg) in draw_groups.items():
         seg_arr = np.array(seg)
-        if shape.is_empty:
+        if shape is None:
+            hull = stadiums(seg_arr, key[1] / 2, tol)
+        elif shape.is_empty:
             hull = [EMPTY] * len(idx)
         else:
             v = np.asarray(shapely.get_coordinates(shapely.convex_hull(shape)))
@@ -500,6 +509,30 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float)
     return features
 
 
+def stadiums(seg: np.ndarray, r: float, tol: float) -> np.ndarray:
+    """Polygons swept by a circle of radius r along segments (x1, y1, x2, y2), vectorised.
+
+    The convex hull of the circle at both ends: a half circle about the end point from
+    direction - 90 degrees to direction + 90, then one about the start point; vertices on the
+    circles, chord sagitta <= tol. A zero-length segment gives the circle.
+    """
+    n = len(seg)
+    if r <= 0:
+        out = np.empty(n, dtype=object)
+        out[:] = EMPTY
+        return out
+    half = circle_segments(r, tol) // 2
+    theta = np.arctan2(seg[:, 3] - seg[:, 1], seg[:, 2] - seg[:, 0])
+    steps = np.linspace(-math.pi / 2, math.pi / 2, half + 1)
+    a_end = theta[:, None] + steps[None, :]
+    a_start = a_end + math.pi
+    xs = np.concatenate((seg[:, 2:3] + r * np.cos(a_end), seg[:, 0:1] + r * np.cos(a_start)), axis=1)
+    ys = np.concatenate((seg[:, 3:4] + r * np.sin(a_end), seg[:, 1:2] + r * np.sin(a_start)), axis=1)
+    coords = np.stack((xs, ys), axis=2)
+    coords = np.concatenate((coords, coords[:, :1, :]), axis=1)  # close the rings
+    return shapely.polygons(coords)
+
+
 def _region_coords(region: go.Region, k: float, tol: float) -> np.ndarray:
     outline = region.outline
     arcs = region.arc_centers
@@ -542,11 +575,36 @@ def _fix_region(poly: BaseGeometry) -> BaseGeometry:
 # --------------------------------------------------------------------------------------------
 
 def _union(geoms: list[BaseGeometry]) -> BaseGeometry:
+    """Union of many polygons: union each group of mutually connected shapes on its own.
+
+    Shapes that do not touch need no overlay at all: an STRtree finds the touching pairs, the
+    connected groups are unioned separately (small overlays) and the disjoint results are put
+    together as one MultiPolygon without a further union.
+    """
     if not geoms:
         return EMPTY
     if len(geoms) == 1:
         return geoms[0]
-    return shapely.union_all(np.array(geoms, dtype=object))
+    arr = np.array(geoms, dtype=object)
+    if len(arr) < 32:
+        return shapely.union_all(arr)
+    tree = shapely.STRtree(arr)
+    left, right = tree.query(arr)  # bounding boxes overlap: cheap, and groups stay disjoint
+    n_groups, labels = connected_components(
+        coo_matrix((np.ones(len(left), dtype=np.int8), (left, right)), shape=(len(arr), len(arr))),
+        directed=False,
+    )
+    if n_groups == 1:
+        return shapely.union_all(arr)
+    order = np.argsort(labels, kind="stable")
+    bounds = np.flatnonzero(np.diff(labels[order])) + 1
+    parts: list[BaseGeometry] = []
+    for group in np.split(order, bounds):
+        parts.append(arr[group[0]] if len(group) == 1 else shapely.union_all(arr[group]))
+    polys = [p for part in parts for p in shapely.get_parts(part) if isinstance(p, Polygon) and not p.is_empty]
+    if len(polys) == 1:
+        return polys[0]
+    return MultiPolygon(polys)
 
 
 def _runs(features: list[Feature]) -> Iterable[tuple[Polarity, list[Feature]]]:
