@@ -101,7 +101,7 @@ def _snap_ends(lines: list[LineString], tol_mm: float) -> list[LineString]:
 
 
 def outline_polygon(features_paths: list[BaseGeometry], dark: BaseGeometry | None) -> tuple[BaseGeometry | None, str | None]:
-    """The board shape from the profile layer: draws joined into rings (largest face, with cut-outs).
+    """The board shape from the profile layer: draws joined into closed rings, even-odd filled.
 
     Returns (polygon, note). Falls back to the filled dark image when the lines do not close.
     """
@@ -111,12 +111,11 @@ def outline_polygon(features_paths: list[BaseGeometry], dark: BaseGeometry | Non
         merged = unary_union(_snap_ends(lines, OUTLINE_SNAP_MM))
         faces = list(polygonize(merged))
         if faces:
-            outer = max(faces, key=lambda f: Polygon(f.exterior).area)
-            shell = Polygon(outer.exterior)
-            holes = [Polygon(f.exterior) for f in faces if f is not outer and shell.contains(f.representative_point())
-                     and not any(Polygon(g.exterior).contains(f.representative_point()) and g is not outer and g is not f
-                                 and Polygon(g.exterior).area > Polygon(f.exterior).area for g in faces)]
-            board = shell.difference(unary_union(holes)) if holes else shell
+            # even-odd rule over the closed rings: a ring inside the board is a cut-out, rings side
+            # by side (a board split by a drawn line, several boards on a panel) add up
+            board = Polygon(faces[0].exterior)
+            for face in faces[1:]:
+                board = board.symmetric_difference(Polygon(face.exterior))
             return board, None
     if dark is not None and not dark.is_empty:
         parts = [p for p in shapely.get_parts(dark) if isinstance(p, Polygon)]
@@ -211,7 +210,7 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
         info.role, info.layer, info.side = ident.role, ident.layer, ident.side
         info.identified_by, info.generator, info.note = ident.identified_by, ident.generator, ident.note
 
-    seen_content: dict[tuple[str | None, str], str] = {}
+    seen_content: dict[tuple[str, str], str] = {}
     copper: list[tuple[Identification, Layer]] = []
     others: list[Layer] = []
     x2_images: dict[str, dict[str | None, BaseGeometry]] = {}
@@ -229,7 +228,7 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
         try:
             data = read_bytes(f, limits)
             digest = hashlib.sha256(data).hexdigest()
-            key = (ident.role, digest)
+            key = (f"{ident.role}:{ident.layer}:{ident.side}:{ident.copper_number}", digest)  # same layer, same bytes
             if key in seen_content:
                 info.note = f"same content as {seen_content[key]}: read once"
                 continue
@@ -297,6 +296,7 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
     ordered = _copper_order(copper)
     n_cu = len(ordered)
     x2_by_name: dict[str, dict[str | None, BaseGeometry]] = {}
+    inner_rank = 0
     for position, (ident, layer) in enumerate(ordered, start=1):
         info = infos[_key_of(infos, layer.file)]
         absolute = ident.copper_number_absolute and ident.copper_number is not None
@@ -308,7 +308,8 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
             name = "bottom-copper"
             cidx = cidx if absolute else n_cu
         else:
-            name = f"inner{cidx - 1}-copper"
+            inner_rank += 1
+            name = f"inner{cidx - 1 if absolute else inner_rank}-copper"
         if name in claimed:
             info.error = f"{layer.file}: also identified as {name} (first: {claimed[name]}); say which is which with a layer map"
             continue
@@ -350,6 +351,9 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
 
 
 def _key_of(infos: dict[str, FileInfo], shown: str) -> str:
+    """The input name of the file shown as ``shown`` (names are shown through safe_name)."""
+    if shown in infos and infos[shown].path == shown:
+        return shown
     for k, v in infos.items():
         if v.path == shown:
             return k
