@@ -26,11 +26,13 @@ Order of work:
    stems holding ``PROX`` make proximity electrodes.
 
 Electrode versus trace: a self electrode is its net's copper on the touched face's outer layer
-(or the nearest copper layer that has it) after a morphological opening with radius half
-the widest thin draw of that net there (draws up to :data:`TRACE_WIDTH_MAX_MM`; that limit
-when the net has no draws): what survives, with at least :data:`MIN_ELECTRODE_AREA_MM2`,
-is the electrode; thin draws and small pads (vias, series parts) are its trace.  The exact
-copper outline is kept (the opened shape only selects which copper).  ``Electrode.trace`` holds
+(or the nearest copper layer that has it), without its trace.  Where the layer's features carry
+the net (Gerber X2), the trace is the copper of thin draws and arcs (width up to
+:data:`TRACE_WIDTH_MAX_MM`) that no flash or region of the net covers, so thin teeth of an
+interleaved pad stay electrode.  Otherwise a morphological opening with radius half the widest
+thin draw of that net there (that limit when the net has no draws) decides.  Either way what is
+left in pieces of at least :data:`MIN_ELECTRODE_AREA_MM2` is the electrode; thin draws and small
+pads (vias, series parts) are its trace.  The exact copper outline is kept.  ``Electrode.trace`` holds
 the rest of the net's copper, per layer.
 
 The sensing zone of each sensor: ``design/zones.py``.
@@ -49,7 +51,7 @@ import shapely
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
-from sensorcheck.board.model import Board, Layer
+from sensorcheck.board.model import Board, Feature, Layer
 from sensorcheck.design.model import Config, Design, Electrode, Role, Sensor, SensorGroup, SensorKind
 from sensorcheck.design.roles import assign_roles, natural_key
 from sensorcheck.design.zones import sensing_zone, zone_margin_mm
@@ -125,11 +127,31 @@ def opening_radius_mm(layer: Layer, net: str) -> float:
     return 0.5 * w * 1.05 + 0.005
 
 
+def _is_trace_feature(f: Feature) -> bool:
+    return f.kind in ("draw", "arc") and f.width_mm is not None and 0 < f.width_mm <= TRACE_WIDTH_MAX_MM
+
+
 def split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry]:
-    """(electrode, trace) of ``net`` on ``layer``; electrode is empty when all of it is thin."""
+    """(electrode, trace) of ``net`` on ``layer``; electrode is empty when all of it is thin.
+
+    With the net's own features on the layer (Gerber X2 net attributes): the copper of thin
+    draws and arcs that no pad, flash or region covers is trace; the rest, in pieces of at
+    least :data:`MIN_ELECTRODE_AREA_MM2`, is electrode (thin teeth of an interleaved pad stay
+    with it).  Without them: a morphological opening (see the module docstring).
+    """
     geom = _area_only(layer.by_net.get(net, _empty()))
     if geom.is_empty:
         return _empty(), _empty()
+    feats = [f for f in layer.features if f.net == net and f.polarity == "dark"]
+    if feats:
+        traces = _union(f.geometry for f in feats if _is_trace_feature(f))
+        pads = _union(f.geometry for f in feats if not _is_trace_feature(f))
+        rest = geom if traces.is_empty else _area_only(geom.difference(traces.difference(pads)))
+        keep = [p for p in _polys(rest) if p.area >= MIN_ELECTRODE_AREA_MM2]
+        if not keep:
+            return _empty(), geom
+        electrode = _area_only(geom.intersection(_union(keep).buffer(1e-4, quad_segs=1)))
+        return electrode, _area_only(geom.difference(electrode))
     r = opening_radius_mm(layer, net)
     opened = geom.buffer(-r, quad_segs=4).buffer(r, quad_segs=4)
     keep = [p for p in _polys(opened) if p.area >= MIN_ELECTRODE_AREA_MM2]

@@ -384,3 +384,22 @@ def test_place_sets_how_found() -> None:
     c.roles_by_place = [RoleByPlace(layer="top-copper", role="self", point_mm=(0, 0), sensor="K")]
     (s,) = build_design(board, c).sensors
     assert (s.name, s.how_found) == ("K", "place")
+
+
+def test_thin_teeth_of_a_pad_stay_with_the_electrode() -> None:
+    """X2 features tell pad from trace: 0.4 mm teeth drawn as part of a region pad are electrode,
+    the 0.4 mm draw leaving it is trace (an opening alone would remove both)."""
+    from sensorcheck.board.model import Feature, SourceRef
+
+    body = box(0, 0, 10, 4)
+    teeth = [box(0.5 + 2 * k, 4, 0.9 + 2 * k, 10) for k in range(5)]  # 0.4 x 6 mm each
+    pad = shapely.union_all([body, *teeth])
+    region = Feature(geometry=pad, polarity="dark", kind="region", source=SourceRef("s.gbr", 3),
+                     aperture_function="SMDPad,CuDef", net="T0")
+    trace = draw_feature("T0", [(5, 0), (5, -20)], 0.4)
+    board = make_board({"top-copper": {"T0": [pad, trace.geometry]}}, {"top-copper": [region, trace]})
+    layer = board.layer("top-copper")
+    assert layer is not None
+    electrode, rest = split_electrode(layer, "T0")
+    assert electrode.area == pytest.approx(40 + 5 * 0.4 * 6, rel=1e-6)  # body + teeth
+    assert rest.area == pytest.approx(20 * 0.4, rel=0.02)  # the draw outside the pad (its round cap inside)
