@@ -213,3 +213,22 @@ def test_corpus_heads(shared_dir: Path, board: str, expected: dict) -> None:
         assert ident.layer == layer, name
         if layer is None:
             assert ident.note, name
+
+
+def test_real_boards_of_the_tracespace_fixtures_by_name_and_content(shared_dir: Path) -> None:
+    # tracespace fixtures boards/*/manifest.json: eight real boards (Eagle, KiCad, Altium-style names),
+    # each file with the layer type and side its authors state; identified here from the file's
+    # name AND head, as the board loader does
+    manifests = sorted((shared_dir / "gerber-suites/tracespace-fixtures/boards").glob("*/manifest.json"))
+    assert len(manifests) == 8
+    checked = 0
+    for mf in manifests:
+        for entry in json.loads(mf.read_text())["layers"]:
+            head = (mf.parent / entry["name"]).read_bytes()[:65536]
+            ident = identify(entry["name"], head)
+            expected = TRACESPACE_TYPE[entry.get("type")]
+            assert ident.role == expected, (mf.parent.name, entry["name"], ident)
+            if expected in ("copper", "mask", "silk", "paste"):
+                assert ident.side == TRACESPACE_SIDE[entry.get("side")], (mf.parent.name, entry["name"])
+            checked += 1
+    assert checked > 60
