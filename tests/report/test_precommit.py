@@ -46,3 +46,18 @@ def test_hook_fields() -> None:
         assert files.search(name), name
     for name in ("README.md", "src/main.c", "my-sensorcheck.toml.bak", "notsensorcheck.toml", "board.kicad_pcb"):
         assert not files.search(name), name
+
+
+def test_consumer_config_validates(tmp_path: Path) -> None:
+    # What a board repository writes to use the hook (reference/output-formats.md B.5).
+    cfg = tmp_path / ".pre-commit-config.yaml"
+    cfg.write_text(
+        "repos:\n"
+        "-   repo: https://example.invalid/sensorcheck\n"
+        "    rev: v0.1.0\n"
+        "    hooks:\n"
+        "    -   id: sensorcheck\n"
+        "        args: [--config, hw/sensorcheck.toml, hw/fab/]\n"
+    )
+    run = subprocess.run([*_pre_commit(), "validate-config", str(cfg)], capture_output=True, text=True)
+    assert run.returncode == 0, run.stdout + run.stderr
