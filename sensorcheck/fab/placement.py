@@ -183,11 +183,14 @@ def read_pick_and_place(data: bytes, name: str, *, default_side: Side = "top") -
         raise InputError(name, 1, "no header row", "a header naming the columns (Ref, PosX, PosY, Rot, Side)")
     header_line = lines[header_idx].strip().lstrip("#").strip()
     delimiter = "," if header_line.count(",") >= 2 else (";" if header_line.count(";") >= 2 else ("\t" if "\t" in header_line else None))
-    def split(s: str) -> list[str]:
+    def split(s: str, line: int) -> list[str]:
         if delimiter is None:
             return s.split()
-        return next(csv.reader(io.StringIO(s), delimiter=delimiter))
-    keys = split(header_line)
+        try:
+            return next(csv.reader(io.StringIO(s, newline=""), delimiter=delimiter), [])
+        except csv.Error as exc:
+            raise InputError(name, line, f"bad CSV row ({exc})", "one row per line, quotes balanced") from None
+    keys = split(header_line, header_idx + 1)
     norm = [_norm_key(k) for k in keys]
 
     def col(options: tuple[str, ...]) -> int | None:
@@ -209,7 +212,7 @@ def read_pick_and_place(data: bytes, name: str, *, default_side: Side = "top") -
         s = lines[i].strip()
         if not s or s.startswith("#"):
             continue
-        cells = split(s)
+        cells = split(s, i + 1)
         if len(cells) < len(keys) - (1 if ci["side"] is None else 0) and len(cells) <= max(c for c in ci.values() if c is not None):
             raise InputError(name, i + 1, f"{len(cells)} columns, the header has {len(keys)}", f"{len(keys)} columns")
         def get(k: str) -> str | None:

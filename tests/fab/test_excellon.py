@@ -196,3 +196,19 @@ def test_bad_drill_files_name_file_line_and_expectation(data: bytes, line: int |
     if expected is not None:
         assert expected in (err.expected or "")
     assert err.expected
+
+
+# --- robustness: mutated real files either read or raise our InputError (issue 6, item 1) ----------
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+
+from board.fuzz import MUTATIONS, apply  # noqa: E402  (tests/board/fuzz.py)
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(ops=MUTATIONS)
+def test_mutated_drill_files_read_or_raise_input_error(shared_dir: Path, ops: list) -> None:
+    src = (shared_dir / "corpus/b07-slider-inch/fab/TouchSlider_ESP32_CAP1208.TXT").read_bytes()
+    try:
+        read_excellon(apply(src, ops), "m.drl")
+    except InputError as exc:
+        assert exc.file == "m.drl" and exc.expected

@@ -232,3 +232,17 @@ def test_real_boards_of_the_tracespace_fixtures_by_name_and_content(shared_dir: 
                 assert ident.side == TRACESPACE_SIDE[entry.get("side")], (mf.parent.name, entry["name"])
             checked += 1
     assert checked > 60
+
+
+# --- robustness: mutated real files either read or raise our InputError (issue 6, item 1) ----------
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+
+from board.fuzz import MUTATIONS, apply  # noqa: E402  (tests/board/fuzz.py)
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(ops=MUTATIONS)
+def test_identification_of_mutated_heads_never_raises(shared_dir: Path, ops: list) -> None:
+    src = (shared_dir / "corpus/b01-slider-proto/fab/slider_rev_1_0-PTH.drl").read_bytes()
+    ident = identify("x.gbr", apply(src, ops))
+    assert ident.role is None or ident.kind is not None or ident.role in ("other",)

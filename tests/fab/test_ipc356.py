@@ -80,3 +80,19 @@ def test_bad_netlists(data: bytes, line: int | None, expected: str) -> None:
     with pytest.raises(InputError) as exc:
         read_ipc356(data, "bad.ipc")
     assert exc.value.file == "bad.ipc" and exc.value.line == line and expected in (exc.value.expected or "")
+
+
+# --- robustness: mutated real files either read or raise our InputError (issue 6, item 1) ----------
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+
+from board.fuzz import MUTATIONS, apply  # noqa: E402  (tests/board/fuzz.py)
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(ops=MUTATIONS)
+def test_mutated_netlists_read_or_raise_input_error(shared_dir: Path, ops: list) -> None:
+    src = (shared_dir / "gerber-suites/pcb-tools-resources/ipc-d-356.ipc").read_bytes()
+    try:
+        read_ipc356(apply(src, ops), "m.ipc")
+    except InputError as exc:
+        assert exc.file == "m.ipc" and exc.expected

@@ -81,3 +81,19 @@ def test_bad_job_files(data: bytes, line: int | None, expected: str) -> None:
     with pytest.raises(InputError) as exc:
         read_jobfile(data, "bad.gbrjob")
     assert exc.value.file == "bad.gbrjob" and exc.value.line == line and expected in (exc.value.expected or "")
+
+
+# --- robustness: mutated real files either read or raise our InputError (issue 6, item 1) ----------
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+
+from board.fuzz import MUTATIONS, apply  # noqa: E402  (tests/board/fuzz.py)
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(ops=MUTATIONS)
+def test_mutated_job_files_read_or_raise_input_error(shared_dir: Path, ops: list) -> None:
+    src = (shared_dir / "corpus/b06-keyboard/fab/MPR121TouchKeyboard-job.gbrjob").read_bytes()
+    try:
+        read_jobfile(apply(src, ops), "m.gbrjob")
+    except InputError as exc:
+        assert exc.file == "m.gbrjob" and exc.expected

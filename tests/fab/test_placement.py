@@ -104,3 +104,20 @@ def test_component_flash_without_reference_is_an_error() -> None:
     with pytest.raises(InputError) as exc:
         read_component_layer(bad, "c.gbr", "top")
     assert exc.value.line == 16 and ".C" in (exc.value.expected or "")
+
+
+# --- robustness: mutated real files either read or raise our InputError (issue 6, item 1) ----------
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+
+from board.fuzz import MUTATIONS, apply  # noqa: E402  (tests/board/fuzz.py)
+
+
+@settings(max_examples=150, deadline=None)
+@given(ops=MUTATIONS)
+def test_mutated_placement_files_read_or_raise_input_error(ops: list) -> None:
+    src = b'Ref,Val,Package,PosX,PosY,Rot,Side\n"R1","10k","R_0603",1.5,-2.25,90.000000,top\nLED1,red,LED,2mm,3mm,0,bottom\n'
+    for reader, data in ((read_pick_and_place, apply(src, ops)), (lambda d, n: read_component_layer(d, n, "top"), apply(X3, ops))):
+        try:
+            reader(data, "m.csv")
+        except InputError as exc:
+            assert exc.file == "m.csv" and exc.expected
