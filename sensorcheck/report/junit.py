@@ -61,7 +61,8 @@ def _testcase(suite: ET.Element, classname: str, rule_id: str, findings: list[Fi
     internal = [f for f in findings if is_problem(f) and not f.waived]
     failing = [f for f in findings if f.kind == "finding" and not f.waived and f.severity == "error"]
     waived = [f for f in findings if f.waived]
-    rest = [f for f in findings if f not in failing and f not in internal]
+    reported = {id(f) for f in failing} | {id(f) for f in internal}
+    rest = [f for f in findings if id(f) not in reported]
     tally = {"failures": 0, "errors": 0, "skipped": 0}
     if internal:
         el = ET.SubElement(case, "error", {"type": internal[0].kind, "message": xml_text(safe_text(internal[0].message))})

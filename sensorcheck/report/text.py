@@ -25,7 +25,6 @@ from sensorcheck.report.common import (
     overlay_lines,
     sensor_verdict,
     rule_catalogue,
-    rule_ids_run,
     safe_text,
     sensors_sorted,
     summary_line,
@@ -191,8 +190,8 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
         parts.append(Text("Notes", style="bold"))
         parts += [Text(f"  - {safe_text(n)}") for n in result.notes]
         parts.append(Text(""))
-    ran = rule_ids_run(result)
-    parts.append(Text(f"{summary_line(findings)}; {len(ran)} rules ran", style="bold"))
+    ran = len(set(result.rules_run))
+    parts.append(Text(f"{summary_line(findings)}; {ran} rule{'s' if ran != 1 else ''} ran", style="bold"))
     return parts
 
 

@@ -125,10 +125,19 @@ def write_reports(results: Sequence[Result], specs: Sequence[str], *, stdout: Te
         rendered.append((path, render(results, fmt, color=colour, width=width)))
     for path, text in rendered:
         if path is None:
-            stdout.write(text)
-            stdout.flush()
+            _write_stream(stdout, text)
         else:
             atomic_write(path, text)
+
+
+def _write_stream(stream: TextIO, text: str) -> None:
+    """Write to a stream whose encoding may not hold every character (a legacy console, LANG=C)."""
+    try:
+        stream.write(text)
+    except UnicodeEncodeError:
+        encoding = getattr(stream, "encoding", None) or "ascii"
+        stream.write(text.encode(encoding, "backslashreplace").decode(encoding))
+    stream.flush()
 
 
 def load_baseline(path: str | Path) -> set[str]:

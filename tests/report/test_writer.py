@@ -153,3 +153,18 @@ def test_timestamp_only_when_set(fmt: str) -> None:
         assert stamp in render(stamped, fmt)
     else:  # code quality, annotations and the Gerber layer carry no time at all
         assert render(stamped, fmt) == render(plain, fmt)
+
+
+@pytest.mark.parametrize("fmt", MACHINE_FORMATS)
+def test_empty_batch_renders(fmt: str) -> None:
+    text = render([], fmt)
+    assert text.endswith("\n") or text == ""
+
+
+def test_stdout_that_cannot_hold_every_character(results: list[Result]) -> None:
+    raw = io.BytesIO()
+    out = io.TextIOWrapper(raw, encoding="ascii", errors="strict")
+    results[0].notes.append("permittivity \u03b5r of glass")
+    write_reports(results, ["markdown"], stdout=out)
+    text = raw.getvalue().decode("ascii")
+    assert "\\u03b5r of glass" in text
