@@ -123,6 +123,11 @@ def read_gerber(
         raise InputError(name, None, f"cannot read this Gerber file ({type(exc).__name__}: {exc})",
                          "a Gerber X2 / RS-274X file") from exc
     bounds = None if dark.is_empty else tuple(float(v) for v in dark.bounds)
+    if dark.is_empty and features:
+        clear = sum(1 for f in features if f.polarity == "clear")
+        parsed.warnings.append(
+            f"{name}: the final image is empty ({len(features)} objects, {clear} of them clear polarity)"
+        )
     return GerberRead(
         name=name,
         units=parsed.units,
