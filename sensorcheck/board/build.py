@@ -186,6 +186,9 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
         if f.error:
             info.error = f"{shown}: {f.error}"
             continue
+        if f.note:
+            info.note = f.note
+            continue
         try:
             heads[f.name] = read_head(f)
         except OSError as exc:

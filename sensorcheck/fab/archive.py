@@ -48,6 +48,8 @@ class InputFile:
     size: int
     #: set when the file was found but must not be read (a link in a folder, over a size limit)
     error: str | None = None
+    #: set when the file is listed but is plainly not fabrication data (macOS resource forks)
+    note: str | None = None
 
 
 def safe_name(name: str) -> str:
@@ -185,14 +187,22 @@ def _unpack_zip(archive: Path, shown_name: str, dest: Path, limits: Limits) -> l
                     raise
                 raise InputError(f"{safe_name(shown_name)}!{safe_name(info.filename)}", None,
                                  f"cannot unpack archive member: {exc}", "a readable zip member") from None
-            out.append(InputFile(name=rel, path=target, size=written))
+            out.append(InputFile(name=rel, path=target, size=written, note=_resource_fork_note(rel)))
     return out
+
+
+def _resource_fork_note(rel: str) -> str | None:
+    parts = rel.split("/")
+    if parts[0] == "__MACOSX" or parts[-1].startswith("._") or parts[-1] in (".DS_Store", "Thumbs.db", "desktop.ini"):
+        return "file-manager metadata (macOS resource fork or folder settings): not fabrication data"
+    return None
 
 
 def _walk_folder(root: Path, limits: Limits) -> list[InputFile]:
     out: list[InputFile] = []
     for dirpath, dirnames, filenames in os.walk(root, followlinks=False):
-        dirnames.sort()
+        # version-control folders (.git, .svn ...) hold no fabrication outputs: not walked
+        dirnames[:] = sorted(d for d in dirnames if not d.startswith("."))
         base = Path(dirpath)
         for d in list(dirnames):
             if (base / d).is_symlink():
@@ -208,7 +218,7 @@ def _walk_folder(root: Path, limits: Limits) -> list[InputFile]:
             elif not stat.S_ISREG(st.st_mode):
                 out.append(InputFile(rel, p, 0, error="not a regular file: not read"))
             else:
-                out.append(InputFile(rel, p, st.st_size))
+                out.append(InputFile(rel, p, st.st_size, note=_resource_fork_note(rel)))
     if len(out) > limits.max_archive_members:
         raise LimitError(safe_name(str(root)), None, f"folder holds {len(out)} files",
                          f"at most {limits.max_archive_members} (limits.max_archive_members)")

@@ -167,3 +167,16 @@ def test_zip_member_name_with_control_characters_is_escaped_in_the_error(tmp_pat
         with open_input(z):
             pass
     assert "\x1b" not in exc.value.describe() and "\\x1b" in exc.value.describe()
+
+
+def test_macos_resource_forks_are_listed_with_a_note_and_hidden_folders_skipped(tmp_path: Path) -> None:
+    z = _zip(tmp_path / "fab.zip", [("top.gtl", GERBER), ("__MACOSX/._top.gtl", b"\x00\x05\x16\x07junk")])
+    with open_input(z) as files:
+        by = {f.name: f for f in files}
+    assert by["__MACOSX/._top.gtl"].note and by["top.gtl"].note is None
+    d = tmp_path / "fab"
+    (d / ".git").mkdir(parents=True)
+    (d / ".git" / "HEAD").write_text("ref: refs/heads/main\n")
+    (d / "top.gtl").write_bytes(GERBER)
+    with open_input(d) as files:
+        assert [f.name for f in files] == ["top.gtl"]
