@@ -107,11 +107,13 @@ def test_attr_value_escapes() -> None:
 
 
 @pytest.mark.filterwarnings("ignore::DeprecationWarning")
-def test_pygerber_reads_it(results: list[Result]) -> None:
+def test_pygerber_reads_it(one_board: list[Result]) -> None:
     pytest.importorskip("pygerber")
+    # pygerber parses at about 16 KB/s (DESIGN.md section 4): three findings, hostile nets included.
+    one_board[0].findings = [f for f in one_board[0].findings if f.location.x_mm is not None][:3]
     from pygerber.gerberx3.parser2.parser2 import Parser2
     from pygerber.gerberx3.tokenizer.tokenizer import Tokenizer
 
-    stack = Tokenizer().tokenize(render(results, "gerber"))
+    stack = Tokenizer().tokenize(render(one_board, "gerber"))
     command_buffer = Parser2().parse(stack)
     assert len(command_buffer) > 100
