@@ -81,12 +81,13 @@ BTN1_C = (62.0, 50.0)
 BTN2_C = (84.0, 50.0)
 BTN_VIA_DY_MM = -5.5  # via 1 mm inside the lower edge
 
-# slider: 5 chevron segments, x 12..56, y 16..28; chevron depth > pitch + gap, so that every
-# position between the end segments lies on two segments
+# slider: 5 identical chevron segments, x 12..49, y 16..28 (the ends follow the chevron too, so
+# the end segments are no wider than the others); chevron depth > pitch + horizontal gap, so a
+# vertical line anywhere inside crosses two segments
 SLD_X0, SLD_Y0, SLD_H = 12.0, 16.0, 12.0
-SLD_PITCH, SLD_DEPTH, SLD_N = 7.0, 9.0, 5
+SLD_PITCH, SLD_DEPTH, SLD_N = 6.0, 7.0, 5
 SLD_GAP_MM = 0.5  # perpendicular gap between segments
-SLD_X1 = SLD_X0 + SLD_N * SLD_PITCH + SLD_DEPTH  # right end (56 mm)
+SLD_X1 = SLD_X0 + SLD_N * SLD_PITCH + SLD_DEPTH  # right end (49 mm)
 SLD_VIA_Y = 17.2
 
 # mutual node K1 (TX ring around an RX disc) and K2 (interleaved fingers)
@@ -154,9 +155,9 @@ CLEAN = Revision(
     folder="tm1-clean",
     rev="B",
     title="TM-1 kitchen timer, revision B (review passed)",
-    k1_rx_r_mm=2.0,
+    k1_rx_r_mm=3.25,
     k1_gap_mm=1.2,
-    k1_tx_w_mm=2.5,
+    k1_tx_w_mm=2.05,
     k1_gnd_clear_mm=MUTUAL_TO_GND_MM,
     k1_tx_via_side="right",
     k2_gap_mm=1.2,
@@ -224,26 +225,24 @@ def k2_fingers(rev: Revision) -> tuple[list[tuple[float, float, float, float]], 
 def slider_segments() -> list[list[tuple[float, float]]]:
     """The five chevron segments as polygons (lists of vertices, counter-clockwise).
 
-    Boundary i (between segment i-1 and i) is x = X0 + i * pitch + chevron(y), chevron(y) =
-    depth * (1 - |y - yc| / (h / 2)); a vertical line crosses two segments everywhere inside.
-    The horizontal gap is widened so that the perpendicular gap is SLD_GAP_MM on the slanted edges.
+    Boundary i is x = X0 + i * pitch + chevron(y), chevron(y) = depth * (1 - |y - yc| / (h / 2)),
+    for i = 0..5 (the outer two are the slider's ends).  The horizontal gap is widened so that
+    the perpendicular gap is SLD_GAP_MM on the slanted edges.
     """
     yc = SLD_Y0 + SLD_H / 2
     slope = SLD_DEPTH / (SLD_H / 2)
     gx = SLD_GAP_MM * math.sqrt(1 + slope * slope)
     ys = (SLD_Y0, yc, SLD_Y0 + SLD_H)
-    x_end = SLD_X1  # right end: straight edge
 
     def chev(y: float) -> float:
         return SLD_DEPTH * (1 - abs(y - yc) / (SLD_H / 2))
 
     segs = []
     for i in range(SLD_N):
-        left = [(SLD_X0, y) for y in ys] if i == 0 else [(SLD_X0 + i * SLD_PITCH + chev(y) + gx / 2, y) for y in ys]
-        if i == SLD_N - 1:
-            right = [(x_end, y) for y in ys]
-        else:
-            right = [(SLD_X0 + (i + 1) * SLD_PITCH + chev(y) - gx / 2, y) for y in ys]
+        half_l = 0.0 if i == 0 else gx / 2
+        half_r = 0.0 if i == SLD_N - 1 else gx / 2
+        left = [(SLD_X0 + i * SLD_PITCH + chev(y) + half_l, y) for y in ys]
+        right = [(SLD_X0 + (i + 1) * SLD_PITCH + chev(y) - half_r, y) for y in ys]
         pts = [left[0], right[0], right[1], right[2], left[2], left[1]]
         pts = [(round(x, 6), round(y, 6)) for x, y in pts]
         dedup = [p for k, p in enumerate(pts) if p != pts[k - 1]]
@@ -349,14 +348,12 @@ def build(rev: Revision) -> Board:
     b = Board(rev)
     top = b.layers["top"]
 
-    # K1: RX disc, TX ring (an arc draw: annulus of exact radii), vias
+    # K1: RX disc, TX ring (two half-ring regions with exact arcs), vias
     d = k1_dims(rev)
     cx, cy = K1_C
     top.dark.append(lambda w: w.disc(K1_C, d["rx_r"], function="Conductor", net="RX1"))
     top.shapes.append(("RX1", Point(K1_C).buffer(d["rx_r"], quad_segs=64)))
-    ring_start = (cx + d["tx_mid"], cy)
-    top.dark.append(lambda w: w.arc(ring_start, ring_start, K1_C, False, w.circle(rev.k1_tx_w_mm, "Conductor"),
-                                    net="TX1"))
+    top.dark.append(lambda w: w.annulus(K1_C, d["tx_inner"], d["tx_outer"], function="Conductor", net="TX1"))
     top.shapes.append(("TX1", Point(K1_C).buffer(d["tx_outer"], quad_segs=64).difference(
         Point(K1_C).buffer(d["tx_inner"], quad_segs=64))))
     for side in ("top", "bottom") if rev.k1_gnd_clear_mm > MUTUAL_TO_GND_MM else ("top",):

@@ -280,6 +280,22 @@ class GerberWriter:
         self.region(a, [ArcTo(b, centre, False), ArcTo(a, centre, False)], function=function, net=net,
                     polarity=polarity)
 
+    def annulus(self, centre: Point, inner_mm: float, outer_mm: float, *, function: str, net: str | None = None,
+                polarity: Polarity = "dark") -> None:
+        """A ring as two half-ring regions (upper, then lower) with exact arcs; they share two
+        radial edges, so their union is the full annulus (a region cannot hold a hole itself)."""
+        if not 0 < inner_mm < outer_mm:
+            raise ValueError(f"annulus needs 0 < inner < outer, got {inner_mm}, {outer_mm}")
+        cx, cy = centre
+        for sign in (1.0, -1.0):
+            start = (cx + sign * outer_mm, cy)
+            self.region(start, [
+                ArcTo((cx - sign * outer_mm, cy), centre, False),
+                LineTo((cx - sign * inner_mm, cy)),
+                ArcTo((cx + sign * inner_mm, cy), centre, True),
+                LineTo(start),
+            ], function=function, net=net, polarity=polarity)
+
     def shapely_polygon(self, poly: Polygon, *, function: str, net: str | None = None) -> None:
         """A polygon with holes: the exterior dark, then each hole clear.
 

@@ -192,7 +192,7 @@ def test_clean_ring_node_areas() -> None:
     d = demo.k1_dims(demo.CLEAN)
     rx = image(top, Point(demo.K1_C).buffer(d["rx_r"] + demo.CLEAN.k1_gap_mm / 2, quad_segs=64))
     assert rx.area == pytest.approx(math.pi * d["rx_r"] ** 2, abs=2 * math.pi * d["rx_r"] * ARC_TOL_MM)
-    # the TX ring is one arc draw: an annulus of exact radii (its via pad lies inside the ring)
+    # the TX ring: two half-ring regions with exact arcs (its via pad lies inside the ring)
     ring_window = Point(demo.K1_C).buffer(d["tx_outer"] + 0.5, quad_segs=64).difference(
         Point(demo.K1_C).buffer(d["rx_r"] + demo.CLEAN.k1_gap_mm / 2, quad_segs=64))
     ring = image(top, ring_window)
