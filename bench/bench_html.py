@@ -46,15 +46,28 @@ CHROMIUM_ARGS = [
     "--disable-sync",
     "--no-first-run",
 ]
+#: configs of our own for the corpus boards (roles from their net names), so that sensors show
+_OVERLAY = """
+[[overlay.layers]]
+material = "pmma"
+thickness_mm = 2.0
+"""
+BENCH_CONFIGS = {
+    "b01-slider-proto": 'profile = "default"\n[roles]\nself = ["*SLIDER_KEY*", "*SPATIAL_KEY*", "*RESISTIVE_KEY*"]\n'
+    'ground = ["GND"]\n' + _OVERLAY,
+    "b03-wheel": 'profile = "default"\n[board]\nface = "bottom"\n[roles]\nself = ["/TOUCH*"]\nground = ["GND"]\n'
+    '[[sensors]]\nname = "wheel"\nkind = "wheel"\nnets = ["/TOUCH0", "/TOUCH1", "/TOUCH2"]\n' + _OVERLAY,
+    "b06-keyboard": 'profile = "default"\n[roles]\nself = ["Net-(J*-Pad1)"]\nground = ["GND"]\n' + _OVERLAY,
+}
 LOAD_JS = """() => {
   const n = performance.getEntriesByType('navigation')[0];
   return [n.loadEventEnd - n.startTime, n.domContentLoadedEventEnd - n.startTime];
 }"""
 
 
-def _result_for(fab: Path, estimate: bool) -> tuple[Result, float]:
+def _result_for(fab: Path, estimate: bool, config: Path | None) -> tuple[Result, float]:
     """The check's result with its drawing, and the seconds the drawing alone takes."""
-    result = check_board(fab, CheckOptions(with_drawing=True, estimate=estimate))
+    result = check_board(fab, CheckOptions(config_file=config, with_drawing=True, estimate=estimate))
     board = load_board(fab)
     t0 = time.perf_counter()
     drawing = drawing_from_board(board)
@@ -91,6 +104,7 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--runs", type=int, default=3)
     ap.add_argument("--estimate", action="store_true", help="run the field solver too (slower)")
     ap.add_argument("--chromium", default="/usr/bin/chromium")
+    ap.add_argument("--no-config", action="store_true", help="check without the bench's own role configs")
     args = ap.parse_args(argv)
     if not CORPUS.is_dir():
         print(f"no corpus at {CORPUS}: nothing to measure")
@@ -114,7 +128,11 @@ def main(argv: list[str] | None = None) -> int:
             if not fab.is_dir():
                 print(f"{name:<20} missing")
                 continue
-            result, draw_s = _result_for(fab, args.estimate)
+            config = None
+            if name in BENCH_CONFIGS and not args.no_config:
+                config = out / f"{name}.toml"
+                config.write_text(BENCH_CONFIGS[name], encoding="utf-8")
+            result, draw_s = _result_for(fab, args.estimate, config)
             t0 = time.perf_counter()
             page = render([result])
             render_s = time.perf_counter() - t0
@@ -130,7 +148,8 @@ def main(argv: list[str] | None = None) -> int:
             print(
                 f"{name:<20} {size / 1e6:>8.2f} {tol:>7.3f} {draw_s:>7.2f} {render_s:>8.2f} "
                 f"{loads[0] * 1000:>6.0f}/{med * 1000:>5.0f}/{loads[-1] * 1000:>5.0f} ms "
-                f"{med / base_med:>6.1f}x  {'ok' if ok else 'OVER'} ({len(result.findings)} findings)"
+                f"{med / base_med:>6.1f}x  {'ok' if ok else 'OVER'} "
+                f"({len(result.findings)} findings, {len(result.sensors)} sensors)"
             )
         browser.close()
     print(f"pages and screenshots in {out}")

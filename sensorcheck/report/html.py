@@ -249,9 +249,14 @@ def _svg(prefix: str, result: Result, fids: dict[int, str], findings: list[Findi
     if drawing is not None:
         grid = grid_for(drawing.simplify_tolerance_mm) if drawing.simplify_tolerance_mm > 0 else 0.001
         stack = list(enumerate(drawing.layers))
-        for index, layer in reversed(stack):  # bottom first, so the top is drawn over it
+        face = (result.overlay or {}).get("face")
+        # the touched face is drawn last, over the others (top unless the overlay covers the bottom)
+        order = stack if face == "bottom" else list(reversed(stack))
+        for index, layer in order:
             gid = f"{prefix}-L{index}"
             cls = _copper_class(index, layer.side, len(drawing.layers))
+            if face in ("top", "bottom"):
+                cls += " front" if layer.side == face else " back"
             d = svg_path_data(layer.polygons, grid)
             out.append(
                 f'<g class="lyr copper {cls}" id="{gid}" data-layer="{esc(layer.name)}">'

@@ -188,3 +188,45 @@ def test_show_sensor_on_board(session: dict[str, Any]) -> None:
     assert x <= 52 and x + w >= 67 and y <= -41 and y + h >= -26
     assert w < home[2]
     page.keyboard.press("0")
+
+
+DEMO = Path(__file__).resolve().parents[2] / "boards"
+
+
+def test_demo_boards_page(browser: Any, review_board: dict[str, Any], tmp_path: Path) -> None:
+    """Both demo boards through the whole check, on one page: clean load, list and board agree."""
+    from sensorcheck.check import CheckOptions, check_board
+
+    folders = [DEMO / "tm1-clean" / "fab", DEMO / "tm1-flawed" / "fab"]
+    if not all(f.is_dir() for f in folders):
+        pytest.skip("the demo boards (boards/tm1-*) are not there; boards/make_demo.py writes them")
+    results = [check_board(f, CheckOptions(with_drawing=True, estimate=False)) for f in folders]
+    path = tmp_path / "demo.html"
+    path.write_text(render(results), encoding="utf-8")
+    page = browser.new_page(viewport={"width": 1400, "height": 1000})
+    problems: list[str] = []
+    requests: list[str] = []
+    page.on("pageerror", lambda e: problems.append(str(e)))
+    page.on("console", lambda m: problems.append(m.text) if m.type in ("error", "warning") else None)
+    page.on("request", lambda r: requests.append(r.url))
+    page.goto(path.as_uri(), wait_until="load")
+    page.wait_for_selector("html[data-ready]")
+    assert problems == [] and requests == [path.as_uri()]
+    for i, result in enumerate(results):
+        section = page.locator(f"section.board#b{i}")
+        located = [f for f in result.findings if f.location.box_mm or f.location.x_mm is not None]
+        assert section.locator(".fitem").count() == len(result.findings)
+        assert section.locator("svg .fmark").count() == len(located)
+        # every copper layer of the board is drawn and has a switch
+        copper = [layer.name for layer in (result.drawing.layers if result.drawing else [])]
+        assert copper and section.locator("svg g.copper").count() == len(copper)
+    # the flawed board has findings on the drawing: select the first one, on the second board
+    flawed = page.locator("section.board#b1")
+    first = flawed.locator(".fitem:not([data-unplaced]) .fbtn").first
+    fid = first.get_attribute("data-fid")
+    first.click()
+    assert "hl" in flawed.locator(f'svg .fmark[data-fid="{fid}"]').get_attribute("class").split()
+    assert page.locator("section.board#b0 svg .fmark.hl").count() == 0  # the other board is untouched
+    flawed.locator(".canvas").scroll_into_view_if_needed()
+    page.screenshot(path=str(review_board["artifacts"] / "review-demo-flawed.png"))
+    page.close()
