@@ -79,7 +79,7 @@ def _estimate_lines(estimate: dict[str, object] | None) -> list[str]:
     return [f"Estimate (field solver, {md(model)}; an estimate, not a measurement): {text or 'no scalar values'}", ""]
 
 
-def _sensor_section(s: SensorSummary, findings: list[Finding]) -> list[str]:
+def _sensor_section(s: SensorSummary, findings: list[Finding], rules_run: list[str]) -> list[str]:
     out = [f"### Sensor {md(s.name)} ({md(s.kind)}{', ' + md(s.layer) if s.layer else ''})", ""]
     out += [f"**Result: {sensor_verdict(findings)}**", ""]
     if s.nets:
@@ -94,6 +94,10 @@ def _sensor_section(s: SensorSummary, findings: list[Finding]) -> list[str]:
     else:
         out.append("No open findings on this sensor.")
     out.append("")
+    hit = {f.rule_id for f in findings}
+    quiet = [r for r in rules_run if r not in hit]
+    if quiet:
+        out += [f"Found nothing on this sensor ({len(quiet)} rules): " + ", ".join(md(r) for r in quiet), ""]
     items = list(dict.fromkeys([*s.checklist, *(f.review for f in findings if f.review)]))
     out.append("Reviewer checks:")
     out.append("")
@@ -134,7 +138,7 @@ def _board_section(result: Result, label: str, catalogue: dict[str, RuleInfo]) -
         out += ["", "Overlay (as configured):", ""] + [f"- {md(line)}" for line in ov]
     out += ["", f"**Summary:** {summary_line(findings)}", ""]
     for s in sensors_sorted(result):
-        out += _sensor_section(s, [f for f in findings if f.sensor == s.name])
+        out += _sensor_section(s, [f for f in findings if f.sensor == s.name], sorted(set(result.rules_run)))
     names = {s.name for s in result.sensors}
     loose = [f for f in findings if not f.waived and f.sensor not in names]
     if loose:
