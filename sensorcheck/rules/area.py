@@ -6,7 +6,7 @@ from collections.abc import Iterable, Mapping
 from typing import Any
 
 from sensorcheck.design.model import Design
-from sensorcheck.rules.common import finding, fmt, ground_copper, union
+from sensorcheck.rules.common import finding, fmt, ground_copper, require_role, union
 from sensorcheck.rules.engine import Param, Rule
 from sensorcheck.rules.finding import Finding
 
@@ -49,6 +49,8 @@ class ReceiverVsGround(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        if any(s.electrodes_with("receiver") for s in design.sensors):
+            require_role(design, "ground")
         for s in design.sensors:
             rxs = s.electrodes_with("receiver")
             if not rxs:

@@ -213,6 +213,49 @@ def trace_geometry(electrode: Electrode) -> dict[str, BaseGeometry]:
     return out
 
 
+def bbox_overlap(a: BaseGeometry, b: BaseGeometry) -> bool:
+    if a.is_empty or b.is_empty:
+        return False
+    ax0, ay0, ax1, ay1 = a.bounds
+    bx0, by0, bx1, by1 = b.bounds
+    return ax0 <= bx1 and bx0 <= ax1 and ay0 <= by1 and by0 <= ay1
+
+
+def clipped_union(geoms: Iterable[BaseGeometry], window: BaseGeometry) -> BaseGeometry:
+    """Union of ``geoms`` clipped to ``window`` (clipping first: the union of a whole layer is slow)."""
+    return union(g.intersection(window) for g in geoms if bbox_overlap(g, window))
+
+
+def hole_nets(design: Design) -> dict[int, str | None]:
+    """Net of every hole (by index in ``board.holes``): the drill file's, else the copper it lands on."""
+    out: dict[int, str | None] = {}
+    todo = []
+    for i, h in enumerate(design.board.holes):
+        if h.net:
+            out[i] = h.net
+        else:
+            todo.append(i)
+    if not todo:
+        return out
+    pts = [Point(design.board.holes[i].x_mm, design.board.holes[i].y_mm) for i in todo]
+    for i in todo:
+        out[i] = None
+    for lay in design.board.copper_layers():
+        names = list(lay.by_net)
+        if not names:
+            continue
+        tree = shapely.STRtree([lay.by_net[n] for n in names])
+        left = [k for k, i in enumerate(todo) if out[i] is None]
+        if not left:
+            break
+        hits = tree.query([pts[k] for k in left], predicate="intersects")
+        for src, tgt in zip(hits[0], hits[1]):
+            i = todo[left[int(src)]]
+            if out[i] is None:
+                out[i] = names[int(tgt)]
+    return out
+
+
 def hole_net(design: Design, hole: Hole) -> str | None:
     """The hole's net: from the drill file, else the copper it lands on (any copper layer)."""
     if hole.net:
@@ -282,3 +325,15 @@ def estimate_ok(est: Any, min_delta_pf: float, min_percent_self: float, min_perc
     if turned:
         text += f", signal turns around {est.turning_point_mm:.2f} mm above the overlay"
     return ok, text
+
+
+def require_role(design: Design, role_name: str) -> list[str]:
+    """The nets with ``role_name``; none -> MissingInput (the rule then says once what to give)."""
+    nets = design.nets_with(role_name)  # type: ignore[arg-type]
+    if not nets:
+        from sensorcheck.rules.engine import MissingInput
+
+        example = {"aggressor": 'aggressor = [{pattern = "LED*", kind = "led"}]', "ground": 'ground = ["GND"]'}.get(
+            role_name, f'{role_name} = ["..."]')
+        raise MissingInput(f"no {role_name} nets were named", f"add {example} under [roles] in sensorcheck.toml")
+    return nets

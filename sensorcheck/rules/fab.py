@@ -11,7 +11,7 @@ from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
     finding,
     fmt,
-    hole_net,
+    hole_nets,
     is_floating_id,
     is_via,
     midpoint,
@@ -246,13 +246,15 @@ class HoleNearSensor(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
-        holes = [h for h in design.board.holes if not is_via(h, params["max_via_diameter_mm"])]
+        nets_of = hole_nets(design)
+        holes = [(h, nets_of[i]) for i, h in enumerate(design.board.holes) if not is_via(h, params["max_via_diameter_mm"])]
         for s in design.sensors:
             own = set(s.nets)
-            for h in holes:
-                if hole_net(design, h) in own:
+            outline = s.outline
+            for h, net in holes:
+                if net in own:
                     continue
-                d = max(0.0, s.outline.distance(Point(h.x_mm, h.y_mm)) - h.diameter_mm / 2.0)
+                d = max(0.0, outline.distance(Point(h.x_mm, h.y_mm)) - h.diameter_mm / 2.0)
                 if d >= params["min_distance_mm"]:
                     continue
                 yield finding(

@@ -8,12 +8,14 @@ from typing import Any
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
     SELF_KINDS,
+    clipped_union,
     estimate_ok,
     finding,
     fmt,
-    ground_copper,
+    union,
     midpoint,
     nearest_points,
+    require_role,
     net_features,
     overlay_thickness_mm,
     source_near,
@@ -158,13 +160,17 @@ class ElectrodeGroundGapVsOverlay(Rule):
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         t = overlay_thickness_mm(design)
         target = clamp(t, params["min_gap_mm"], params["max_gap_mm"])
+        gnd_nets = require_role(design, "ground")
         for s in design.sensors:
             if s.kind not in SELF_KINDS:
                 continue
             for e in s.electrodes:
                 if e.role != "self":
                     continue
-                gnd = ground_copper(design, e.layer)
+                # only ground nearer than the target matters: clip before measuring (whole pours are slow)
+                lay = design.board.layer(e.layer)
+                window = e.geometry.envelope.buffer(target + 1.0)
+                gnd = clipped_union((lay.by_net[n] for n in gnd_nets if n in lay.by_net), window) if lay else union([])
                 if gnd.is_empty:
                     continue
                 gap = e.geometry.distance(gnd)

@@ -15,6 +15,8 @@ from sensorcheck.design.model import Design
 from sensorcheck.physics.parasitics import parallel_plate_pf
 from sensorcheck.rules.common import (
     SELF_KINDS,
+    bbox_overlap,
+    clipped_union,
     copper,
     finding,
     fmt,
@@ -80,13 +82,13 @@ def _hatch_text(m: HatchMeasure) -> str:
     return f"hatch line {fmt(m.line_mm)} mm, opening {fmt(m.opening_mm)} mm ({m.openings} openings)"
 
 
-def _other_copper(design: Design, layer: str) -> BaseGeometry:
-    """Copper of every net on ``layer`` except sensing electrodes and traces."""
+def _other_copper(design: Design, layer: str, window: BaseGeometry) -> BaseGeometry:
+    """Copper of every net on ``layer`` except sensing electrodes and traces, clipped to ``window``."""
     lay = copper(design.board, layer)
     if lay is None:
         return union([])
     skip = sensing_nets(design)
-    return union(g for n, g in lay.by_net.items() if n not in skip)
+    return clipped_union((g for n, g in lay.by_net.items() if n not in skip), window)
 
 
 class FillNearSensor(Rule):
@@ -136,7 +138,7 @@ class FillNearSensor(Rule):
                 ring = ring.intersection(shapely.Polygon(outline_board.exterior) if outline_board.geom_type == "Polygon" else outline_board)
             self_kind = s.kind in SELF_KINDS
             for lay in design.board.copper_layers():
-                other = _other_copper(design, lay.name)
+                other = _other_copper(design, lay.name, ring)
                 if other.is_empty:
                     continue
                 m = measure_hatch(other, ring)
@@ -206,10 +208,7 @@ class GroundUnderSelf(Rule):
                 for lay in board.copper_layers():
                     if lay.name == e.layer:
                         continue
-                    others = union(g for n, g in lay.by_net.items() if n != e.net)
-                    if others.is_empty:
-                        continue
-                    under = others.intersection(e.geometry)
+                    under = clipped_union((g for n, g in lay.by_net.items() if n != e.net), e.geometry)
                     if under.is_empty or under.area < 1e-3:
                         continue
                     sep = layer_separation(board, e.layer, lay.name, params["default_epsilon_r"])
@@ -222,7 +221,8 @@ class GroundUnderSelf(Rule):
                     fill = 100 * under.area / e.geometry.area
                     added = parallel_plate_pf(under.area, h, eps)
                     stack_src = board.stackup.source if board.stackup else "?"
-                    nets = tuple(sorted(n for n, g in lay.by_net.items() if n != e.net and g.intersects(e.geometry)))
+                    nets = tuple(sorted(n for n, g in lay.by_net.items()
+                                        if n != e.net and bbox_overlap(g, e.geometry) and g.intersects(e.geometry)))
                     base = (
                         f"{fmt(fill, 1)} % of the electrode ({fmt(under.area, 1)} mm2) has copper under it on {lay.name}, "
                         f"{fmt(h, 3)} mm below (eps_r {fmt(eps, 2)}, stackup from {stack_src}): adds about "

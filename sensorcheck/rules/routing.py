@@ -18,13 +18,14 @@ from sensorcheck.rules.common import (
     copper,
     finding,
     fmt,
-    hole_net,
+    hole_nets,
     is_floating_id,
     is_via,
     midpoint,
     nearest_points,
     net_features,
     paths,
+    require_role,
     role,
     source_near,
     trace_features,
@@ -141,7 +142,8 @@ class ForeignViaInZone(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
-        vias = [(h, hole_net(design, h)) for h in design.board.holes if is_via(h, params["max_via_diameter_mm"])]
+        nets_of = hole_nets(design)
+        vias = [(h, nets_of[i]) for i, h in enumerate(design.board.holes) if is_via(h, params["max_via_diameter_mm"])]
         for s in design.sensors:
             own = set(s.nets)
             near = s.outline.buffer(params["clearance_mm"])
@@ -274,9 +276,7 @@ class AggressorNearSensor(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
-        aggressors = design.nets_with("aggressor")
-        if not aggressors:
-            return
+        aggressors = require_role(design, "aggressor")
         for s in design.sensors:
             outline = s.outline
             for net in aggressors:
@@ -363,9 +363,7 @@ class AggressorParallel(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
-        aggressors = design.nets_with("aggressor")
-        if not aggressors:
-            return
+        aggressors = require_role(design, "aggressor")
         for s in design.sensors:
             for e in s.electrodes:
                 tp = _trace_paths(design, e)

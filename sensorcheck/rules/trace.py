@@ -11,7 +11,7 @@ from sensorcheck.physics.parasitics import microstrip_pf_per_mm, parallel_plate_
 from sensorcheck.rules.common import (
     finding,
     fmt,
-    hole_net,
+    hole_nets,
     is_via,
     layer_separation,
     paths,
@@ -135,8 +135,9 @@ class TraceLength(Rule):
                 )
 
 
-def _net_vias(design: Design, net: str, max_via_diameter_mm: float) -> list[Any]:
-    return [h for h in design.board.holes if is_via(h, max_via_diameter_mm) and hole_net(design, h) == net]
+def _net_vias(design: Design, net: str, max_via_diameter_mm: float, nets_of: dict[int, str | None] | None = None) -> list[Any]:
+    nets_of = nets_of if nets_of is not None else hole_nets(design)
+    return [h for i, h in enumerate(design.board.holes) if nets_of[i] == net and is_via(h, max_via_diameter_mm)]
 
 
 class ViaCount(Rule):
@@ -169,8 +170,9 @@ class ViaCount(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        nets_of = hole_nets(design)
         for s, e in _channels(design):
-            vias = _net_vias(design, e.net, params["max_via_diameter_mm"])
+            vias = _net_vias(design, e.net, params["max_via_diameter_mm"], nets_of)
             if len(vias) > params["max_vias"]:
                 v = vias[0]
                 yield finding(
@@ -210,7 +212,8 @@ def _reference_copper(design: Design, layer: str, own_net: str) -> Any:
     return union(g for n, g in lay.by_net.items() if n not in skip and n not in shield)
 
 
-def channel_budget(design: Design, e: Electrode, params: Mapping[str, Any]) -> Budget:
+def channel_budget(design: Design, e: Electrode, params: Mapping[str, Any],
+                   nets_of: dict[int, str | None] | None = None) -> Budget:
     """Electrode plates + microstrip traces (fill-corrected) + vias + pin capacitance, in pF."""
     board = design.board
     eps_default = params["default_epsilon_r"]
@@ -252,7 +255,7 @@ def channel_budget(design: Design, e: Electrode, params: Mapping[str, Any]) -> B
                 c_per_mm += microstrip_pf_per_mm(f.width_mm, h, eps) * fill * remaining
                 remaining *= 1.0 - fill
             trace_pf += c_per_mm * length
-    vias = _net_vias(design, e.net, params["max_via_diameter_mm"])
+    vias = _net_vias(design, e.net, params["max_via_diameter_mm"], nets_of)
     vias_pf = 0.0
     if vias:
         st = board.stackup
@@ -308,11 +311,12 @@ class ParasiticBudget(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         limit = float(design.config.controller["max_parasitic_pf"])
+        nets_of = hole_nets(design)
         for s, e in _channels(design):
             est = estimates.get(s.name)
             if est is not None and est.parasitic_pf is not None:
                 continue
-            b = channel_budget(design, e, params)
+            b = channel_budget(design, e, params, nets_of)
             total = b.total_pf
             parts = (
                 f"electrode {fmt(b.electrode_pf)} pF + trace {fmt(b.trace_pf)} pF ({fmt(b.trace_mm, 1)} mm) + "

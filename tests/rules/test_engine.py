@@ -221,3 +221,39 @@ def test_progress_reports_each_rule() -> None:
     run_rules(mutual_node(1.2), progress=seen.append)
     assert len(seen) == len([c for c in registry().values() if not c.engine_only])
     assert engine.RuleRun
+
+
+def test_missing_roles_are_said_once() -> None:
+    design = self_button(1.5, 1.5)
+    design.roles.pop("GND")  # nobody named the ground net
+    run = run_rules(design)
+    for rid, what in (("gap.electrode-ground-vs-overlay", "no ground nets"),
+                      ("routing.aggressor-near-sensor", "no aggressor nets"),
+                      ("routing.aggressor-parallel", "no aggressor nets")):
+        (f,) = [f for f in run.findings if f.rule_id == rid]
+        assert f.severity == "note" and what in f.message and "[roles]" in f.message
+
+
+@pytest.mark.parametrize(
+    "change, rule, text",
+    [
+        (lambda d: setattr(d.board, "stackup", None), "hatch.ground-under-self", "[stackup]"),
+        (lambda d: setattr(d.board, "outline", None), "fab.board-edge-near-sensor", "outline"),
+        (lambda d: d.config.controller.clear(), "trace.parasitic-budget", "max_parasitic_pf"),
+    ],
+)
+def test_missing_inputs_notes(change, rule: str, text: str) -> None:
+    design = self_button(1.5, 1.5)
+    change(design)
+    (f,) = [f for f in run_rules(design).findings if f.rule_id == rule]
+    assert f.severity == "note" and text in f.message
+
+
+def test_every_rule_has_good_and_bad_cases_in_the_tests() -> None:
+    # each rule id must be exercised by name in a test module of this folder (besides this one)
+    from pathlib import Path
+
+    here = Path(__file__).parent
+    text = "\n".join(p.read_text() for p in here.glob("test_*.py") if p.name != "test_engine.py")
+    missing = [rid for rid, cls in registry().items() if not cls.engine_only and f'"{rid}"' not in text]
+    assert missing == []

@@ -73,9 +73,9 @@ def test_solid_pour_near_self_button_warns_with_hand_computed_fill() -> None:
 
 
 def test_light_hatch_near_self_button_passes_and_dense_warns() -> None:
-    light = square_hatch(-30, -30, 30, 30, 0.18, 1.14)  # 25 %
+    light = square_hatch(-17, -17, 17, 17, 0.18, 1.14)  # 25 %, covers the 10 mm ring
     assert run_one("hatch.fill-near-sensor", button_with_ground(light)) == []
-    dense = square_hatch(-30, -30, 30, 30, 0.5, 0.5)  # 75 %
+    dense = square_hatch(-17, -17, 17, 17, 0.5, 0.5)  # 75 %
     (f,) = run_one("hatch.fill-near-sensor", button_with_ground(dense))
     # expected: closed form times the copper-bearing share of the ring (ring edges cut the hatch
     # at random phase: 3 % relative)
