@@ -330,3 +330,17 @@ def sensor_verdict(findings: Iterable[Finding]) -> str:
     if c["waived"]:
         parts.append(f"{c['waived']} waived")
     return f"{word} ({', '.join(parts)})" if parts else word
+
+
+def estimate_notes_of(estimate: dict[str, object] | None) -> list[str]:
+    """The notes an estimate carries (model limits, validity warnings), as strings."""
+    notes = (estimate or {}).get("notes")
+    if isinstance(notes, str):
+        return [notes]
+    if isinstance(notes, (list, tuple)):
+        return [str(n) for n in notes]
+    return []
+
+
+def estimate_notes(sensor: SensorSummary) -> list[str]:
+    return estimate_notes_of(sensor.estimate)

@@ -18,6 +18,7 @@ from collections.abc import Iterable, Sequence
 from sensorcheck.report.common import (
     board_labels,
     counts,
+    estimate_notes_of,
     is_problem,
     kind_label,
     num,
@@ -76,7 +77,11 @@ def _estimate_lines(estimate: dict[str, object] | None) -> list[str]:
     model = estimate.get("model") or estimate.get("model_label") or "model not named"
     scalars = [(k, v) for k, v in sorted(estimate.items()) if k not in ("model", "model_label") and isinstance(v, (int, float, str)) and not isinstance(v, bool)]
     text = ", ".join(f"{md(k)} = {md(num(v))}" for k, v in scalars)
-    return [f"Estimate (field solver, {md(model)}; an estimate, not a measurement): {text or 'no scalar values'}", ""]
+    out = [f"Estimate (field solver, {md(model)}; an estimate, not a measurement): {text or 'no scalar values'}", ""]
+    notes = estimate_notes_of(estimate)
+    if notes:
+        out += [f"- {md(n)}" for n in notes] + [""]
+    return out
 
 
 def _sensor_section(s: SensorSummary, findings: list[Finding], rules_run: list[str]) -> list[str]:

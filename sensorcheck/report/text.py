@@ -19,13 +19,14 @@ from rich.text import Text
 
 from sensorcheck.report.common import (
     board_labels,
+    estimate_notes,
     is_problem,
     num,
     ordered,
     overlay_lines,
-    sensor_verdict,
     rule_catalogue,
     safe_text,
+    sensor_verdict,
     sensors_sorted,
     summary_line,
     value_text,
@@ -182,6 +183,9 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
     parts.append(Text(""))
     if result.sensors:
         parts.append(_sensor_table(result, fancy, findings))
+        for s in sensors_sorted(result):
+            for note in estimate_notes(s):
+                parts.append(Text(f"  {safe_text(s.name)} estimate: {safe_text(note)}", style="italic"))
     else:
         parts.append(Text("No sensors recognised."))
     parts.append(Text(""))

@@ -64,6 +64,7 @@ def test_checklist_content(one_board: list[Result]) -> None:
     # B1 has findings of three rules; the other four that ran are listed as passing for it.
     assert "Found nothing on this sensor (4 rules): area.rx-to-ground, estimate.turnaround, gap.tx-rx-vs-overlay, routing.via-in-zone" in lines
     assert any("BEM 2.5-D, 412 panels" in line for line in lines)  # estimate with its model
+    assert "- overlay thinner than the model's validity range" in lines  # and its notes
     assert any(line.startswith("| routing.aggressor-near-trace |") and "fail: 2 errors" in line for line in lines)
     assert any(line.startswith("| hatch.fill-near-sensor |") and "pass" in line for line in lines)
     assert "## Before you rely on this" in lines

@@ -57,6 +57,7 @@ def test_content(one_board: list[Result]) -> None:
     assert "no job file: stackup from sensorcheck.toml" in text
     assert "Caution: Estimates are not measurements" in text
     assert "3 errors, 3 warnings, 3 notes, 1 waived, 1 internal error; 7 rules ran" in text
+    assert "K1 estimate: overlay thinner than the model's validity range" in text
     # Per-sensor verdict beside its numbers.
     k1_row = next(i for i, line in enumerate(lines) if line.startswith("| K1 "))
     assert "FAIL" in lines[k1_row] and "2 errors" in lines[k1_row + 1]
