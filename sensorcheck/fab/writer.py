@@ -33,6 +33,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 import uuid
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
@@ -187,6 +188,17 @@ class GerberWriter:
         self._body.append(f"X{_num(at[0])}Y{_num(at[1])}D03*")
         self.object_count += 1
 
+    def flashes(self, points: Sequence[Point], aperture: int, *, net: str | None = None,
+                polarity: Polarity = "dark") -> None:
+        """Many flashes of one aperture with the same attributes (a hatch's openings)."""
+        if not points:
+            return
+        self._set_attrs(net, None, None)
+        self._set_polarity(polarity)
+        self._select(aperture)
+        self._body.extend(f"X{_num(x)}Y{_num(y)}D03*" for x, y in points)
+        self.object_count += len(points)
+
     def track(
         self, points: Sequence[Point], aperture: int, *, net: str | None = None, polarity: Polarity = "dark"
     ) -> None:
@@ -309,6 +321,40 @@ class GerberWriter:
     # -- output ----------------------------------------------------------------------------
 
     def to_bytes(self) -> bytes:
+        """The whole file: header (file attributes, format, apertures), the objects, ``M02``."""
+        return ("\n".join(self._header() + self._body + ["M02*"]) + "\n").encode("ascii")
+
+    def panel_bytes(self, offsets_mm: Sequence[Point]) -> bytes:
+        """The objects written once per offset (explicit copies: the file grows with the copies).
+
+        Each copy starts from a known state (``%TD*%`` empties the attribute dictionary,
+        ``%LPD*%``, and the copy re-selects its aperture and attributes), so copies are
+        independent; clear objects of a copy only erase what that copy drew when the copies do
+        not overlap.
+        """
+        parsed = [_XY.match(line) for line in self._body]
+        template = [(int(m.group(1)), int(m.group(2)), m.group(3)) if m else line for m, line in zip(parsed, self._body)]
+        out = self._header()
+        for dx_mm, dy_mm in offsets_mm:
+            dx, dy = round(dx_mm * _GERBER_UNITS_PER_MM), round(dy_mm * _GERBER_UNITS_PER_MM)
+            out.append("%TD*%")
+            out.append("%LPD*%")
+            out.extend(f"X{t[0] + dx}Y{t[1] + dy}{t[2]}" if isinstance(t, tuple) else t for t in template)
+        out.append("M02*")
+        return ("\n".join(out) + "\n").encode("ascii")
+
+    def step_repeat_bytes(self, nx: int, ny: int, dx_mm: float, dy_mm: float) -> bytes:
+        """The objects inside one step-and-repeat block (``%SRX..Y..I..J..*%`` ... ``%SR*%``)."""
+        if nx < 1 or ny < 1:
+            raise ValueError("step-and-repeat needs at least one copy along each axis")
+        out = self._header()
+        out.append(f"%SRX{nx}Y{ny}I{dx_mm:.6f}J{dy_mm:.6f}*%")
+        out.extend(self._body)
+        out.append("%SR*%")
+        out.append("M02*")
+        return ("\n".join(out) + "\n").encode("ascii")
+
+    def _header(self) -> list[str]:
         vendor, app, version = self.generation_software
         out: list[str] = []
         if self.comment:
@@ -333,9 +379,11 @@ class GerberWriter:
             out.append(f"%ADD{code}{shape},{params}*%")
         if self._apertures:
             out.append("%TD.AperFunction*%")
-        out.extend(self._body)
-        out.append("M02*")
-        return ("\n".join(out) + "\n").encode("ascii")
+        return out
+
+
+#: a body line with absolute X and Y (I/J, when present, are relative and stay as they are)
+_XY = re.compile(r"^X(-?\d+)Y(-?\d+)(.*)$")
 
 
 # ---------------------------------------------------------------------------------------------

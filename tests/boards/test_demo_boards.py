@@ -471,3 +471,54 @@ def test_board_reader_reads_the_demo(rev: object) -> None:
     top = board.layer("top-copper")
     assert top.by_net["BTN1"].area == pytest.approx(math.pi * demo.BTN_R_MM**2, rel=1e-3)
     assert len(board.holes) == len(demo.build(rev).holes_pth) + len(demo.MOUNT_HOLES)
+
+
+# --- the scaling benchmark's large boards ------------------------------------------------------
+
+large = _load_module("make_large_board", REPO / "bench" / "make_large_board.py")
+
+
+@pytest.mark.parametrize("kind", ["panel", "hatch"])
+def test_large_board_size_scales_linearly_with_the_target(tmp_path: Path, kind: str) -> None:
+    small = large.make(tmp_path / "a", 0.3, kind).stat().st_size
+    big = large.make(tmp_path / "b", 0.9, kind).stat().st_size
+    assert small == pytest.approx(0.3e6, rel=0.15)
+    assert big == pytest.approx(0.9e6, rel=0.15)
+    assert big / small == pytest.approx(3.0, rel=0.15)
+    again = large.make(tmp_path / "c", 0.3, kind)
+    assert again.read_bytes() == (tmp_path / "a" / again.name).read_bytes()  # deterministic
+
+
+def test_panel_copies_are_the_demo_shifted(tmp_path: Path) -> None:
+    writer = large.demo_top_copper()
+    dx = demo.BOARD_W_MM + large.PANEL_GAP_MM
+    single = tmp_path / "one.gtl"
+    single.write_bytes(writer.panel_bytes([(0.0, 0.0)]))
+    double = tmp_path / "two.gtl"
+    double.write_bytes(writer.panel_bytes([(0.0, 0.0), (dx, 0.0)]))
+    one, two = read_gerber(single), read_gerber(double)
+    assert len(two.objects) == 2 * len(one.objects)
+    n = len(one.objects)
+    for a, b in zip(one.objects[:50], two.objects[n:n + 50]):
+        (ax0, ay0), (ax1, ay1) = a.bounding_box(unit=gerbonara.utils.MM)
+        (bx0, by0), (bx1, by1) = b.bounding_box(unit=gerbonara.utils.MM)
+        assert (bx0 - ax0, by0 - ay0, bx1 - ax1, by1 - ay1) == pytest.approx((dx, 0, dx, 0), abs=1e-6)
+    # the second copy's BTN1 disc has the area the design says (polarity is per copy)
+    centre = (demo.BTN1_C[0] + dx, demo.BTN1_C[1])
+    img = image(two, Point(centre).buffer(demo.BTN_R_MM + 1.0, quad_segs=64))
+    assert img.area == pytest.approx(math.pi * demo.BTN_R_MM**2, abs=2 * math.pi * demo.BTN_R_MM * ARC_TOL_MM)
+    sr = writer.step_repeat_bytes(3, 2, dx, 75.0).decode()
+    assert f"%SRX3Y2I{dx:.6f}J75.000000*%" in sr and sr.count("%SR*%") == 1
+
+
+def test_large_hatch_has_the_closed_form_fill(tmp_path: Path) -> None:
+    path = large.make(tmp_path, 0.2, "hatch")
+    g = read_gerber(path)
+    openings = [o for o in g.objects if not o.polarity_dark]
+    assert len(openings) == int(path.stem.split("-")[1])
+    w, o = large.HATCH_LINE_MM, large.HATCH_OPENING_MM
+    p, b = w + o, large.HATCH_BORDER_MM
+    window = box(b + 10 * p, b + 10 * p, b + 20 * p, b + 20 * p)  # whole cells inside the pour
+    fill = image(g, window).area / window.area
+    # each pitch cell holds one opening centred in it: the copper is a w-wide band around it
+    assert fill == pytest.approx(1 - (o / (o + w)) ** 2, rel=0.01)
