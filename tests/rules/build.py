@@ -7,6 +7,7 @@ import datetime as dt
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
+import numpy as np
 import shapely
 from shapely.geometry import LineString, Point, box
 from shapely.geometry.base import BaseGeometry
@@ -45,17 +46,19 @@ def disc(x: float, y: float, d: float) -> BaseGeometry:
 
 
 def square_hatch(x0: float, y0: float, x1: float, y1: float, line_mm: float, opening_mm: float) -> BaseGeometry:
-    """A square crosshatch starting with a line at x0/y0: solid minus a grid of square openings."""
+    """A square crosshatch starting with a line at x0/y0: the box minus every whole g x g opening
+    on the pitch w + g (partial openings at the far edges stay copper).  The openings are disjoint,
+    so they form a valid MultiPolygon without a union (fast)."""
     pitch = line_mm + opening_mm
-    holes = []
-    x = x0 + line_mm
-    while x + opening_mm <= x1 + 1e-9:
-        y = y0 + line_mm
-        while y + opening_mm <= y1 + 1e-9:
-            holes.append(box(x, y, x + opening_mm, y + opening_mm))
-            y += pitch
-        x += pitch
-    return box(x0, y0, x1, y1).difference(shapely.union_all(holes))
+    nx = int((x1 - x0 - line_mm - opening_mm) / pitch + 1e-9) + 1
+    ny = int((y1 - y0 - line_mm - opening_mm) / pitch + 1e-9) + 1
+    if nx <= 0 or ny <= 0:
+        return box(x0, y0, x1, y1)
+    xs = x0 + line_mm + pitch * np.arange(nx)
+    ys = y0 + line_mm + pitch * np.arange(ny)
+    gx, gy = np.meshgrid(xs, ys)
+    cells = shapely.box(gx.ravel(), gy.ravel(), gx.ravel() + opening_mm, gy.ravel() + opening_mm)
+    return box(x0, y0, x1, y1).difference(shapely.MultiPolygon(list(cells)))
 
 
 def stackup_2layer(core_mm: float = 1.5, eps: float = 4.5) -> Stackup:
@@ -102,7 +105,8 @@ def make_board(shapes: Iterable[Shape], *, holes: Sequence[Hole] = (), outline: 
                 source=SourceRef(f"{name}.gbr", s.line), aperture_function=s.aperture_function,
                 net=s.net, width_mm=s.width_mm, path=s.path,
             ))
-        lay.dark = shapely.union_all([s.geom for s in mine]) if mine else shapely.Polygon()
+        # the rules read the final image of mask and paste layers only; copper is read per net
+        lay.dark = None if fn == "copper" else (shapely.union_all([s.geom for s in mine]) if mine else shapely.Polygon())
         if fn == "copper":
             nets: dict[str, list[BaseGeometry]] = {}
             for i, s in enumerate(mine):
