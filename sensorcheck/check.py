@@ -196,6 +196,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         result.findings.append(_internal_error_finding("reading", exc))
         return result
     board = design.board
+    result.board = board.name or result.board  # the engine fingerprints with the board's own name
     result.config_file = config.file
     if config.file is None:
         result.notes.append("No sensorcheck.toml found: defaults apply; rules that need a value report what is missing.")
