@@ -316,8 +316,7 @@ def shipped_profiles() -> list[str]:
     return sorted(p.stem for p in profiles_dir().glob("*.toml"))
 
 
-def load_profile(name_or_path: str, base_dir: Path | None = None) -> dict[str, tuple[str | None, dict[str, Any]]]:
-    """Read a rule profile: rule id -> (severity or None, params).  Raises ConfigError on any problem."""
+def _profile_file(name_or_path: str, base_dir: Path | None) -> Path:
     is_path = name_or_path.endswith(".toml") or "/" in name_or_path or "\\" in name_or_path
     if is_path:
         path = Path(name_or_path)
@@ -328,21 +327,40 @@ def load_profile(name_or_path: str, base_dir: Path | None = None) -> dict[str, t
     if not path.is_file():
         shipped = ", ".join(shipped_profiles()) or "none found"
         raise ConfigError(None, "profile", f"rule profile {name_or_path!r} not found at {path} (shipped: {shipped})")
+    return path
+
+
+def load_profile(name_or_path: str, base_dir: Path | None = None,
+                 _chain: tuple[Path, ...] = ()) -> dict[str, tuple[str | None, dict[str, Any]]]:
+    """Read a rule profile: rule id -> (severity or None, params).  Raises ConfigError on any problem.
+
+    A profile may start from another (``profile = "strict"`` or a path, relative to itself); its
+    own tables then override the parent's, parameter by parameter.
+    """
+    path = _profile_file(name_or_path, base_dir)
+    if path.resolve() in _chain:
+        raise ConfigError(str(path), "profile", "profiles extend each other in a circle")
     try:
         data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except tomllib.TOMLDecodeError as exc:
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
         raise ConfigError(str(path), None, f"not valid TOML: {exc}") from None
-    unknown = set(data) - {"rules", "description"}
+    unknown = set(data) - {"rules", "description", "profile"}
     if unknown:
-        raise ConfigError(str(path), sorted(unknown)[0], "unknown key in a rule profile (expected description, rules)")
+        raise ConfigError(str(path), sorted(unknown)[0], "unknown key in a rule profile (expected profile, description, rules)")
+    out: dict[str, tuple[str | None, dict[str, Any]]] = {}
+    if "profile" in data:
+        if not isinstance(data["profile"], str):
+            raise ConfigError(str(path), "profile", "expected a profile name or a path to a .toml file")
+        out = load_profile(data["profile"], path.parent, (*_chain, path.resolve()))
     rules = data.get("rules", {})
     if not isinstance(rules, dict):
         raise ConfigError(str(path), "rules", "expected a table of rule tables")
-    out: dict[str, tuple[str | None, dict[str, Any]]] = {}
     for rid, table in rules.items():
         if not isinstance(table, dict):
             raise ConfigError(str(path), f'rules."{rid}"', "expected a table")
-        out[rid] = validate_rule_table(rid, table, str(path), f'rules."{rid}"')
+        sev, params = validate_rule_table(rid, table, str(path), f'rules."{rid}"')
+        old_sev, old_params = out.get(rid, (None, {}))
+        out[rid] = (sev or old_sev, {**old_params, **params})
     return out
 
 

@@ -257,3 +257,46 @@ def test_every_rule_has_good_and_bad_cases_in_the_tests() -> None:
     text = "\n".join(p.read_text() for p in here.glob("test_*.py") if p.name != "test_engine.py")
     missing = [rid for rid, cls in registry().items() if not cls.engine_only and f'"{rid}"' not in text]
     assert missing == []
+
+
+def test_profile_can_extend_another(tmp_path) -> None:
+    mine = tmp_path / "mine.toml"
+    mine.write_text('profile = "strict"\n[rules."trace.width"]\nmax_width_mm = 0.3\nseverity = "error"\n')
+    prof = load_profile(str(mine))
+    assert prof["trace.width"] == ("error", {"max_width_mm": 0.3})  # own value over strict's 0.18
+    assert prof["trace.length"][1] == {"max_length_mm": 100.0}  # inherited from strict
+    loop = tmp_path / "loop.toml"
+    loop.write_text('profile = "loop.toml"\n')
+    with pytest.raises(ConfigError, match="circle"):
+        load_profile(str(loop))
+
+
+def test_with_the_config_loader(tmp_path) -> None:
+    # the real sensorcheck.toml path: the loader validates against known_rules() and merges the profile;
+    # the engine applies it again underneath (idempotent) and honours the waiver and its expiry
+    from sensorcheck.design.config import load_config
+
+    cfg_file = tmp_path / "sensorcheck.toml"
+    cfg_file.write_text(
+        'profile = "strict"\n'
+        '[[overlay.layers]]\nmaterial = "pmma"\nthickness_mm = 2.0\n'
+        '[rules."gap.tx-rx-vs-overlay"]\nseverity = "error"\n'
+        '[rules."trace.width"]\nmax_width_mm = 0.3\n'
+        '[[waivers]]\nrule = "gap.tx-rx-vs-overlay"\nsensor = "K1"\nreason = "measured on the prototype"\n'
+        "expires = 2020-01-01\n"
+    )
+    cfg = load_config(cfg_file, known_rules=known_rules())
+    design = mutual_node(0.4)
+    cfg.today = design.config.today
+    design.config = cfg
+    settings = engine.effective_settings(cfg)
+    assert settings["trace.width"][1]["max_width_mm"] == 0.3  # config over the strict profile's 0.18
+    assert settings["trace.length"][1]["max_length_mm"] == 100.0  # from the strict profile
+    run = run_rules(design)
+    gap = next(f for f in run.findings if f.rule_id == "gap.tx-rx-vs-overlay")
+    assert gap.severity == "error" and not gap.waived  # the waiver expired in 2020
+    assert any(f.rule_id == "waiver.expired" for f in run.findings)
+    with pytest.raises(ConfigError):
+        bad = tmp_path / "bad.toml"
+        bad.write_text('[rules."gap.tx-rx-vs-overlay"]\nratoi = 1.0\n')
+        load_config(bad, known_rules=known_rules())
