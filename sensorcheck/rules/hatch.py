@@ -76,6 +76,21 @@ def measure_hatch(copper_geom: BaseGeometry, window: BaseGeometry) -> HatchMeasu
     return HatchMeasure(fill, len(openings), g, w)
 
 
+def _sub_rings(own: BaseGeometry, other: BaseGeometry, ring_mm: float, clip: BaseGeometry) -> str:
+    """Fill in the rings 0-20 %, 20-50 % and 50-100 % of ``ring_mm`` out from the electrodes (0-2, 2-5, 5-10 mm)."""
+    edges = (0.0, 0.2 * ring_mm, 0.5 * ring_mm, ring_mm)
+    parts = []
+    inner = own
+    for a, b in zip(edges, edges[1:]):
+        outer = own.buffer(b)
+        window = outer.difference(inner).intersection(clip)
+        inner = outer
+        fill = 100 * other.intersection(window).area / window.area if window.area > 0 else 0.0
+        parts.append((a, b, fill))
+    spans = "/".join(f"{fmt(a, 0)}-{fmt(b, 0)}" for a, b, _ in parts)
+    return f"rings {spans} mm: " + "/".join(f"{fmt(f, 0)}" for _, _, f in parts) + " %"
+
+
 def _hatch_text(m: HatchMeasure) -> str:
     if m.opening_mm is None or m.line_mm is None:
         return "no hatch openings (solid or sparse copper)"
@@ -98,7 +113,8 @@ class FillNearSensor(Rule):
         For every sensor and every copper layer, the fill of non-sensing copper (ground hatch,
         pours) in the ring from the electrode outline out to ``ring_mm``, clipped to the board
         outline when known, with the hatch line width and opening inferred from the copper image
-        (not from CAD settings).  Self-capacitance sensors: a warning above
+        (not from CAD settings), and the fill in the rings 0-2, 2-5 and 5-10 mm (for the default
+        10 mm) reported beside it.  Self-capacitance sensors: a warning above
         ``max_fill_sensor_layer_percent`` on the sensor's layer or ``max_fill_other_layers_percent``
         elsewhere.  Mutual sensors: a note at the same limits (they tolerate more ground).
     Why it matters:
@@ -152,7 +168,8 @@ class FillNearSensor(Rule):
                 yield finding(
                     sev,
                     f"copper fill {fmt(pct, 1)} % within {fmt(params['ring_mm'], 1)} mm of the electrodes on {lay.name} "
-                    f"is above {fmt(limit, 1)} % ({_hatch_text(m)}; common practice)",
+                    f"is above {fmt(limit, 1)} % ({_hatch_text(m)}; {_sub_rings(own, other, params['ring_mm'], ring)}; "
+                    "common practice)",
                     value=pct, limit=limit, unit="%", layer=lay.name, geom=ring.intersection(other),
                     nets=(), sensor=s.name,
                 )

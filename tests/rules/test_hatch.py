@@ -70,6 +70,9 @@ def test_solid_pour_near_self_button_warns_with_hand_computed_fill() -> None:
     assert f.value == pytest.approx(expect, rel=0.005)  # buffer arcs are polygons: 0.5 %
     assert f.severity == "warning" and f.limit == 40.0 and f.location.layer == "top-copper"
     assert "no hatch openings" in f.message
+    # 0-2 mm ring: 48 x 2 + pi 2^2 mm2, of which the mitred 1 mm gap band (52 mm2) is empty
+    ring2 = 48 * 2 + math.pi * 4
+    assert f"rings 0-2/2-5/5-10 mm: {100 * (ring2 - GAP_MITRE) / ring2:.0f}/100/100 %" in f.message
 
 
 def test_light_hatch_near_self_button_passes_and_dense_warns() -> None:
@@ -82,6 +85,7 @@ def test_light_hatch_near_self_button_passes_and_dense_warns() -> None:
     expect = 100 * closed_form(0.5, 0.5) * (RING - GAP_MITRE) / RING
     assert f.value == pytest.approx(expect, rel=0.03)
     assert "hatch line 0.50 mm, opening 0.50 mm" in f.message
+    assert "rings 0-2/2-5/5-10 mm: " in f.message
 
 
 def test_mutual_sensor_gets_a_note_not_a_warning() -> None:
