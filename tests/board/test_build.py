@@ -117,3 +117,19 @@ def test_a_bad_file_keeps_the_others(tmp_path: Path) -> None:
     board = load_board(tmp_path)
     assert [f.path for f in board.errors()] == ["b-B_Cu.gbr"]
     assert [c.name for c in board.copper_layers()] == ["top-copper"]
+
+
+def test_gerber_drill_files_and_x3_component_layers(tmp_path: Path) -> None:
+    # Gerber spec 2023.08 section 5.6.3: drill data may be written in Gerber ("Plated,1,2,PTH"),
+    # each hole a flash of a round aperture; section 6.9: X3 component layers
+    (tmp_path / "b-F_Cu.gbr").write_bytes(gerber([flash(10, 10), flash(20, 10)], function="Copper,L1,Top"))
+    (tmp_path / "b-PTH-drill.gbr").write_bytes(gerber(["D10*", "X10000000Y10000000D03*", "X20000000Y10000000D03*"],
+                                                      function="Plated,1,2,PTH"))
+    (tmp_path / "b-Top-components.gbr").write_bytes(
+        b"%TF.FileFunction,Component,L1,Top*%\n%FSLAX46Y46*%\n%MOMM*%\n%TA.AperFunction,ComponentMain*%\n"
+        b"%ADD10C,0.300000*%\n%TD*%\n%TO.C,U1*%\n%TO.CRot,180*%\nD10*\nX15000000Y10000000D03*\n%TD*%\nM02*\n")
+    board = load_board(tmp_path)
+    assert not board.errors()
+    assert sorted((h.x_mm, h.y_mm, h.plated) for h in board.holes) == [(10.0, 10.0, True), (20.0, 10.0, True)]
+    assert all(h.diameter_mm == pytest.approx(1.0, abs=0.002) for h in board.holes)  # ADD10C,1.0 at 1 um chords
+    assert [(c.ref, c.x_mm, c.y_mm, c.rotation_deg, c.side) for c in board.components] == [("U1", 15.0, 10.0, 180.0, "top")]
