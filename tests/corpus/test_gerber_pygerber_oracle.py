@@ -36,8 +36,17 @@ from gerbonara.utils import Inch  # noqa: E402
 from sensorcheck.fab.gerber import read_gerber  # noqa: E402
 from sensorcheck.fab.gerber_parser import MacroAperture, StandardAperture, decode_gerber, parse_gerber_text  # noqa: E402
 
-logging.getLogger().setLevel(logging.ERROR)  # pygerber logs a warning per short coordinate format
 pytestmark = pytest.mark.filterwarnings("ignore")  # pygerber's own deprecation warnings
+
+
+@pytest.fixture(autouse=True)
+def _quiet_pygerber() -> Any:
+    """pygerber logs a warning on the root logger per short coordinate format; mute it here only."""
+    root = logging.getLogger()
+    level = root.level
+    root.setLevel(logging.ERROR)
+    yield
+    root.setLevel(level)
 
 SHARED = Path(__file__).resolve().parents[2].parent / "shared"
 SUITES = SHARED / "gerber-suites"
