@@ -503,7 +503,9 @@ def identify(
 ) -> Identification:
     """Identify one file from its name and the head of its content (evidence order above)."""
     content = sniff(head)
-    attrs = head_file_attributes(head) if content in ("gerber", "excellon") else {}
+    # a file that names itself Gerber/Excellon by X2 is read as such even when its bytes are garbage:
+    # the reader then says what is wrong, with the line (never "not understood" in silence)
+    attrs = head_file_attributes(head) if content not in ("gbrjob", "ipc356", "pnp", "gencad") else {}
     generator = generator_from_attributes(attrs)
 
     def with_kind(ident: Identification) -> Identification:

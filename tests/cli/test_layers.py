@@ -89,6 +89,7 @@ def test_layer_map_overrides_identification(tmp_path: Path, capsys: pytest.Captu
         ("demo-In1_Cu.gbr", b"%TF.FileFunction,Copper,L2,Inr*%\n\x00\x01\x02\xff\xfe binary", None, None),  # binary claiming Gerber
         ("demo-In2_Cu.gbr", b"%TF.FileFunction,Copper,L3,Inr*%\n%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,1*%\nD10*\nX0Y0D03*\n", None, None),  # no M02
         ("demo-In3_Cu.gbr", b"%FSLAX46Y46*%\n%MOMM*%\nD11*\nX0Y0D03*\nM02*\n", None, None),  # undefined aperture
+        ("mystery.dat", b"%TF.FileFunction,Copper,L3,Inr*%\n\x00\x01\x02 garbage", None, None),  # Gerber by X2 only
     ],
 )
 def test_bad_file_exits_2_naming_file_line_and_expectation(
