@@ -28,7 +28,10 @@ from sensorcheck.fab import gerber_geometry
 from sensorcheck.fab.gerber_parser import decode_gerber, parse_gerber_text
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
-__all__ = ["GerberRead", "read_gerber", "images_by_net"]
+__all__ = ["GerberRead", "read_gerber", "images_by_net", "MAX_SANE_EXTENT_MM"]
+
+#: an image wider than this is no circuit board: the unit or the coordinate format is wrong
+MAX_SANE_EXTENT_MM = 2000.0
 
 
 @dataclass(slots=True)
@@ -123,6 +126,11 @@ def read_gerber(
         raise InputError(name, None, f"cannot read this Gerber file ({type(exc).__name__}: {exc})",
                          "a Gerber X2 / RS-274X file") from exc
     bounds = None if dark.is_empty else tuple(float(v) for v in dark.bounds)
+    if bounds is not None and max(bounds[2] - bounds[0], bounds[3] - bounds[1]) > MAX_SANE_EXTENT_MM:
+        parsed.warnings.append(
+            f"{name}: the image is {max(bounds[2] - bounds[0], bounds[3] - bounds[1]):.0f} mm across, "
+            f"more than any board ({MAX_SANE_EXTENT_MM:.0f} mm): wrong unit or coordinate format?"
+        )
     if dark.is_empty and features:
         clear = sum(1 for f in features if f.polarity == "clear")
         parsed.warnings.append(

@@ -601,6 +601,34 @@ class SensorcheckGerberParser(GerberParser):
     def _parse_old_unit(self, match: re.Match[str]) -> None:
         self._set_unit(Inch if match["mode"] == "G70" else MM, match["mode"])
 
+    # Deprecated image-wide commands (spec 2023.08 section 8.1): gerbonara maps coordinates
+    # through IR/MI/SF but not the aperture shapes, and treats IPNEG as inverted object
+    # polarity (a negative image has a dark background). Anything but the neutral value
+    # would be misread, so it is refused.
+    def _parse_image_polarity(self, match: re.Match[str]) -> None:
+        if match["polarity"] != "POS":
+            raise self.error("negative image polarity (%IPNEG*%, deprecated) is not supported",
+                             "%IPPOS*% or no IP command")
+
+    def _parse_image_rotation(self, match: re.Match[str]) -> None:
+        if int(match["rotation"]) % 360 != 0:
+            raise self.error(f"image rotation %IR{match['rotation']}*% (deprecated) is not supported",
+                             "%IR0*% or no IR command")
+
+    def _parse_mirror_image(self, match: re.Match[str]) -> None:
+        if (match["ma"] or "0") != "0" or (match["mb"] or "0") != "0":
+            raise self.error("image mirroring (%MI...*%, deprecated) is not supported", "%MIA0B0*% or no MI command")
+
+    def _parse_scale_factor(self, match: re.Match[str]) -> None:
+        a = float(match["sa"]) if match["sa"] else 1.0
+        b = float(match["sb"]) if match["sb"] else 1.0
+        if a != 1.0 or b != 1.0:
+            raise self.error("image scaling (%SF...*%, deprecated) is not supported", "%SFA1B1*% or no SF command")
+
+    def _parse_axis_selection(self, match: re.Match[str]) -> None:
+        if match["axes"] != "AXBY":
+            raise self.error("axis swap (%ASAYBX*%, deprecated) is not supported", "%ASAXBY*% or no AS command")
+
     def _parse_include_file(self, match: re.Match[str]) -> None:
         raise self.error("include files (IF) are not read", "a self-contained Gerber file")
 

@@ -221,3 +221,23 @@ def test_generator_from_file_attribute_or_comment() -> None:
     assert got.generator == "KiCad Pcbnew 8.0.2"
     got = read_gerber(gbr("G04 Created by KiCad (PCBNEW 4.0.7) date 2018*\n"), "g.gbr")
     assert got.generator == "KiCad (PCBNEW 4.0.7)"
+
+
+@pytest.mark.parametrize("cmd", ["%IPNEG*%", "%IR90*%", "%MIA1B0*%", "%SFA2B1*%", "%ASAYBX*%"])
+def test_deprecated_image_transformations_are_refused(cmd: str) -> None:
+    # spec section 8.1 (deprecated commands): these change the whole image; gerbonara would apply
+    # them to coordinates only (or flip object polarity for IPNEG), a silent misread.
+    e = refused(gbr(f"{cmd}\n%ADD10R,1X2*%\nD10*\nX0Y0D03*\n"))
+    assert e.line == 3
+
+
+def test_neutral_deprecated_commands_are_accepted() -> None:
+    got = read_gerber(gbr("%IPPOS*%\n%OFA0B0*%\n%IR0*%\n%ADD10C,1*%\nD10*\nX0Y0D03*\n"), "n.gbr")
+    assert got.object_count == 1
+
+
+def test_extent_far_beyond_a_board_is_flagged() -> None:
+    # an inch file read as mm, or a wrong coordinate format, puts copper metres apart
+    got = read_gerber(gbr(f"%ADD10C,1*%\nD10*\nX0Y0D03*\nX{mm(5000)}Y0D03*\n"), "w.gbr")
+    assert any("wrong unit" in w for w in got.warnings)
+    assert not any("wrong unit" in w for w in read_gerber(gbr("%ADD10C,1*%\nD10*\nX0Y0D03*\n"), "ok.gbr").warnings)
