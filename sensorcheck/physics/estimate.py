@@ -27,3 +27,8 @@ class SensorEstimate:
     notes: list[str] = field(default_factory=list)  # what was simplified (hatch as sheet, window size...)
     #: for estimates with several channels (slider segments): channel net -> (baseline_pf, delta_pf)
     channels: dict[str, tuple[float, float]] = field(default_factory=dict)
+    #: proximity electrodes: largest height (mm) at which a hand-sized target still changes the
+    #: self capacitance by the signal floor; None when not computed
+    detection_range_mm: float | None = None
+    #: the coarse search for the most sensitive point: (x_mm, y_mm, delta_pf at touch)
+    search: list[tuple[float, float, float]] = field(default_factory=list)

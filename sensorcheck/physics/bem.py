@@ -1,0 +1,448 @@
+"""Boundary-element (method of moments) electrostatics: panels, integrals, capacitance matrices.
+
+Method
+------
+Piecewise-constant surface charge density on flat panels (triangles and quadrilaterals),
+point collocation at the panel centroids.  The potential at a point of a panel's uniform unit
+charge density is the integral of ``G(r, r')`` over the panel, where ``G`` is the layered-media
+Green's function of :mod:`sensorcheck.physics.greens` (a sum of real images).
+
+* Near terms (the panel itself and neighbours closer than ``NEAR_ETA`` panel sizes, for every
+  image that comes that close): the exact integral of ``1/R`` over a flat polygon, summed edge by
+  edge (D. R. Wilton et al., IEEE Trans. Antennas Propag. 32 (1984) 276; the form with the
+  signed edge distances of R. D. Graglia, IEEE TAP 41 (1993) 1448).  It holds on the panel
+  itself (the self term) and off it.
+* Far terms: the centroid value plus the second-moment correction
+  ``(m2/4) (R^2 - 3 (R.n)^2) / R^5`` (Taylor expansion of 1/R over the panel, with ``m2`` the
+  mean squared distance of the panel from its centroid): fourth-order accurate in size/distance.
+* Between two flat planes of copper (the board), the images far from both planes are summed
+  once into a radial function ``g(rho)`` tabulated on a fine grid, so a board of N panels costs
+  O(N^2) interpolations rather than O(N^2 x images).  Between the finger and a copper plane the
+  same is done in two dimensions (rho, z of the finger point).
+
+The capacitance (Maxwell) matrix ``C[k, l]`` is the charge on conductor k with conductor l at
+1 V and all others at 0 V (SI, farads); :class:`BoardSystem` factorises the board block once and
+adds a floating body (the finger) by a Schur complement, so each finger position only costs the
+finger's rows and columns.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.linalg as sla
+from scipy.interpolate import RectBivariateSpline
+
+from sensorcheck.physics.greens import Images, LayeredMedium
+
+MAX_CORNERS = 6  # panels are convex polygons of 3 to 6 corners
+NEAR_ETA = 2.0  # exact integration closer than this many panel sizes (from the panel centroid)
+
+
+# --------------------------------------------------------------------------------------------
+# panels
+
+
+@dataclass(slots=True)
+class Panels:
+    """Flat convex panels, (n, 6, 3) corners in metres (fewer corners: the last one repeated)."""
+
+    verts: np.ndarray
+    conductor: np.ndarray  # (n,) int conductor index
+    centroid: np.ndarray = field(init=False)
+    normal: np.ndarray = field(init=False)
+    area: np.ndarray = field(init=False)
+    size: np.ndarray = field(init=False)
+    m2: np.ndarray = field(init=False)
+
+    def __post_init__(self) -> None:
+        v = np.asarray(self.verts, dtype=float)
+        if v.ndim != 3 or v.shape[2] != 3 or v.shape[1] < 3 or v.shape[1] > MAX_CORNERS:
+            raise ValueError("panels must be (n, 3..6, 3) corner arrays")
+        if v.shape[1] < MAX_CORNERS:
+            v = np.concatenate([v, np.repeat(v[:, -1:], MAX_CORNERS - v.shape[1], axis=1)], axis=1)
+        self.verts = v
+        self.conductor = np.asarray(self.conductor, dtype=int).reshape(-1)
+        nxt = np.roll(v, -1, axis=1)
+        nrm = np.cross(v, nxt).sum(axis=1)  # Newell's method: twice the vector area
+        nlen = np.linalg.norm(nrm, axis=1)
+        if np.any(nlen <= 0):
+            raise ValueError("degenerate panel (zero area)")
+        self.normal = nrm / nlen[:, None]
+        # fan triangles (v0, vk, vk+1)
+        a = v[:, 0][:, None, :]
+        b, c = v[:, 1:-1], v[:, 2:]
+        ta = 0.5 * np.einsum("ijk,ik->ij", np.cross(b - a, c - a), self.normal)  # signed areas
+        area = ta.sum(axis=1)
+        tc = (a + b + c) / 3.0
+        cen = np.einsum("ij,ijk->ik", ta, tc) / area[:, None]
+        self.area = area
+        self.centroid = cen
+        m = cen[:, None, :]
+        mids = ((a + b) / 2 - m, (b + c) / 2 - m, (c + a) / 2 - m)
+        tri_m2 = sum(np.sum(x * x, axis=2) for x in mids) / 3.0  # midpoint rule: exact for quadratics
+        self.m2 = np.einsum("ij,ij->i", ta, tri_m2) / area
+        self.size = 2.0 * np.max(np.linalg.norm(v - cen[:, None, :], axis=2), axis=1)
+
+    def __len__(self) -> int:
+        return int(self.area.size)
+
+    def subset(self, idx: np.ndarray) -> "Panels":
+        return Panels(self.verts[idx], self.conductor[idx])
+
+    @staticmethod
+    def concat(parts: list["Panels"]) -> "Panels":
+        return Panels(np.concatenate([p.verts for p in parts]), np.concatenate([p.conductor for p in parts]))
+
+
+# --------------------------------------------------------------------------------------------
+# integrals
+
+
+def polygon_integral(obs: np.ndarray, verts: np.ndarray) -> np.ndarray:
+    """Exact ``int 1/|r - r'| dA'`` over flat polygons ``verts`` (m, k, 3) seen from ``obs`` (m, 3)."""
+    v = verts
+    nxt = np.roll(v, -1, axis=1)
+    nrm = np.cross(v, nxt).sum(axis=1)
+    nrm /= np.linalg.norm(nrm, axis=1)[:, None]
+    d = np.einsum("ij,ij->i", obs - v[:, 0], nrm)
+    proj = obs - d[:, None] * nrm
+    edge = nxt - v
+    elen = np.linalg.norm(edge, axis=2)
+    scale = np.max(elen, axis=1, keepdims=True)
+    valid = elen > 1e-12 * scale
+    lhat = edge / np.where(valid, elen, 1.0)[:, :, None]
+    uhat = np.cross(lhat, nrm[:, None, :])
+    rel = v - proj[:, None, :]
+    relp = nxt - proj[:, None, :]
+    lm = np.einsum("ijk,ijk->ij", rel, lhat)
+    lp = np.einsum("ijk,ijk->ij", relp, lhat)
+    p0 = np.einsum("ijk,ijk->ij", rel, uhat)
+    ad = np.abs(d)[:, None]
+    r0sq = p0 * p0 + ad * ad
+    rm = np.sqrt(lm * lm + r0sq)
+    rp = np.sqrt(lp * lp + r0sq)
+    tiny = (1e-14 * scale) ** 2
+    ok = valid & (r0sq > tiny)
+    fp = np.where(lp >= 0, rp + lp, r0sq / np.maximum(rp - lp, 1e-300))
+    fm = np.where(lm >= 0, rm + lm, r0sq / np.maximum(rm - lm, 1e-300))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ln = np.where(ok, np.log(np.where(ok, fp, 1.0) / np.where(ok, fm, 1.0)), 0.0)
+    at = np.arctan2(p0 * lp, r0sq + ad * rp) - np.arctan2(p0 * lm, r0sq + ad * rm)
+    terms = np.where(valid, p0 * ln - ad * at, 0.0)
+    return terms.sum(axis=1)
+
+
+def _far(rx: np.ndarray, ry: np.ndarray, rz: np.ndarray, nz_dot: np.ndarray, m2: np.ndarray) -> np.ndarray:
+    """1/R plus the panel second-moment correction; ``nz_dot`` = R.n (projection on the panel normal)."""
+    r2 = rx * rx + ry * ry + rz * rz
+    inv = 1.0 / np.sqrt(r2)
+    inv2 = inv * inv
+    return inv + (m2 / 4.0) * (1.0 - 3.0 * nz_dot * nz_dot * inv2) * inv2 * inv
+
+
+def _image_verts(verts: np.ndarray, s: float, t: float) -> np.ndarray:
+    out = verts.copy()
+    out[..., 2] = s * verts[..., 2] + t
+    return out
+
+
+def general_block(obs: np.ndarray, src: Panels, images: Images, *, exact_all: bool = True) -> np.ndarray:
+    """P[i, j] = sum_n A_n int_{panel j, image n} 1/R, for arbitrary panels (loops over images)."""
+    m, n = len(obs), len(src)
+    out = np.zeros((m, n))
+    ox, oy, oz = (obs[:, k][:, None] for k in range(3))
+    size2 = (NEAR_ETA * src.size) ** 2
+    for amp, s, t in zip(images.amplitude, images.s, images.t):
+        cz = s * src.centroid[:, 2] + t
+        rx = ox - src.centroid[None, :, 0]
+        ry = oy - src.centroid[None, :, 1]
+        rz = oz - cz[None, :]
+        r2 = rx * rx + ry * ry + rz * rz
+        near = r2 < size2[None, :]
+        nx, ny, nzz = src.normal[:, 0], src.normal[:, 1], s * src.normal[:, 2]
+        rn = rx * nx[None, :] + ry * ny[None, :] + rz * nzz[None, :]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            val = src.area[None, :] * _far(rx, ry, rz, rn, src.m2[None, :])
+        val[near] = 0.0
+        ii, jj = np.nonzero(near)
+        if ii.size:
+            val[ii, jj] = polygon_integral(obs[ii], _image_verts(src.verts[jj], s, t))
+        out += amp * val
+    return out
+
+
+BODY_IMAGE_TOL = 1e-4  # images of a body on itself below this fraction of the direct term are dropped
+
+
+def pruned(images: Images, rel_tol: float) -> Images:
+    """The images whose amplitude is at least ``rel_tol`` of the largest."""
+    keep = np.abs(images.amplitude) >= rel_tol * np.max(np.abs(images.amplitude))
+    return Images(images.amplitude[keep], images.s[keep], images.t[keep])
+
+
+def _merge_plane_images(images: Images, z_src: float) -> tuple[np.ndarray, np.ndarray]:
+    """Images of a source plane: (amplitude, z_img) with equal z_img merged."""
+    zi = images.s * z_src + images.t
+    key = np.round(zi / 1e-12).astype(np.int64)
+    uniq, inv = np.unique(key, return_inverse=True)
+    amp = np.zeros(uniq.size)
+    np.add.at(amp, inv, images.amplitude)
+    zimg = np.zeros(uniq.size)
+    np.add.at(zimg, inv, zi)
+    cnt = np.bincount(inv)
+    return amp, zimg / cnt
+
+
+def _radial_table(amp: np.ndarray, dz: np.ndarray, rho_max: float, n: int = 20000) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    """Tabulate g(rho) = sum A/R and l(rho) = sum A (rho^2 - 2 dz^2)/R^5 on u = log(rho^2 + d0^2)."""
+    d0 = float(np.min(np.abs(dz)))
+    u = np.linspace(np.log(d0 * d0), np.log(rho_max * rho_max * 1.01 + d0 * d0), n)
+    rho2 = np.exp(u) - d0 * d0
+    rho2 = np.maximum(rho2, 0.0)
+    r2 = rho2[:, None] + dz[None, :] ** 2
+    inv = 1.0 / np.sqrt(r2)
+    g = inv @ amp
+    lap = ((rho2[:, None] - 2.0 * dz[None, :] ** 2) * inv**5) @ amp
+    return u, g, lap, d0
+
+
+def _lerp2(x: np.ndarray, grid: np.ndarray, f1: np.ndarray, f2: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Linear interpolation of two tables on the same uniform grid (faster than np.interp)."""
+    step = (grid[-1] - grid[0]) / (grid.size - 1)
+    t = x - grid[0]
+    t /= step
+    np.clip(t, 0.0, grid.size - 1.000001, out=t)
+    i = t.astype(np.intp)
+    t -= i
+    a1 = f1[i]
+    a1 += t * (f1[i + 1] - a1)
+    a2 = f2[i]
+    a2 += t * (f2[i + 1] - a2)
+    return a1, a2
+
+
+def plane_block(obs: np.ndarray, z_obs: float, src: Panels, z_src: float, images: Images) -> np.ndarray:
+    """P block between two horizontal planes of panels (obs points all at z_obs, src at z_src)."""
+    amp, zimg = _merge_plane_images(images, z_src)
+    dz = z_obs - zimg
+    size_ref = float(np.median(src.size))
+    close = np.abs(dz) < 1.0 * size_ref
+    close[np.argmin(np.abs(dz))] = True
+    rx = obs[:, 0][:, None] - src.centroid[None, :, 0]
+    ry = obs[:, 1][:, None] - src.centroid[None, :, 1]
+    rho2 = rx * rx + ry * ry
+    del rx, ry
+    out = np.zeros((len(obs), len(src)))
+    size2 = (NEAR_ETA * src.size) ** 2
+    # panels on a horizontal plane: R.n = dz
+    for a, dzk, zk in zip(amp[close], dz[close], zimg[close]):
+        r2 = rho2 + dzk * dzk
+        near = r2 < size2[None, :]
+        r2[near] = 1.0
+        inv = np.sqrt(r2)
+        np.divide(1.0, inv, out=inv)
+        del r2
+        # area * (1/R + m2/4 (rho^2 - 2 dz^2)/R^5)
+        val = (rho2 - 2.0 * dzk * dzk) * inv
+        val *= inv
+        val *= inv
+        val *= inv
+        val *= src.m2[None, :] / 4.0
+        val += 1.0
+        val *= inv
+        val *= src.area[None, :]
+        val[near] = 0.0
+        ii, jj = np.nonzero(near)
+        if ii.size:
+            vv = src.verts[jj].copy()
+            vv[..., 2] = zk
+            val[ii, jj] = polygon_integral(obs[ii], vv)
+        out += a * val
+    if np.any(~close):
+        rho_max = float(np.sqrt(rho2.max())) + 1e-12
+        u, g, lap, d0 = _radial_table(amp[~close], dz[~close], rho_max)
+        uq = rho2 + d0 * d0
+        np.log(uq, out=uq)
+        gi, li = _lerp2(uq, u, g, lap)
+        li *= src.m2[None, :] / 4.0
+        li += gi
+        li *= src.area[None, :]
+        out += li
+    return out
+
+
+def plane_groups(panels: Panels, tol: float = 1e-12) -> tuple[dict[float, np.ndarray], np.ndarray]:
+    """Horizontal panels grouped by z (z -> indices), and the indices of the other panels."""
+    horiz = np.abs(np.abs(panels.normal[:, 2]) - 1.0) < 1e-9
+    zs = panels.centroid[:, 2]
+    groups: dict[float, np.ndarray] = {}
+    if np.any(horiz):
+        zh = zs[horiz]
+        key = np.round(zh / max(tol, 1e-15)).astype(np.int64)
+        idx_h = np.nonzero(horiz)[0]
+        for k in np.unique(key):
+            sel = idx_h[key == k]
+            groups[float(np.mean(zs[sel]))] = sel
+    return groups, np.nonzero(~horiz)[0]
+
+
+def assemble(panels: Panels, medium: LayeredMedium) -> np.ndarray:
+    """The full collocation matrix P (V per C/m^2) for any set of panels."""
+    n = len(panels)
+    p = np.zeros((n, n))
+    groups, other = plane_groups(panels)
+    layer = medium.layer_of(panels.centroid[:, 2])
+    for zo, io in groups.items():
+        lo = int(layer[io[0]])
+        for zs_, js in groups.items():
+            ls = int(layer[js[0]])
+            p[np.ix_(io, js)] = plane_block(panels.centroid[io], zo, panels.subset(js), zs_, medium.images(ls, lo))
+    # everything that involves a non-horizontal panel: general blocks by layer pair
+    if other.size:
+        allidx = np.arange(n)
+        for ls in np.unique(layer[other]):
+            js = other[layer[other] == ls]
+            for lo in np.unique(layer):
+                io = allidx[layer == lo]
+                p[np.ix_(io, js)] = general_block(panels.centroid[io], panels.subset(js), medium.images(int(ls), int(lo)))
+        for zs_, js in groups.items():
+            ls = int(layer[js[0]])
+            for lo in np.unique(layer[other]):
+                io = other[layer[other] == lo]
+                p[np.ix_(io, js)] = general_block(panels.centroid[io], panels.subset(js), medium.images(ls, int(lo)))
+    return p
+
+
+def incidence(panels: Panels, n_conductors: int) -> np.ndarray:
+    s = np.zeros((len(panels), n_conductors))
+    s[np.arange(len(panels)), panels.conductor] = 1.0
+    return s
+
+
+def capacitance_matrix(panels: Panels, medium: LayeredMedium, n_conductors: int | None = None) -> np.ndarray:
+    """Maxwell capacitance matrix (F) of the conductors numbered in ``panels.conductor``."""
+    k = int(panels.conductor.max()) + 1 if n_conductors is None else n_conductors
+    p = assemble(panels, medium)
+    s = incidence(panels, k)
+    sigma = sla.lu_solve(sla.lu_factor(p, overwrite_a=True, check_finite=False), s, check_finite=False)
+    return (s * panels.area[:, None]).T @ sigma
+
+
+# --------------------------------------------------------------------------------------------
+# the board block, factorised once, and a floating body added by a Schur complement
+
+
+@dataclass(slots=True)
+class BoardSystem:
+    """Board conductors (horizontal copper planes only) with the factorised collocation matrix."""
+
+    panels: Panels
+    medium: LayeredMedium
+    n_conductors: int
+    lu: tuple[np.ndarray, np.ndarray] = field(init=False, repr=False)
+    x: np.ndarray = field(init=False, repr=False)  # A^-1 S
+    c0: np.ndarray = field(init=False)  # Maxwell matrix without the body (F)
+    groups: dict[float, np.ndarray] = field(init=False, repr=False)
+    _tables: dict[tuple[float, float, float], RectBivariateSpline] = field(default_factory=dict, init=False, repr=False)
+
+    def __post_init__(self) -> None:
+        groups, other = plane_groups(self.panels)
+        if other.size:
+            raise ValueError("board conductors must be horizontal copper")
+        self.groups = groups
+        a = assemble(self.panels, self.medium)
+        self.lu = sla.lu_factor(a, overwrite_a=True, check_finite=False)
+        s = incidence(self.panels, self.n_conductors)
+        self.x = sla.lu_solve(self.lu, s, check_finite=False)
+        self.c0 = (s * self.panels.area[:, None]).T @ self.x
+
+    # ---- coupling between the board and a body in one layer above the board (the finger)
+    def _coupling_table(self, z_plane: float, z_lo: float, z_hi: float, rho_max: float, obs_layer: int) -> tuple[RectBivariateSpline, RectBivariateSpline, float, float]:
+        key = (z_plane, round(z_lo, 12), round(z_hi, 12), round(rho_max, 9), obs_layer)
+        if key in self._tables:
+            return self._tables[key]  # type: ignore[return-value]
+        ls = int(self.medium.layer_of(z_plane)[0])
+        amp, zimg = _merge_plane_images(self.medium.images(ls, obs_layer), z_plane)
+        d0 = float(z_lo - zimg.max())
+        if d0 <= 0:
+            raise ValueError("the body must stay above every image of the board")
+        u = np.linspace(np.log(d0 * d0), np.log(rho_max**2 * 1.01 + d0 * d0), 160)
+        v = np.linspace(np.log(d0), np.log(z_hi - z_lo + d0) + 1e-9, 120)
+        rho2 = np.maximum(np.exp(u) - d0 * d0, 0.0)
+        zz = z_lo + np.exp(v) - d0
+        dz = zz[None, :, None] - zimg[None, None, :]
+        r2 = rho2[:, None, None] + dz * dz
+        inv = 1.0 / np.sqrt(r2)
+        rref = np.sqrt(rho2[:, None] + (zz[None, :] - zimg.max()) ** 2)
+        g = (inv @ amp) * rref
+        lap = (((rho2[:, None, None] - 2.0 * dz * dz) * inv**5) @ amp) * rref**3
+        tg = RectBivariateSpline(u, v, g, kx=3, ky=3)
+        tl = RectBivariateSpline(u, v, lap, kx=3, ky=3)
+        out = (tg, tl, d0, float(zimg.max()))
+        self._tables[key] = out  # type: ignore[assignment]
+        return out
+
+    def body_coupling(self, obs: np.ndarray, body: Panels, z_range: tuple[float, float]) -> tuple[np.ndarray, np.ndarray]:
+        """(P_bf, P_fb): potentials on the board from body panels, and on the body from board panels."""
+        nb, nf = len(self.panels), len(obs)
+        p_bf = np.zeros((nb, nf))
+        p_fb = np.zeros((nf, nb))
+        obs_layer = int(self.medium.layer_of(obs[:, 2].min())[0])
+        if np.any(self.medium.layer_of(obs[:, 2]) != obs_layer):
+            raise ValueError("the body must lie within one layer")
+        horiz = (np.abs(np.abs(body.normal[:, 2]) - 1.0) < 1e-9).astype(float)
+        zkey = np.round(obs[:, 2] / 1e-9).astype(np.int64)
+        zvals, zinv = np.unique(zkey, return_inverse=True)
+        for zp, idx in self.groups.items():
+            c = self.panels.centroid[idx]
+            rho2 = (obs[:, 0][:, None] - c[None, :, 0]) ** 2 + (obs[:, 1][:, None] - c[None, :, 1]) ** 2
+            rho_max = float(np.sqrt(rho2.max())) + 1e-9
+            tg, tl, d0, ztop = self._coupling_table(zp, z_range[0], z_range[1], rho_max, obs_layer)
+            # the spline evaluated once per distinct body height on a fine u grid, then linear in u
+            u_lo, u_hi = np.log(d0 * d0), np.log(rho_max**2 * 1.01 + d0 * d0)
+            ufine = np.linspace(u_lo, u_hi, 4000)
+            g = np.empty(rho2.shape)
+            lap = np.empty(rho2.shape)
+            for q in range(zvals.size):
+                rows = np.nonzero(zinv == q)[0]
+                z = obs[rows[0], 2]
+                vz = np.full(ufine.shape, np.log(z - z_range[0] + d0))
+                gt = tg.ev(ufine, vz)
+                lt = tl.ev(ufine, vz)
+                r2 = rho2[rows]
+                uq = np.log(r2 + d0 * d0)
+                gi, li = _lerp2(uq, ufine, gt, lt)
+                rref = np.sqrt(r2 + (z - ztop) ** 2)
+                g[rows] = gi / rref
+                lap[rows] = li / rref**3
+            a_b = self.panels.area[idx]
+            m_b = self.panels.m2[idx]
+            p_fb[:, idx] = a_b[None, :] * (g + (m_b[None, :] / 4.0) * lap)
+            p_bf[idx, :] = (body.area[:, None] * (g + (body.m2 * horiz)[:, None] / 4.0 * lap)).T
+        return p_bf, p_fb
+
+    def with_body(self, body: Panels, z_range: tuple[float, float]) -> np.ndarray:
+        """Maxwell matrix (F) of the board conductors plus one floating body (last row/column)."""
+        obs = body.centroid
+        obs_layer = int(self.medium.layer_of(obs[:, 2].min())[0])
+        d = general_block(obs, body, pruned(self.medium.images(obs_layer, obs_layer), BODY_IMAGE_TOL))
+        b, cc = self.body_coupling(obs, body, z_range)
+        w = sla.lu_solve(self.lu, b, check_finite=False)  # A^-1 B
+        sch = d - cc @ w
+        lu_s = sla.lu_factor(sch, check_finite=False)
+        s_b = incidence(self.panels, self.n_conductors)
+        sbw = s_b * self.panels.area[:, None]
+        left = sbw.T @ w  # K x Nf
+        right = cc @ self.x  # Nf x K
+        ones = np.ones(len(body))
+        sinv_right = sla.lu_solve(lu_s, right, check_finite=False)
+        sinv_one = sla.lu_solve(lu_s, ones, check_finite=False)
+        k = self.n_conductors
+        c = np.zeros((k + 1, k + 1))
+        c[:k, :k] = self.c0 + left @ sinv_right
+        c[:k, k] = -left @ sinv_one
+        c[k, :k] = -body.area @ sinv_right
+        c[k, k] = body.area @ sinv_one
+        return c

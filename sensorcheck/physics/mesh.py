@@ -1,0 +1,264 @@
+"""Surface meshes for the boundary-element solver: flat conductors and a few closed bodies.
+
+A small graded mesher of our own on shapely/numpy (no external mesher):
+
+* flat copper (any shapely polygon, holes allowed) is covered by a quadtree of square cells,
+  refined where a cell is close to the polygon's boundary: the surface charge density of a thin
+  conductor grows like ``d^-1/2`` toward its edges, so panels shrink toward the edges
+  (``h_min`` at the edge, growing by ``grading`` per unit distance up to ``h_max``).  Cells
+  wholly inside stay squares; cells cut by the boundary become the exact intersection,
+  kept as one panel when it is a convex polygon of at most four corners, otherwise split by a
+  constrained Delaunay triangulation (shapely).
+* closed bodies: a flat-ended cylinder (the finger), a sphere (geodesic, from an icosahedron)
+  and a box (each face meshed as a flat polygon, graded toward its edges).
+
+Panels are returned as arrays of shape (n, 6, 3) in metres; fewer corners repeat the last one.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+from shapely.geometry import Polygon, box
+from shapely.geometry.base import BaseGeometry
+
+
+@dataclass(frozen=True, slots=True)
+class MeshSpec:
+    """Panel sizes for a flat conductor (metres)."""
+
+    h_min: float  # panel size at the edges
+    h_max: float  # panel size far inside
+    grading: float = 0.35  # growth of the panel size per unit distance from the edge
+
+    def __post_init__(self) -> None:
+        if not (self.h_min > 0 and self.h_max >= self.h_min and self.grading > 0):
+            raise ValueError("mesh sizes must be positive with h_max >= h_min")
+
+    def refined(self, factor: float) -> "MeshSpec":
+        return MeshSpec(self.h_min / factor, self.h_max / factor, self.grading)
+
+
+def _quad_or_tris(piece: Polygon) -> list[np.ndarray]:
+    """One convex panel of <= 6 corners, or triangles."""
+    if piece.is_empty or piece.area <= 0:
+        return []
+    piece = shapely.orient_polygons(piece) if hasattr(shapely, "orient_polygons") else shapely.geometry.polygon.orient(piece)
+    coords = np.asarray(piece.exterior.coords)[:-1]
+    if not piece.interiors and 3 <= len(coords) <= 6:
+        if len(coords) == 3:
+            return [coords]
+        hull = piece.convex_hull
+        if abs(hull.area - piece.area) <= 1e-12 * max(piece.area, 1e-300) + 1e-15 * hull.area:
+            return [coords]
+    tris = shapely.constrained_delaunay_triangles(piece)
+    out = []
+    for t in shapely.get_parts(tris):
+        c = np.asarray(t.exterior.coords)[:-1]
+        if len(c) == 3 and t.area > 0:
+            out.append(c)
+    return out
+
+
+def _tri_area(c: np.ndarray) -> float:
+    x, y = c[:, 0], c[:, 1]
+    return 0.5 * abs(float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1))))
+
+
+def mesh_polygon(geom: BaseGeometry, spec: MeshSpec, h_max_at: Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]] | None = None) -> list[np.ndarray]:
+    """Graded panels (2-D corner arrays) covering a polygon or multipolygon, in its own units.
+
+    ``h_max_at(x, y) -> (h_edge, h_max)``: optional local panel sizes (finer near a sensor).
+    """
+    if geom.is_empty or geom.area <= 0:
+        return []
+    if not geom.is_valid:
+        raise ValueError(f"invalid polygon: {shapely.is_valid_reason(geom)}")
+    boundary = geom.boundary
+    shapely.prepare(geom)
+    shapely.prepare(boundary)
+    x0, y0, x1, y1 = geom.bounds
+    n_x = max(1, int(np.ceil((x1 - x0) / spec.h_max)))
+    n_y = max(1, int(np.ceil((y1 - y0) / spec.h_max)))
+    s0 = max((x1 - x0) / n_x, (y1 - y0) / n_y)
+    gx, gy = np.meshgrid(x0 + (np.arange(n_x) + 0.5) * s0, y0 + (np.arange(n_y) + 0.5) * s0)
+    cx, cy = gx.ravel(), gy.ravel()
+    s = np.full(cx.shape, s0)
+    leaves_x: list[np.ndarray] = []
+    leaves_y: list[np.ndarray] = []
+    leaves_s: list[np.ndarray] = []
+    leaves_d: list[np.ndarray] = []
+    for _ in range(60):
+        if cx.size == 0:
+            break
+        pts = shapely.points(cx, cy)
+        d = shapely.distance(pts, boundary)
+        half_diag = 0.7072 * s
+        inside = shapely.contains(geom, pts)
+        keep = (d <= half_diag) | inside
+        cx, cy, s, d = cx[keep], cy[keep], s[keep], d[keep]
+        if h_max_at is None:
+            target = np.minimum(spec.h_max, spec.h_min + spec.grading * np.maximum(d - 0.7072 * s, 0.0))
+        else:
+            local_min, local_max = h_max_at(cx, cy)
+            local_min = np.maximum(local_min, spec.h_min)
+            target = np.minimum(np.minimum(spec.h_max, local_max), local_min + spec.grading * np.maximum(d - 0.7072 * s, 0.0))
+            target = np.maximum(target, local_min)
+        split = s > target * 1.0001
+        split &= s > spec.h_min * 1.5 if h_max_at is None else s > local_min * 1.5
+        leaves_x.append(cx[~split])
+        leaves_y.append(cy[~split])
+        leaves_s.append(s[~split])
+        leaves_d.append(d[~split])
+        q = s[split] / 4.0
+        bx, by = cx[split], cy[split]
+        cx = np.concatenate([bx - q, bx + q, bx - q, bx + q])
+        cy = np.concatenate([by - q, by - q, by + q, by + q])
+        s = np.concatenate([s[split] / 2.0] * 4)
+    lx, ly, ls, ld = (np.concatenate(a) for a in (leaves_x, leaves_y, leaves_s, leaves_d))
+    whole = ld > 0.7072 * ls  # inside and not touching the boundary
+    panels: list[np.ndarray] = []
+    hx, hy, hs = lx[whole], ly[whole], ls[whole] / 2.0
+    sq = np.stack(
+        [np.stack([hx - hs, hy - hs], 1), np.stack([hx + hs, hy - hs], 1), np.stack([hx + hs, hy + hs], 1), np.stack([hx - hs, hy + hs], 1)],
+        axis=1,
+    )
+    panels.extend(list(sq))
+    cut = ~whole
+    if np.any(cut):
+        hs = ls[cut] / 2.0
+        boxes = shapely.box(lx[cut] - hs, ly[cut] - hs, lx[cut] + hs, ly[cut] + hs)
+        pieces = shapely.intersection(boxes, geom)
+        for cell, piece, h in zip(boxes, pieces, hs):
+            if piece.is_empty:
+                continue
+            if shapely.equals(piece, cell):
+                c = np.asarray(cell.exterior.coords)[:-1]
+                panels.append(c[::-1] if shapely.is_ccw(cell.exterior) is False else c)
+                continue
+            for part in shapely.get_parts(piece):
+                if isinstance(part, Polygon) and part.area > 1e-4 * (2 * h) ** 2:
+                    part = part.simplify(2e-3 * h, preserve_topology=True)
+                    panels.extend(t for t in _quad_or_tris(part) if _tri_area(t) > 1e-4 * (2 * h) ** 2)
+    return panels
+
+
+def panels_from_2d(panels_2d: list[np.ndarray], origin: np.ndarray, e1: np.ndarray, e2: np.ndarray) -> np.ndarray:
+    """Map 2-D panels into 3-D through a plane ``origin + u e1 + v e2``; returns (n, 6, 3)."""
+    out = np.empty((len(panels_2d), 6, 3))
+    for i, p in enumerate(panels_2d):
+        q = p if len(p) == 6 else np.vstack([p] + [p[-1:]] * (6 - len(p)))
+        out[i] = origin[None, :] + q[:, :1] * e1[None, :] + q[:, 1:2] * e2[None, :]
+    return out
+
+
+def flat_panels(
+    geom: BaseGeometry,
+    z: float,
+    spec: MeshSpec,
+    scale: float = 1.0,
+    h_max_at: Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]] | None = None,
+) -> np.ndarray:
+    """Panels of a horizontal conductor at height z (geometry and ``h_max_at`` in units of ``scale`` metres)."""
+    spec_units = MeshSpec(spec.h_min / scale, spec.h_max / scale, spec.grading)
+    p2 = mesh_polygon(geom, spec_units, h_max_at)
+    out = panels_from_2d(p2, np.array([0.0, 0.0, z]), np.array([scale, 0.0, 0.0]), np.array([0.0, scale, 0.0]))
+    return out
+
+
+def _graded_steps(length: float, h_start: float, h_max: float, growth: float, both_ends: bool) -> np.ndarray:
+    """Break points along [0, length], fine at 0 (and at length when both_ends)."""
+    if both_ends:
+        half = _graded_steps(length / 2.0, h_start, h_max, growth, False)
+        return np.concatenate([half, length - half[::-1][1:]])
+    pts = [0.0]
+    h = h_start
+    while pts[-1] + h < length * 0.999:
+        pts.append(pts[-1] + h)
+        h = min(h * growth, h_max)
+    if length - pts[-1] < 0.3 * h and len(pts) > 1:
+        pts[-1] = length
+    else:
+        pts.append(length)
+    return np.asarray(pts)
+
+
+def cylinder_panels(
+    x: float,
+    y: float,
+    z_bottom: float,
+    radius: float,
+    length: float,
+    *,
+    h_edge: float,
+    h_max: float,
+    n_theta: int | None = None,
+) -> np.ndarray:
+    """A closed flat-ended cylinder (axis vertical), graded toward its bottom rim."""
+    if n_theta is None:
+        n_theta = int(np.clip(np.ceil(2 * np.pi * radius / (1.5 * h_edge)), 16, 96))
+    th = np.linspace(0.0, 2 * np.pi, n_theta + 1)
+    ring = np.stack([radius * np.cos(th), radius * np.sin(th)], 1)
+    disk = Polygon(ring[:-1])
+    bottom = mesh_polygon(disk, MeshSpec(h_edge, max(h_edge, min(h_max, radius / 2.0)), 0.5))
+    top = mesh_polygon(disk, MeshSpec(min(h_max, radius / 2), min(h_max, radius / 2), 1.0))
+    panels = [panels_from_2d(bottom, np.array([x, y, z_bottom]), np.array([1.0, 0, 0]), np.array([0, -1.0, 0]))]
+    panels.append(panels_from_2d(top, np.array([x, y, z_bottom + length]), np.array([1.0, 0, 0]), np.array([0, 1.0, 0])))
+    zs = z_bottom + _graded_steps(length, h_edge, h_max, 1.4, False)
+    side = np.empty(((len(zs) - 1) * n_theta, 4, 3))
+    k = 0
+    for i in range(len(zs) - 1):
+        for j in range(n_theta):
+            a, b = ring[j], ring[j + 1]
+            side[k] = [
+                [x + a[0], y + a[1], zs[i]],
+                [x + b[0], y + b[1], zs[i]],
+                [x + b[0], y + b[1], zs[i + 1]],
+                [x + a[0], y + a[1], zs[i + 1]],
+            ]
+            k += 1
+    panels.append(np.concatenate([side, np.repeat(side[:, -1:], 2, axis=1)], axis=1))
+    return np.concatenate(panels)
+
+
+def sphere_panels(radius: float, level: int, centre: tuple[float, float, float] = (0.0, 0.0, 0.0)) -> np.ndarray:
+    """Geodesic sphere: an icosahedron subdivided ``level`` times, corners on the sphere."""
+    t = (1.0 + 5**0.5) / 2.0
+    v = np.array(
+        [[-1, t, 0], [1, t, 0], [-1, -t, 0], [1, -t, 0], [0, -1, t], [0, 1, t], [0, -1, -t], [0, 1, -t], [t, 0, -1], [t, 0, 1], [-t, 0, -1], [-t, 0, 1]],
+        dtype=float,
+    )
+    f = np.array(
+        [[0, 11, 5], [0, 5, 1], [0, 1, 7], [0, 7, 10], [0, 10, 11], [1, 5, 9], [5, 11, 4], [11, 10, 2], [10, 7, 6], [7, 1, 8],
+         [3, 9, 4], [3, 4, 2], [3, 2, 6], [3, 6, 8], [3, 8, 9], [4, 9, 5], [2, 4, 11], [6, 2, 10], [8, 6, 7], [9, 8, 1]]
+    )
+    tri = v[f]
+    tri /= np.linalg.norm(tri, axis=2, keepdims=True)
+    for _ in range(level):
+        a, b, c = tri[:, 0], tri[:, 1], tri[:, 2]
+        ab, bc, ca = a + b, b + c, c + a
+        ab /= np.linalg.norm(ab, axis=1, keepdims=True)
+        bc /= np.linalg.norm(bc, axis=1, keepdims=True)
+        ca /= np.linalg.norm(ca, axis=1, keepdims=True)
+        tri = np.concatenate([np.stack(x, 1) for x in ([a, ab, ca], [ab, b, bc], [ca, bc, c], [ab, bc, ca])])
+    tri = tri * radius + np.asarray(centre)[None, None, :]
+    return np.concatenate([tri, tri[:, 2:3]], axis=1)
+
+
+def box_panels(side: float, spec: MeshSpec, centre: tuple[float, float, float] = (0.0, 0.0, 0.0)) -> np.ndarray:
+    """A cube of edge ``side``, each face graded toward its edges."""
+    h = side / 2.0
+    face = mesh_polygon(box(-h, -h, h, h), spec)
+    c = np.asarray(centre, dtype=float)
+    frames = [
+        (np.array([0, 0, h]), np.array([1.0, 0, 0]), np.array([0, 1.0, 0])),
+        (np.array([0, 0, -h]), np.array([1.0, 0, 0]), np.array([0, -1.0, 0])),
+        (np.array([h, 0, 0]), np.array([0, 1.0, 0]), np.array([0, 0, 1.0])),
+        (np.array([-h, 0, 0]), np.array([0, -1.0, 0]), np.array([0, 0, 1.0])),
+        (np.array([0, h, 0]), np.array([-1.0, 0, 0]), np.array([0, 0, 1.0])),
+        (np.array([0, -h, 0]), np.array([1.0, 0, 0]), np.array([0, 0, 1.0])),
+    ]
+    return np.concatenate([panels_from_2d(face, c + o, e1, e2) for o, e1, e2 in frames])

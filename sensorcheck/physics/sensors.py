@@ -1,0 +1,734 @@
+"""Per-sensor estimates from the board's own copper: baseline, touch signal, approach curve.
+
+Model (each estimate carries a one-line summary in ``SensorEstimate.model``):
+
+* the sensor's copper and everything within ``window_mm`` of it (neighbour sensors as their own
+  conductors, ground, shield, other nets) on every copper layer, as zero-thickness sheets at
+  the copper heights of the stackup; copper of nets with no sensing role is held at ground;
+* the overlay layers, the board dielectrics and air above and below as a layered medium
+  (:mod:`sensorcheck.physics.greens`);
+* a finger (:mod:`sensorcheck.physics.finger`) above the sensor's most sensitive point (a coarse
+  search over the node at touch), moved from ``max_height_mm`` down to the overlay surface;
+* mutual sensors: Cm between TX and RX with everything else at the device ground; self sensors:
+  capacitance of the electrode (plus its trace in the window) with the other copper grounded, a
+  shield net driven at the electrode's potential.
+
+Every number is an estimate of this model; a prototype must be measured.
+"""
+
+from __future__ import annotations
+
+import copy
+import os
+from collections.abc import Callable
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass, replace
+from typing import Any, Literal
+
+import numpy as np
+import shapely
+from shapely.geometry import Polygon, box
+from shapely.geometry.base import BaseGeometry
+
+from sensorcheck.board.model import Stackup, StackupLayer
+from sensorcheck.design.model import Design, Finger, Overlay, OverlayLayer, Sensor
+from sensorcheck.errors import ConfigError, InputError, LimitError
+from sensorcheck.limits import DEFAULT_LIMITS, Limits
+from sensorcheck.physics.bem import BoardSystem, Panels
+from sensorcheck.physics.estimate import SensorEstimate
+from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, mutual_f, self_f, turning_point, validate_finger
+from sensorcheck.physics.greens import LayeredMedium
+from sensorcheck.physics.mesh import MeshSpec, cylinder_panels, flat_panels
+
+MM = 1e-3
+FR4_EPS = 4.4  # handbook: FR-4 at 1 MHz, about 4.3-4.7 (e.g. IPC-4101 slash sheets list 4.2-4.8)
+DEFAULT_STACKUP = Stackup(
+    layers=[
+        StackupLayer("top copper", "copper", 0.035, copper_layer="top-copper"),
+        StackupLayer("core", "dielectric", 1.53, material="FR-4", epsilon_r=FR4_EPS),
+        StackupLayer("bottom copper", "copper", 0.035, copper_layer="bottom-copper"),
+    ],
+    board_thickness_mm=1.6,
+    source="default",
+)
+
+
+@dataclass(frozen=True, slots=True)
+class SolverOptions:
+    """Mesh and model options (mm); ``refine`` divides every panel size (the bench uses 4)."""
+
+    window_mm: float = 15.0
+    h_edge_mm: float = 0.4
+    h_near_mm: float | None = None  # None: 0.75 x the overlay thickness, within 0.6-1.5 mm
+    h_far_mm: float = 3.0
+    finger_edge_mm: float = 0.5
+    finger_max_mm: float = 3.0
+    finger_sides: int = 24
+    touch_gap_mm: float = 0.02  # the finger "on" the overlay: this thin film of air
+    refine: float = 1.0
+    search: bool = True
+    proximity_floor_pf: float = 0.01  # assumption: a resolvable change of 10 fF; a parameter
+    hand_diameter_mm: float = 80.0  # hand-sized target for proximity range (stated model choice)
+    hand_max_height_mm: float = 200.0
+
+    @classmethod
+    def from_config(cls, options: dict[str, Any]) -> "SolverOptions":
+        known = {f for f in cls.__dataclass_fields__}
+        return cls(**{k: v for k, v in options.items() if k in known})
+
+
+# --------------------------------------------------------------------------------------------
+# the layered medium from the stackup and overlay
+
+
+@dataclass(slots=True)
+class Stack:
+    medium: LayeredMedium
+    copper_z_m: dict[str, float]  # our layer name -> z (m), touched face up
+    surface_m: float  # top of the overlay
+    notes: list[str]
+
+
+def build_stack(design: Design, overlay: Overlay) -> Stack:
+    """The layered medium with the touched face up (a bottom-touched board is turned over)."""
+    notes: list[str] = []
+    cfg_file = design.config.file
+    for i, layer in enumerate(overlay.layers):
+        key = f"overlay.layers[{i}]"
+        if not np.isfinite(layer.thickness_mm) or layer.thickness_mm <= 0:
+            raise ConfigError(cfg_file, key + ".thickness_mm", f"overlay layer thickness must be > 0 mm, got {layer.thickness_mm}")
+        if not np.isfinite(layer.epsilon_r) or layer.epsilon_r < 1.0:
+            raise ConfigError(cfg_file, key + ".epsilon_r", f"relative permittivity must be >= 1, got {layer.epsilon_r}")
+    stackup = design.config.stackup_override or design.board.stackup
+    if stackup is None:
+        stackup = DEFAULT_STACKUP
+        notes.append("no stackup given: assumed 1.6 mm FR-4 (eps_r 4.4), two copper layers")
+    # board segments from the top face down: (thickness_mm, eps)
+    segs: list[tuple[float, float]] = []
+    pending = 0.0
+    for i, layer in enumerate(stackup.layers):
+        if layer.thickness_mm < 0 or not np.isfinite(layer.thickness_mm):
+            raise ConfigError(cfg_file, f"stackup.layers[{i}].thickness_mm", f"negative thickness {layer.thickness_mm}")
+        if layer.kind == "dielectric":
+            eps = layer.epsilon_r if layer.epsilon_r is not None else FR4_EPS
+            if layer.epsilon_r is None:
+                notes.append(f"stackup layer {layer.name!r}: no permittivity given, FR-4 {FR4_EPS} assumed (handbook)")
+            if eps < 1.0:
+                raise ConfigError(cfg_file, f"stackup.layers[{i}].epsilon_r", f"relative permittivity must be >= 1, got {eps}")
+            if layer.thickness_mm <= 0:
+                raise ConfigError(cfg_file, f"stackup.layers[{i}].thickness_mm", "a dielectric layer must be thicker than 0 mm")
+            segs.append((layer.thickness_mm + pending, eps))
+            pending = 0.0
+        elif layer.kind == "copper":
+            pending += layer.thickness_mm  # copper thickness goes to the next dielectric below
+        elif layer.kind == "mask":
+            notes.append("solder mask not modelled as a layer (thin); its thickness is ignored")
+    if segs and pending:
+        segs[-1] = (segs[-1][0] + pending, segs[-1][1])
+    cz = stackup.copper_z_mm()
+    total = stackup.total_thickness_mm()
+    if not cz:
+        raise ConfigError(cfg_file, "stackup", "the stackup names no copper layers")
+    if sum(t for t, _ in segs) <= 0:
+        segs = [(total, FR4_EPS)]
+        notes.append(f"stackup has no dielectric layers: one FR-4 core of {total} mm assumed")
+    board_t = sum(t for t, _ in segs)
+    top_face = overlay.face == "top"
+    # z of copper with the touched face up; board spans [0, board_t]
+    scale = board_t / total if total > 0 else 1.0
+    copper_z = {name: (z * scale if top_face else (total - z) * scale) for name, z in cz.items()}
+    if not top_face:
+        # the bottom copper's top surface is its far side from the bottom face: keep planes inside
+        copper_z = {name: min(max(z, 0.0), board_t) for name, z in copper_z.items()}
+        segs = segs[::-1]
+    # layers top to bottom: air, overlay..., board segments..., air
+    eps_list: list[float] = [1.0]
+    interfaces: list[float] = []
+    z = board_t + overlay.thickness_mm
+    for layer in overlay.layers:
+        interfaces.append(z)
+        eps_list.append(layer.epsilon_r)
+        z -= layer.thickness_mm
+    for t, eps in segs:
+        interfaces.append(z)
+        eps_list.append(eps)
+        z -= t
+    interfaces.append(z)
+    eps_list.append(1.0)
+    # merge neighbours of equal permittivity (fewer images, same field)
+    m_eps = [eps_list[0]]
+    m_if: list[float] = []
+    for zi, e in zip(interfaces, eps_list[1:]):
+        if abs(e - m_eps[-1]) < 1e-12:
+            continue
+        m_if.append(zi)
+        m_eps.append(e)
+    medium = LayeredMedium(eps_r=tuple(m_eps), interfaces_m=tuple(x * MM for x in m_if), tol=1e-6)
+    return Stack(medium, {k: v * MM for k, v in copper_z.items()}, (board_t + overlay.thickness_mm) * MM, notes)
+
+
+# --------------------------------------------------------------------------------------------
+# conductors in the window
+
+
+@dataclass(slots=True)
+class Conductor:
+    name: str
+    kind: Literal["sensor", "neighbour", "ground", "shield"]
+    copper: dict[str, BaseGeometry]  # layer -> geometry (mm)
+    sensor: str | None = None
+    role: str | None = None
+
+
+def _clean(geom: BaseGeometry, where: str, design: Design) -> BaseGeometry:
+    if geom.is_empty:
+        return geom
+    if not geom.is_valid:
+        raise InputError(
+            design.board.source, None, f"{where}: copper polygon is not valid ({shapely.is_valid_reason(geom)})", "simple, non-self-intersecting polygons"
+        )
+    polys = [p for p in shapely.get_parts(geom) if isinstance(p, Polygon) and p.area > 1e-4]
+    if not polys:
+        return Polygon()
+    return shapely.union_all(polys).simplify(0.002, preserve_topology=True)
+
+
+def _dehatch(geom: BaseGeometry, notes: list[str], what: str) -> BaseGeometry:
+    """A hatch (many holes, low fill) becomes a solid sheet; the approximation is noted."""
+    out = []
+    for p in shapely.get_parts(geom):
+        if isinstance(p, Polygon) and len(p.interiors) >= 12:
+            solid = Polygon(p.exterior)
+            fill = p.area / solid.area if solid.area > 0 else 1.0
+            if fill < 0.85:
+                notes.append(
+                    f"{what}: hatched copper (coverage {100 * fill:.0f} %) modelled as a solid sheet "
+                    "(an approximation: it overestimates the coupling to that copper)"
+                )
+                out.append(solid)
+                continue
+        out.append(p)
+    return shapely.union_all(out) if out else geom
+
+
+def gather_conductors(design: Design, sensor: Sensor, window: Polygon, notes: list[str]) -> list[Conductor]:
+    """Conductors within the window: this sensor's nets, neighbours' nets, shield, ground (+ other copper)."""
+    x0, y0, x1, y1 = window.bounds
+    own = list(sensor.nets)
+    roles = {n: r for n, (r, _) in design.roles.items()}
+    net_sensor: dict[str, str] = {}
+    for s in design.sensors:
+        for n in s.nets:
+            net_sensor.setdefault(n, s.name)
+    conductors: dict[str, Conductor] = {}
+
+    def add(name: str, kind: str, layer: str, g: BaseGeometry, sensor_name: str | None = None) -> None:
+        if g.is_empty:
+            return
+        c = conductors.setdefault(name, Conductor(name, kind, {}, sensor_name, roles.get(name)))  # type: ignore[arg-type]
+        c.copper[layer] = shapely.union(c.copper[layer], g) if layer in c.copper else g
+
+    layers = design.board.copper_layers()
+    have_nets = any(layer.by_net for layer in layers)
+    other_nets: set[str] = set()
+    for layer in layers:
+        if have_nets:
+            for net, g in layer.by_net.items():
+                gi = shapely.clip_by_rect(g, x0, y0, x1, y1)
+                if gi.is_empty:
+                    continue
+                if net in own:
+                    add(net, "sensor", layer.name, gi, sensor.name)
+                elif net in net_sensor:
+                    add(net, "neighbour", layer.name, gi, net_sensor[net])
+                elif roles.get(net) == "shield":
+                    add("shield", "shield", layer.name, gi)
+                else:
+                    if roles.get(net) != "ground":
+                        other_nets.add(net)
+                    add("ground", "ground", layer.name, gi)
+        # electrodes from the design (when the board has no per-net copper, or to be sure)
+        for s in design.sensors:
+            for e in s.electrodes:
+                parts = [e.geometry] if e.layer == layer.name else []
+                if layer.name in e.trace:
+                    parts.append(e.trace[layer.name])
+                for g in parts:
+                    gi = shapely.clip_by_rect(g, x0, y0, x1, y1)
+                    if gi.is_empty:
+                        continue
+                    kind = "sensor" if e.net in own else "neighbour"
+                    if e.net in conductors and layer.name in conductors[e.net].copper:
+                        continue
+                    add(e.net, kind, layer.name, gi, s.name)
+        if not have_nets and layer.dark is not None:
+            sens = shapely.union_all(
+                [c.copper[layer.name] for c in conductors.values() if layer.name in c.copper] or [Polygon()]
+            )
+            rest = shapely.difference(shapely.clip_by_rect(layer.dark, x0, y0, x1, y1), sens.buffer(0.01))
+            add("ground", "ground", layer.name, rest)
+    if not have_nets:
+        notes.append("no per-net copper on the board: copper outside the sensors' electrodes treated as ground")
+    if other_nets:
+        shown = ", ".join(sorted(other_nets)[:5]) + (" ..." if len(other_nets) > 5 else "")
+        notes.append(f"nets without a sensing role in the window held at ground: {shown}")
+    out = []
+    for c in conductors.values():
+        for layer in list(c.copper):
+            g = _clean(c.copper[layer], f"net {c.name} on {layer}", design)
+            if c.kind in ("ground", "shield"):
+                g = _dehatch(g, notes, f"{c.name} on {layer}")
+            if g.is_empty:
+                del c.copper[layer]
+            else:
+                c.copper[layer] = g
+        if c.copper:
+            out.append(c)
+    return out
+
+
+# --------------------------------------------------------------------------------------------
+# meshing
+
+
+def _h_near_mm(opts: SolverOptions, overlay: Overlay) -> float:
+    if opts.h_near_mm is not None:
+        return opts.h_near_mm
+    return float(np.clip(0.75 * overlay.thickness_mm, 0.6, 1.5))
+
+
+def mesh_conductors(
+    conductors: list[Conductor], stack: Stack, zone: BaseGeometry, opts: SolverOptions, overlay: Overlay, notes: list[str]
+) -> Panels:
+    h_near = _h_near_mm(opts, overlay) / opts.refine
+    h_far = opts.h_far_mm / opts.refine
+    h_edge = opts.h_edge_mm / opts.refine
+    shapely.prepare(zone)
+
+    def h_at(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        d = shapely.distance(shapely.points(x, y), zone)
+        return np.minimum(h_far, h_edge + 0.15 * d), np.minimum(h_far, h_near + 0.3 * d)
+
+    parts = []
+    conds = []
+    for k, c in enumerate(conductors):
+        for layer, g in c.copper.items():
+            if layer not in stack.copper_z_m:
+                notes.append(f"copper layer {layer} is not in the stackup: left out")
+                continue
+            spec = MeshSpec(h_edge, h_far, 0.35)
+            v = flat_panels(g, stack.copper_z_m[layer] / MM, spec, scale=1.0, h_max_at=h_at)
+            v = v * MM
+            parts.append(v)
+            conds.append(np.full(len(v), k))
+    if not parts:
+        raise InputError(None, None, "no copper to solve in the sensor's window", "electrode copper on a stackup layer")
+    return Panels(np.concatenate(parts), np.concatenate(conds))
+
+
+def finger_panels(finger: Finger, x_mm: float, y_mm: float, z_bottom_m: float, opts: SolverOptions, coarse: bool = False) -> Panels:
+    f = 2.0 if coarse else 1.0
+    sides = max(12, int(round(opts.finger_sides * (opts.refine if not coarse else 0.67))))
+    v = cylinder_panels(
+        x_mm * MM,
+        y_mm * MM,
+        z_bottom_m,
+        finger.contact_diameter_mm / 2.0 * MM,
+        finger.length_mm * MM,
+        h_edge=opts.finger_edge_mm * f / opts.refine * MM,
+        h_max=opts.finger_max_mm * f / opts.refine * MM,
+        n_theta=sides,
+    )
+    return Panels(v, np.zeros(len(v), dtype=int))
+
+
+# --------------------------------------------------------------------------------------------
+# one sensor
+
+
+@dataclass(slots=True)
+class SensorModel:
+    """A sensor's solved board block, ready for finger positions."""
+
+    design: Design
+    sensor: Sensor
+    overlay: Overlay
+    finger: Finger
+    stack: Stack
+    conductors: list[Conductor]
+    system: BoardSystem
+    opts: SolverOptions
+    notes: list[str]
+    kind: Literal["mutual", "self"]
+    main: dict[str, list[int]]  # "tx"/"rx" or "electrode"; plus "shield"
+
+    @property
+    def body_f(self) -> float:
+        return self.finger.body_capacitance_pf * PF
+
+    @property
+    def device_f(self) -> float | None:
+        d = self.finger.device_ground_coupling_pf
+        return None if d is None else d * PF
+
+    def value_f(self, c: np.ndarray, floating: int | None, which: dict[str, list[int]] | None = None) -> float:
+        w = which or self.main
+        if "tx" in w:
+            return mutual_f(c, w["tx"], w["rx"], floating=floating, body_f=self.body_f, device_f=self.device_f)
+        return self_f(c, w["electrode"], shield=w.get("shield"), floating=floating, body_f=self.body_f, device_f=self.device_f)
+
+    def with_finger(self, x_mm: float, y_mm: float, h_mm: float, coarse: bool = False, max_h_mm: float = 20.0) -> np.ndarray:
+        z_b = self.stack.surface_m + max(h_mm, self.opts.touch_gap_mm) * MM
+        body = finger_panels(self.finger, x_mm, y_mm, z_b, self.opts, coarse)
+        z_lo = self.stack.surface_m + self.opts.touch_gap_mm * MM
+        z_hi = self.stack.surface_m + (max(max_h_mm, h_mm) + self.finger.length_mm + 1.0) * MM
+        return self.system.with_body(body, (z_lo, z_hi))
+
+
+def _roles_of(sensor: Sensor, conductors: list[Conductor]) -> tuple[Literal["mutual", "self"], dict[str, list[int]]]:
+    idx = {c.name: i for i, c in enumerate(conductors)}
+    tx = [idx[e.net] for e in sensor.electrodes_with("transmitter") if e.net in idx]
+    rx = [idx[e.net] for e in sensor.electrodes_with("receiver") if e.net in idx]
+    shield = [i for i, c in enumerate(conductors) if c.kind == "shield"]
+    if tx and rx:
+        return "mutual", {"tx": sorted(set(tx)), "rx": sorted(set(rx))}
+    el = [idx[n] for n in sensor.nets if n in idx]
+    if not el:
+        raise InputError(None, None, f"sensor {sensor.name}: none of its nets has copper in the window", "electrode copper")
+    return "self", {"electrode": el, "shield": shield}
+
+
+def build_model(
+    design: Design, sensor: Sensor, *, opts: SolverOptions | None = None, limits: Limits = DEFAULT_LIMITS
+) -> SensorModel:
+    """Window, conductors, mesh and the factorised board block of one sensor."""
+    cfg = design.config
+    opts = opts or SolverOptions.from_config(cfg.estimate)
+    overlay = cfg.overlay
+    if overlay is None or not overlay.layers:
+        raise ConfigError(cfg.file, "overlay", "the field-solver estimate needs the overlay stack ([[overlay.layers]])")
+    finger = cfg.finger or FINGER_DEFAULTS
+    try:
+        validate_finger(finger)
+    except ValueError as exc:
+        raise ConfigError(cfg.file, "finger", str(exc)) from None
+    stack = build_stack(design, overlay)
+    notes = list(stack.notes)
+    outline = sensor.outline
+    if outline.is_empty:
+        raise InputError(design.board.source, None, f"sensor {sensor.name} has no electrode copper", "electrode copper")
+    x0, y0, x1, y1 = outline.bounds
+    w = opts.window_mm
+    window = box(x0 - w, y0 - w, x1 + w, y1 + w)
+    conductors = gather_conductors(design, sensor, window, notes)
+    zone = outline.buffer(2.0)
+    # mesh, coarsening when over the panel budget
+    cur = opts
+    for attempt in range(4):
+        panels = mesh_conductors(conductors, stack, zone, cur, overlay, notes)
+        if len(panels) <= limits.max_mesh_panels:
+            break
+        if attempt == 3:
+            raise LimitError(
+                design.board.source,
+                None,
+                f"sensor {sensor.name}: {len(panels)} boundary-element panels even after coarsening (limit {limits.max_mesh_panels})",
+                "a smaller sensor window or a higher [limits] max_mesh_panels",
+            )
+        cur = replace(cur, refine=cur.refine / 1.5)
+        notes.append(f"mesh coarsened 1.5x to stay within {limits.max_mesh_panels} panels (lower accuracy)")
+    kind, main = _roles_of(sensor, conductors)
+    system = BoardSystem(panels, stack.medium, len(conductors))
+    notes.append(f"window {w:g} mm around the sensor; {len(panels)} board panels")
+    return SensorModel(design, sensor, overlay, finger, stack, conductors, system, cur, notes, kind, main)
+
+
+def _candidates(sensor: Sensor, model: SensorModel) -> list[tuple[float, float]]:
+    outline = sensor.outline
+    c = outline.centroid
+    pts = [(c.x, c.y)]
+    if model.kind == "mutual":
+        rx = shapely.union_all([e.geometry for e in sensor.electrodes_with("receiver")])
+        r = rx.centroid
+        pts.append((r.x, r.y))
+    x0, y0, x1, y1 = outline.bounds
+    dx, dy = (x1 - x0) / 4.0, (y1 - y0) / 4.0
+    for ox, oy in ((dx, 0.0), (-dx, 0.0), (0.0, dy), (0.0, -dy)):
+        pts.append((c.x + ox, c.y + oy))
+    grown = outline.buffer(1.0)
+    out: list[tuple[float, float]] = []
+    for p in pts:
+        if grown.contains(shapely.Point(p)) and all(np.hypot(p[0] - q[0], p[1] - q[1]) > 0.3 for q in out):
+            out.append((float(p[0]), float(p[1])))
+    return out or [(c.x, c.y)]
+
+
+def approach_heights(n: int, max_height_mm: float) -> list[float]:
+    """Far to near: geometric from max_height_mm down to 0.25 mm, then 0 (touching)."""
+    if n < 2:
+        raise ValueError("need at least 2 heights")
+    if max_height_mm <= 0.25:
+        raise ValueError("max height must exceed 0.25 mm")
+    far = np.geomspace(max_height_mm, 0.25, n - 1)
+    return [float(h) for h in far] + [0.0]
+
+
+def _neighbour_channels(model: SensorModel) -> dict[str, dict[str, list[int]]]:
+    out: dict[str, dict[str, list[int]]] = {}
+    design = model.design
+    by_name = {s.name: s for s in design.sensors}
+    idx = {c.name: i for i, c in enumerate(model.conductors)}
+    for c in model.conductors:
+        if c.kind != "neighbour" or c.sensor is None or c.sensor in out or c.sensor not in by_name:
+            continue
+        s = by_name[c.sensor]
+        tx = [idx[e.net] for e in s.electrodes_with("transmitter") if e.net in idx]
+        rx = [idx[e.net] for e in s.electrodes_with("receiver") if e.net in idx]
+        if tx and rx:
+            out[s.name] = {"tx": tx, "rx": rx}
+        else:
+            el = [idx[n] for n in s.nets if n in idx]
+            if el:
+                out[s.name] = {"electrode": el, "shield": model.main.get("shield", [])}
+    return out
+
+
+def _hand_range(model: SensorModel, x: float, y: float, base_f: float) -> float | None:
+    """Largest height (mm) where a hand-sized plate changes the self capacitance by the floor."""
+    opts = model.opts
+    hand = replace(model.finger, contact_diameter_mm=opts.hand_diameter_mm, length_mm=10.0)
+    heights = np.geomspace(opts.hand_max_height_mm, 1.0, 10)
+    k = len(model.conductors)
+    last_ok: float | None = None
+    prev_h: float | None = None
+    prev_d = 0.0
+    for h in heights:
+        z_b = model.stack.surface_m + h * MM
+        body_opts = replace(opts, finger_edge_mm=2.0, finger_max_mm=10.0, finger_sides=32)
+        body = finger_panels(hand, x, y, z_b, body_opts)
+        z_lo = model.stack.surface_m + 1.0 * MM
+        z_hi = model.stack.surface_m + (opts.hand_max_height_mm + 12.0) * MM
+        c = model.system.with_body(body, (z_lo, z_hi))
+        d = abs(model.value_f(c, k) - base_f) / PF
+        if d >= opts.proximity_floor_pf:
+            if prev_h is None:
+                return float(h)
+            # log-linear interpolation between the last miss and this hit
+            t = (np.log(opts.proximity_floor_pf) - np.log(max(prev_d, 1e-12))) / (np.log(d) - np.log(max(prev_d, 1e-12)))
+            last_ok = float(np.exp(np.log(prev_h) + t * (np.log(h) - np.log(prev_h))))
+            return last_ok
+        prev_h, prev_d = float(h), d
+    return None
+
+
+def estimate_sensor(design: Design, sensor: Sensor, *, heights: int = 12, max_height_mm: float = 20.0) -> SensorEstimate:
+    """Baseline, touch signal, approach curve and neighbours' crosstalk of one sensor."""
+    opts = SolverOptions.from_config(design.config.estimate)
+    return estimate_with(design, sensor, opts=opts, heights=heights, max_height_mm=max_height_mm)
+
+
+def estimate_with(
+    design: Design,
+    sensor: Sensor,
+    *,
+    opts: SolverOptions,
+    heights: int = 12,
+    max_height_mm: float = 20.0,
+    limits: Limits = DEFAULT_LIMITS,
+) -> SensorEstimate:
+    model = build_model(design, sensor, opts=opts, limits=limits)
+    k = len(model.conductors)
+    base_f = model.value_f(model.system.c0, None)
+    if base_f <= 0:
+        raise InputError(design.board.source, None, f"sensor {sensor.name}: no coupling between its electrodes in the model", "TX and RX copper near each other")
+    # the most sensitive point: a coarse finger at touch over a few candidate points
+    cands = _candidates(sensor, model)
+    search: list[tuple[float, float, float]] = []
+    if opts.search and len(cands) > 1:
+        for x, y in cands:
+            c = model.with_finger(x, y, 0.0, coarse=True, max_h_mm=max_height_mm)
+            search.append((x, y, (model.value_f(c, k) - base_f) / PF))
+        bx, by, _ = max(search, key=lambda t: abs(t[2]))
+    else:
+        bx, by = cands[0]
+    curve: list[tuple[float, float]] = []
+    c_touch: np.ndarray | None = None
+    for h in approach_heights(heights, max_height_mm):
+        c = model.with_finger(bx, by, h, max_h_mm=max_height_mm)
+        curve.append((h, model.value_f(c, k) / PF))
+        c_touch = c
+    assert c_touch is not None
+    base_pf = base_f / PF
+    touch_pf = curve[-1][1]
+    delta = touch_pf - base_pf
+    tp = turning_point(curve, base_pf)
+    cross: dict[str, float] = {}
+    for name, which in _neighbour_channels(model).items():
+        b = model.value_f(model.system.c0, None, which)
+        t = model.value_f(c_touch, k, which)
+        cross[name] = (t - b) / PF
+    channels: dict[str, tuple[float, float]] = {}
+    if model.kind == "self" and len(model.main["electrode"]) > 1:
+        for i in model.main["electrode"]:
+            w = {"electrode": [i], "shield": model.main.get("shield", [])}
+            b = model.value_f(model.system.c0, None, w)
+            t = model.value_f(c_touch, k, w)
+            channels[model.conductors[i].name] = (b / PF, (t - b) / PF)
+    notes = list(model.notes)
+    if model.kind == "self" and model.main.get("shield"):
+        notes.append("shield net driven at the electrode's potential")
+    if sensor.kind == "matrix":
+        notes.append("matrix: all rows driven and all columns sensed together (a whole-panel figure)")
+    detection = None
+    if sensor.kind == "proximity" and model.kind == "self":
+        detection = _hand_range(model, bx, by, base_f)
+        notes.append(
+            f"proximity range: {model.opts.hand_diameter_mm:g} mm hand-sized plate, signal floor {model.opts.proximity_floor_pf * 1000:g} fF (assumed)"
+        )
+    f = model.finger
+    ground = "earthed device" if f.device_ground_coupling_pf is None else f"device ground {f.device_ground_coupling_pf:g} pF to earth"
+    model_text = (
+        f"estimate: 3-D boundary elements (collocation, layered-media images); finger {f.contact_diameter_mm:g} mm x "
+        f"{f.length_mm:g} mm cylinder, body {f.body_capacitance_pf:g} pF, {ground}; overlay {model.overlay.thickness_mm:g} mm"
+    )
+    return SensorEstimate(
+        sensor=sensor.name,
+        kind=model.kind,
+        model=model_text,
+        baseline_pf=base_pf,
+        touch_delta_pf=delta,
+        percent_change=100.0 * delta / base_pf,
+        turning_point_mm=tp,
+        curve=curve,
+        best_point_mm=(bx, by),
+        crosstalk_pf=cross,
+        parasitic_pf=base_pf if model.kind == "self" else None,
+        panels=len(model.system.panels),
+        notes=notes,
+        channels=channels,
+        detection_range_mm=detection,
+        search=search,
+    )
+
+
+# --------------------------------------------------------------------------------------------
+# many sensors, sweeps
+
+
+def _one(args: tuple[Design, str, int, float]) -> tuple[str, SensorEstimate | str]:
+    design, name, heights, max_h = args
+    sensor = next(s for s in design.sensors if s.name == name)
+    try:
+        return name, estimate_sensor(design, sensor, heights=heights, max_height_mm=max_h)
+    except (InputError, ConfigError) as exc:
+        return name, exc.describe()
+
+
+def estimate_design(
+    design: Design,
+    *,
+    sensors: list[str] | None = None,
+    workers: int | None = None,
+    progress: Callable[[str], None] | None = None,
+) -> dict[str, SensorEstimate]:
+    """Estimates for the design's sensors (or those named), in parallel across processes.
+
+    Errors of one sensor (bad copper, over the mesh budget) are re-raised after the others ran.
+    """
+    names = [s.name for s in design.sensors] if sensors is None else list(sensors)
+    known = {s.name for s in design.sensors}
+    for n in names:
+        if n not in known:
+            raise ConfigError(design.config.file, "sensor", f"no sensor named {n!r} (known: {', '.join(sorted(known))})")
+    opts = design.config.estimate
+    heights = int(opts.get("heights", 12))
+    max_h = float(opts.get("max_height_mm", 20.0))
+    jobs = [(design, n, heights, max_h) for n in names]
+    n_workers = min(workers or os.cpu_count() or 1, len(jobs)) if jobs else 1
+    results: dict[str, SensorEstimate] = {}
+    errors: list[str] = []
+    if n_workers <= 1:
+        done = map(_one, jobs)
+        for name, res in done:
+            _collect(name, res, results, errors, progress)
+    else:
+        saved = {k: os.environ.get(k) for k in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")}
+        try:
+            for k in saved:
+                os.environ[k] = "1"  # one BLAS thread per worker process: the processes share the cores
+            import multiprocessing as mp
+
+            with ProcessPoolExecutor(max_workers=n_workers, mp_context=mp.get_context("spawn")) as pool:
+                futures = [pool.submit(_one, j) for j in jobs]
+                for k, v in saved.items():
+                    if v is None:
+                        os.environ.pop(k, None)
+                    else:
+                        os.environ[k] = v
+                for fut in futures:
+                    name, res = fut.result()
+                    _collect(name, res, results, errors, progress)
+        finally:
+            for k, v in saved.items():
+                if v is None:
+                    os.environ.pop(k, None)
+                else:
+                    os.environ[k] = v
+    if errors:
+        raise InputError(design.board.source, None, "; ".join(errors), "sensors the field solver can model")
+    return results
+
+
+def _collect(name: str, res: SensorEstimate | str, results: dict[str, SensorEstimate], errors: list[str], progress: Callable[[str], None] | None) -> None:
+    if isinstance(res, str):
+        errors.append(f"{name}: {res}")
+    else:
+        results[name] = res
+    if progress is not None:
+        progress(name)
+
+
+def with_overlay(design: Design, param: Literal["overlay_thickness_mm", "overlay_epsilon_r"], value: float) -> Design:
+    """A copy of the design with the overlay's main layer (the first of kind "overlay") changed."""
+    ov = design.config.overlay
+    if ov is None or not ov.layers:
+        raise ConfigError(design.config.file, "overlay", "a sweep needs the overlay stack")
+    layers = list(ov.layers)
+    i = next((k for k, layer in enumerate(layers) if layer.kind == "overlay"), 0)
+    if param == "overlay_thickness_mm":
+        layers[i] = replace(layers[i], thickness_mm=float(value))
+    elif param == "overlay_epsilon_r":
+        layers[i] = replace(layers[i], epsilon_r=float(value), epsilon_source="sweep")
+    else:
+        raise ValueError(f"unknown sweep parameter {param!r}")
+    cfg = copy.copy(design.config)
+    cfg.overlay = Overlay(tuple(layers), ov.face)
+    d = copy.copy(design)
+    d.config = cfg
+    return d
+
+
+def sweep(
+    design: Design,
+    sensor: Sensor,
+    param: Literal["overlay_thickness_mm", "overlay_epsilon_r"],
+    values: list[float],
+    *,
+    heights: int = 6,
+) -> list[SensorEstimate]:
+    """How a sensor's numbers change with the overlay's thickness or permittivity."""
+    return [estimate_sensor(with_overlay(design, param, v), sensor, heights=heights) for v in values]
+
+
+__all__ = [
+    "SolverOptions",
+    "build_stack",
+    "build_model",
+    "estimate_sensor",
+    "estimate_with",
+    "estimate_design",
+    "sweep",
+    "with_overlay",
+    "approach_heights",
+    "OverlayLayer",
+]

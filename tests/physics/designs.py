@@ -1,0 +1,77 @@
+"""Small invented sensor designs for the field-solver tests and the bench (our own scenario)."""
+
+from __future__ import annotations
+
+from shapely.geometry import Point, box
+from shapely.geometry.base import BaseGeometry
+
+from sensorcheck.board.model import Board, Layer, Stackup, StackupLayer
+from sensorcheck.design.model import Config, Design, Electrode, Finger, Overlay, OverlayLayer, Sensor
+
+
+def stackup(core_mm: float = 1.53, eps: float = 4.4) -> Stackup:
+    return Stackup(
+        layers=[
+            StackupLayer("F.Cu", "copper", 0.035, copper_layer="top-copper"),
+            StackupLayer("core", "dielectric", core_mm, material="FR-4", epsilon_r=eps),
+            StackupLayer("B.Cu", "copper", 0.035, copper_layer="bottom-copper"),
+        ],
+        board_thickness_mm=core_mm + 0.07,
+        source="config",
+    )
+
+
+def overlay(thickness_mm: float = 1.0, eps: float = 2.8) -> Overlay:
+    return Overlay((OverlayLayer("pmma", thickness_mm, eps, "test"),), "top")
+
+
+def make_design(
+    nets: dict[str, BaseGeometry],
+    roles: dict[str, str],
+    sensors: list[Sensor],
+    *,
+    ov: Overlay | None = None,
+    finger: Finger | None = None,
+    estimate: dict | None = None,
+) -> Design:
+    top = Layer("top-copper", "copper", "top", "test.gtl", copper_index=1, by_net=dict(nets))
+    bottom = Layer("bottom-copper", "copper", "bottom", "test.gbl", copper_index=2, by_net={})
+    board = Board("test", "test", layers=[top, bottom], stackup=stackup())
+    cfg = Config(overlay=ov or overlay(), finger=finger, estimate=dict(estimate or {}))
+    return Design(board, cfg, {n: (r, None) for n, r in roles.items()}, sensors)  # type: ignore[misc]
+
+
+def button(
+    *,
+    rx_radius_mm: float = 5.0,
+    gap_mm: float = 1.0,
+    tx_width_mm: float = 2.0,
+    ground_gap_mm: float = 1.0,
+    ground: bool = True,
+    ground_size_mm: float = 34.0,
+    ov: Overlay | None = None,
+    finger: Finger | None = None,
+    estimate: dict | None = None,
+) -> Design:
+    """A mutual button: RX disk in a TX ring, top ground pour around it (invented)."""
+    rx = Point(0, 0).buffer(rx_radius_mm, quad_segs=24)
+    r_in = rx_radius_mm + gap_mm
+    tx = Point(0, 0).buffer(r_in + tx_width_mm, quad_segs=24).difference(Point(0, 0).buffer(r_in, quad_segs=24))
+    nets: dict[str, BaseGeometry] = {"RX1": rx, "TX1": tx}
+    roles = {"RX1": "receiver", "TX1": "transmitter"}
+    if ground:
+        h = ground_size_mm / 2.0
+        nets["GND"] = box(-h, -h, h, h).difference(Point(0, 0).buffer(r_in + tx_width_mm + ground_gap_mm, quad_segs=24))
+        roles["GND"] = "ground"
+    electrodes = [Electrode("TX1", "transmitter", "top-copper", tx), Electrode("RX1", "receiver", "top-copper", rx)]
+    s = Sensor("K1", "mutual-node", "top-copper", electrodes, rx.union(tx).buffer(1.0), 1.0)
+    return make_design(nets, roles, [s], ov=ov, finger=finger, estimate=estimate)
+
+
+def self_button(radius_mm: float = 6.0, ground_gap_mm: float = 1.0, ov: Overlay | None = None, shield: bool = False) -> Design:
+    el = Point(0, 0).buffer(radius_mm, quad_segs=24)
+    ring = box(-16, -16, 16, 16).difference(Point(0, 0).buffer(radius_mm + ground_gap_mm, quad_segs=24))
+    nets = {"TOUCH1": el, ("SHLD" if shield else "GND"): ring}
+    roles = {"TOUCH1": "self", ("SHLD" if shield else "GND"): ("shield" if shield else "ground")}
+    s = Sensor("B1", "self-button", "top-copper", [Electrode("TOUCH1", "self", "top-copper", el)], el.buffer(1.0), 1.0)
+    return make_design(nets, roles, [s], ov=ov)
