@@ -262,3 +262,16 @@ def test_where_pygerber_is_wrong_single_quadrant_arcs_in_regions() -> None:
     ours = read_gerber(path.read_bytes(), path.name).dark
     assert ours is not None and ours.area == pytest.approx(expected, rel=1e-3)
     assert _raster_area(_pyg(path.read_text()), 20) < 0.5 * expected
+
+
+@pytest.mark.parametrize("transform", ["%LMX*%\n%LR30*%\n", "%LMY*%\n%LR-45*%\n%LS1.5*%\n", "%LMXY*%\n%LS0.5*%\n"])
+def test_aperture_transformations_agree(transform: str) -> None:
+    # spec section 4.9.3-4.9.5 (LM, LR, LS) on an asymmetric macro (a right triangle): the image's
+    # bounds agree with pygerber's, which mirrors, then rotates, then scales as we do.
+    src = (HEAD + "%AMTRI*\n4,1,3,0,0,1,0,0,2,0,0,0*%\n%ADD11TRI*%\n" + transform
+           + "D11*\nX5000000Y1000000D03*\nM02*\n")
+    info = _pyg(src).get_info()
+    ours = read_gerber(src.encode(), "t.gbr").dark
+    assert ours is not None
+    theirs = [float(v) for v in (info.min_x_mm, info.min_y_mm, info.max_x_mm, info.max_y_mm)]
+    assert list(ours.bounds) == pytest.approx(theirs, abs=1e-4)
