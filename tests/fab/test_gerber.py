@@ -241,3 +241,10 @@ def test_extent_far_beyond_a_board_is_flagged() -> None:
     got = read_gerber(gbr(f"%ADD10C,1*%\nD10*\nX0Y0D03*\nX{mm(5000)}Y0D03*\n"), "w.gbr")
     assert any("wrong unit" in w for w in got.warnings)
     assert not any("wrong unit" in w for w in read_gerber(gbr("%ADD10C,1*%\nD10*\nX0Y0D03*\n"), "ok.gbr").warnings)
+
+
+def test_inconsistent_arc_is_flagged() -> None:
+    # spec section 4.7.2: start and end point must be on the circle about the centre
+    body = "%ADD10C,0.1*%\nD10*\nG75*\nG03*\nX0Y0D02*\nX3000000Y0I1000000J0D01*\n"
+    got = read_gerber(gbr(body), "a.gbr")
+    assert any("arc radii differ" in w and "a.gbr:7" in w for w in got.warnings)
