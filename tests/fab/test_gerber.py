@@ -247,4 +247,4 @@ def test_inconsistent_arc_is_flagged() -> None:
     # spec section 4.7.2: start and end point must be on the circle about the centre
     body = "%ADD10C,0.1*%\nD10*\nG75*\nG03*\nX0Y0D02*\nX3000000Y0I1000000J0D01*\n"
     got = read_gerber(gbr(body), "a.gbr")
-    assert any("arc radii differ" in w and "a.gbr:7" in w for w in got.warnings)
+    assert any("arc radii differ" in w and "a.gbr:8" in w for w in got.warnings)
