@@ -197,12 +197,17 @@ class CopperBalancing(Rule):
     params = {"distance_mm": Param(10.0, "mm", "common practice", "how far around the electrodes balancing is looked for")}
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        balancing = {
+            lay.name: [f for f in lay.features
+                       if f.aperture_function and f.aperture_function.lower().startswith("copperbalancing")]
+            for lay in design.board.copper_layers()
+        }
+        if not any(balancing.values()):
+            return
         for s in design.sensors:
             near = s.outline.buffer(params["distance_mm"])
             for lay in design.board.copper_layers():
-                hits = [f for f in lay.features
-                        if f.aperture_function and f.aperture_function.lower().startswith("copperbalancing")
-                        and f.geometry.intersects(near)]
+                hits = [f for f in balancing[lay.name] if f.geometry.intersects(near)]
                 if not hits:
                     continue
                 geom = union(f.geometry for f in hits)

@@ -76,19 +76,22 @@ def measure_hatch(copper_geom: BaseGeometry, window: BaseGeometry) -> HatchMeasu
     return HatchMeasure(fill, len(openings), g, w)
 
 
-def _sub_rings(own: BaseGeometry, other: BaseGeometry, ring_mm: float, clip: BaseGeometry) -> str:
-    """Fill in the rings 0-20 %, 20-50 % and 50-100 % of ``ring_mm`` out from the electrodes (0-2, 2-5, 5-10 mm)."""
+def _sub_windows(own: BaseGeometry, ring_mm: float, clip: BaseGeometry) -> list[tuple[float, float, BaseGeometry]]:
+    """The rings 0-20 %, 20-50 % and 50-100 % of ``ring_mm`` out from the electrodes (0-2, 2-5, 5-10 mm)."""
     edges = (0.0, 0.2 * ring_mm, 0.5 * ring_mm, ring_mm)
-    parts = []
+    out = []
     inner = own
     for a, b in zip(edges, edges[1:]):
         outer = own.buffer(b)
-        window = outer.difference(inner).intersection(clip)
+        out.append((a, b, outer.difference(inner).intersection(clip)))
         inner = outer
-        fill = 100 * other.intersection(window).area / window.area if window.area > 0 else 0.0
-        parts.append((a, b, fill))
-    spans = "/".join(f"{fmt(a, 0)}-{fmt(b, 0)}" for a, b, _ in parts)
-    return f"rings {spans} mm: " + "/".join(f"{fmt(f, 0)}" for _, _, f in parts) + " %"
+    return out
+
+
+def _sub_rings(windows: list[tuple[float, float, BaseGeometry]], other: BaseGeometry) -> str:
+    fills = [100 * other.intersection(w).area / w.area if w.area > 0 else 0.0 for _, _, w in windows]
+    spans = "/".join(f"{fmt(a, 0)}-{fmt(b, 0)}" for a, b, _ in windows)
+    return f"rings {spans} mm: " + "/".join(fmt(f, 0) for f in fills) + " %"
 
 
 def _hatch_text(m: HatchMeasure) -> str:
@@ -103,7 +106,7 @@ def _other_copper(design: Design, layer: str, window: BaseGeometry) -> BaseGeome
     if lay is None:
         return union([])
     skip = sensing_nets(design)
-    return clipped_union((g for n, g in lay.by_net.items() if n not in skip), window)
+    return clipped_union((g for n, g in lay.by_net.items() if n not in skip), window.envelope)
 
 
 class FillNearSensor(Rule):
@@ -153,6 +156,7 @@ class FillNearSensor(Rule):
             if outline_board is not None and outline_board.area > 0:
                 ring = ring.intersection(shapely.Polygon(outline_board.exterior) if outline_board.geom_type == "Polygon" else outline_board)
             self_kind = s.kind in SELF_KINDS
+            windows: list[tuple[float, float, BaseGeometry]] | None = None  # only when something is reported
             for lay in design.board.copper_layers():
                 other = _other_copper(design, lay.name, ring)
                 if other.is_empty:
@@ -165,10 +169,11 @@ class FillNearSensor(Rule):
                 if pct <= limit:
                     continue
                 sev = "warning" if self_kind else "note"
+                windows = windows or _sub_windows(own, params["ring_mm"], ring)
                 yield finding(
                     sev,
                     f"copper fill {fmt(pct, 1)} % within {fmt(params['ring_mm'], 1)} mm of the electrodes on {lay.name} "
-                    f"is above {fmt(limit, 1)} % ({_hatch_text(m)}; {_sub_rings(own, other, params['ring_mm'], ring)}; "
+                    f"is above {fmt(limit, 1)} % ({_hatch_text(m)}; {_sub_rings(windows, other)}; "
                     "common practice)",
                     value=pct, limit=limit, unit="%", layer=lay.name, geom=ring.intersection(other),
                     nets=(), sensor=s.name,
