@@ -564,6 +564,11 @@ def run_rules(design: Any, estimates: Mapping[str, Any] | None = None, *, progre
 # --------------------------------------------------------------------------- catalogue text
 
 
+def _unit(unit: str) -> str:
+    """Units for people: a dimensionless "1" prints as nothing."""
+    return "" if unit == "1" else unit
+
+
 def render_catalogue(fmt: Literal["text", "markdown", "json"] = "text") -> str:
     """The rule catalogue, generated from the registry (so the docs cannot drift from the code)."""
     reg = registry()
@@ -600,7 +605,8 @@ def render_catalogue(fmt: Literal["text", "markdown", "json"] = "text") -> str:
             for head in DOC_HEADINGS:
                 if head == "Parameters" and cls.params:
                     lines += [f"### {head}", "", "| name | default | unit | source class | meaning |", "|---|---|---|---|---|"]
-                    lines += [f"| `{n}` | {p.default} | {p.unit} | {p.source} | {p.doc} |" for n, p in cls.params.items()]
+                    lines += [f"| `{n}` | {p.default} | {_unit(p.unit) or '-'} | {p.source} | {p.doc} |"
+                              for n, p in cls.params.items()]
                     lines.append("")
                     continue
                 lines += [f"### {head}", "", secs.get(head, ""), ""]
@@ -613,7 +619,8 @@ def render_catalogue(fmt: Literal["text", "markdown", "json"] = "text") -> str:
                 if cls.params:
                     lines.append("  Parameters:")
                     for n, p in cls.params.items():
-                        lines.append(f"    {n} = {p.default} {p.unit} ({p.source}): {p.doc}")
+                        unit = f" {_unit(p.unit)}" if _unit(p.unit) else ""
+                        lines.append(f"    {n} = {p.default}{unit} ({p.source}): {p.doc}")
                 else:
                     lines.append("  Parameters: none")
                 continue
