@@ -9,7 +9,10 @@ A rule is a small class (see :class:`Rule`) declared in its family module beside
 * ``check(design, estimates, params) -> Iterable[Finding]``.
 
 The engine applies, in this order: rule defaults < rule profile (``rules/<profile>.toml`` or a
-path) < the config's ``[rules."<id>"]`` tables.  A severity of ``"off"`` disables a rule.  A rule
+path) < the config's ``[rules."<id>"]`` tables.  A severity of ``"off"`` disables a rule; any other
+override replaces the severity of the findings a rule yields at its default severity (findings
+it raises or lowers on purpose, such as an error for solid close ground or a note for a mutual
+sensor, keep theirs).  A rule
 whose inputs are missing yields ONE note saying what is missing and how to give it.  A rule that
 raises becomes an internal-error finding; the other rules still run.  Waivers are applied last.
 

@@ -19,7 +19,7 @@ from sensorcheck.rules.common import (
     source_near,
     union,
 )
-from sensorcheck.rules.engine import Param, Rule
+from sensorcheck.rules.engine import MissingInput, Param, Rule
 from sensorcheck.rules.finding import Finding
 
 
@@ -129,7 +129,8 @@ class FloatingCopper(Rule):
         Floating metal couples neighbouring sensors to each other and drifts with humidity and touch.
     Known limitations:
         Net assignment comes from the board's connectivity; copper whose net could not be found
-        counts as floating.
+        counts as floating.  Boards without net names (no X2 net attributes, no IPC-D-356) get one
+        note instead.
     Example:
         A leftover copper square 3 mm from a button.
     Fix:
@@ -150,6 +151,11 @@ class FloatingCopper(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        if design.board.net_source == "geometry":
+            raise MissingInput(
+                "the board carries no net names, so unconnected copper cannot be told from unnamed nets",
+                "export Gerber X2 with net attributes (.N) or an IPC-D-356 netlist with the fabrication files",
+            )
         for s in design.sensors:
             near = s.outline.buffer(params["distance_mm"])
             for lay in design.board.copper_layers():

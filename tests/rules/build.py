@@ -114,7 +114,7 @@ def make_board(shapes: Iterable[Shape], *, holes: Sequence[Hole] = (), outline: 
             lay.by_net = {n: shapely.union_all(g) for n, g in nets.items()}
         layers.append(lay)
     return Board(name="test-board", source="memory", layers=layers, holes=list(holes), outline=outline,
-                 stackup=stackup if stackup is not None else stackup_2layer())
+                 stackup=stackup if stackup is not None else stackup_2layer(), net_source="x2")
 
 
 def via(x: float, y: float, d: float = 0.3, net: str | None = None, function: str | None = "via", plated: bool | None = True) -> Hole:

@@ -40,6 +40,15 @@ def test_floating_copper(distance: float, warn: bool) -> None:
         assert found[0].value == pytest.approx(distance)
 
 
+def test_floating_copper_needs_net_names() -> None:
+    from sensorcheck.rules.engine import run_rules
+
+    d = button(region("top-copper", box(9, -1, 11, 1), None))
+    d.board.net_source = "geometry"  # no X2 nets, no IPC-D-356: every island is unnamed
+    (f,) = [f for f in run_rules(d).findings if f.rule_id == "fab.floating-copper"]
+    assert f.severity == "note" and "IPC-D-356" in f.message
+
+
 @pytest.mark.parametrize("distance, warn", [(4.0, True), (20.0, False)])
 def test_copper_balancing(distance: float, warn: bool) -> None:
     dots = region("top-copper", box(6 + distance, 0, 7 + distance, 1), None, aperture_function="CopperBalancing")
