@@ -15,7 +15,6 @@ from sensorcheck.rules.common import (
     REFERENCE_ROLES,
     SELF_KINDS,
     aggressor_kind,
-    copper,
     finding,
     fmt,
     hole_nets,
