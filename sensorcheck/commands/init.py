@@ -59,6 +59,11 @@ GUESSES: tuple[Guess, ...] = (
           "TX in the name: a mutual-capacitance transmitter"),
     Guess("receiver", r"^C?RX[_\-]?[A-Z]?[0-9]*$|^[A-Z0-9]+[_\-]RX[0-9]*$|^(SNS|SENSE)[_\-]?[0-9]+$",
           "RX in the name: a mutual-capacitance receiver"),
+    Guess("self", r"(PROX|HANDSENSE|HAND_SENSE|PRESENCE)", "a proximity (hand-sense) electrode by name"),
+    Guess("transmitter", r"^(COL|COLUMN|C)[_\-]?[0-9]+$", "columns of a key matrix are often strobed (TX); "
+          "could be the other way round"),
+    Guess("receiver", r"^(ROW|R)[_\-]?[0-9]+$", "rows of a key matrix are often sensed (RX); could be the "
+          "other way round"),
     Guess("transmitter", r"^X[_\-]?[0-9]+$", "X lines of a touchpad are often driven (rows as TX); could be the "
           "other way round"),
     Guess("receiver", r"^Y[_\-]?[0-9]+$", "Y lines of a touchpad are often sensed (columns as RX); could be the "

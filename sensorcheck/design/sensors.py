@@ -44,11 +44,11 @@ import difflib
 import math
 import re
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import shapely
-from shapely.geometry import Polygon
+from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Board, Feature, Layer
@@ -63,6 +63,8 @@ FACING_GAP_MM = 1.5  # widest TX-RX gap looked at on one layer (vendor guidance 
 CROSS_LAYER_GAP_MM = 1.0  # sideways reach for TX on another layer under RX
 NODE_CORE_RADIUS_MM = 1.75  # a node's filled facing region holds a 3.5 mm disc
 CLUSTER_MERGE_MM = 1.0  # facing-region pieces this close belong to one node
+DETECT_TOLERANCE_MM = 0.02  # outline simplification for node detection only (electrodes keep exact copper)
+MIN_NODE_COPPER_MM2 = 4.0  # a node has at least this much TX and this much RX copper in its footprint
 MATRIX_TOUCH_MM = 1.0  # node footprints this close belong to one matrix
 SEGMENT_GAP_MAX_MM = 3.0  # slider/wheel neighbours are at most this far apart edge to edge
 LINE_TOLERANCE = 0.15  # collinear: largest off-line distance / length along the line
@@ -71,6 +73,12 @@ CIRCLE_TOLERANCE = 0.15  # circular: largest radius deviation / radius
 _ROW_COL_PAIRS = {("x", "y"), ("row", "col"), ("row", "column"), ("rows", "cols"), ("r", "c"), ("h", "v")}
 _SLIDER_WORDS = ("SLID", "SLD", "SCROLL")
 _WHEEL_WORDS = ("WHEEL", "WHL", "ROTARY", "ROT")
+_PROXIMITY_WORDS = ("PROX", "HANDSENSE", "HAND_SENSE", "PRESENCE")
+
+
+def _is_proximity_name(name: str) -> bool:
+    up = name.upper()
+    return any(w in up for w in _PROXIMITY_WORDS)
 
 
 def _empty() -> BaseGeometry:
@@ -94,7 +102,13 @@ def _polys(geom: BaseGeometry) -> list[Polygon]:
 
 
 def _area_only(geom: BaseGeometry) -> BaseGeometry:
-    return _union(_polys(geom))
+    """The polygonal part of ``geom`` (results of overlay operations: pieces never overlap)."""
+    if isinstance(geom, (Polygon, MultiPolygon)):
+        return geom
+    polys = _polys(geom)
+    if not polys:
+        return _empty()
+    return polys[0] if len(polys) == 1 else MultiPolygon(polys)
 
 
 def stem_of(net: str) -> str | None:
@@ -218,50 +232,152 @@ class Node:
     footprint: BaseGeometry  # where the node's electrodes are taken from
 
 
+def _short_side(geom: BaseGeometry) -> float:
+    """The shorter side of the minimum rotated rectangle around ``geom`` (0 for lines and points)."""
+    rect = geom.minimum_rotated_rectangle
+    if not isinstance(rect, Polygon):
+        return 0.0
+    xs, ys = rect.exterior.coords.xy
+    return min(math.hypot(xs[1] - xs[0], ys[1] - ys[0]), math.hypot(xs[2] - xs[1], ys[2] - ys[1]))
+
+
+def _cluster_pieces(pieces: Sequence[BaseGeometry], distance_mm: float) -> list[list[int]]:
+    """Indices of pieces linked by gaps of at most ``distance_mm``, cluster by cluster."""
+    parent = list(range(len(pieces)))
+
+    def find(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    if len(pieces) > 1:
+        tree = shapely.STRtree(list(pieces))
+        for i, p in enumerate(pieces):
+            for j in tree.query(p, predicate="dwithin", distance=distance_mm):
+                parent[find(i)] = find(int(j))
+    groups: dict[int, list[int]] = {}
+    for i in range(len(pieces)):
+        groups.setdefault(find(i), []).append(i)
+    return sorted(groups.values(), key=min)
+
+
 def _short_core(fill: BaseGeometry) -> bool:
-    return not fill.buffer(-NODE_CORE_RADIUS_MM, quad_segs=4).is_empty
+    """Does ``fill`` hold a disc of radius NODE_CORE_RADIUS_MM (to within the detection tolerance)?"""
+    if _short_side(fill) < 2 * NODE_CORE_RADIUS_MM:
+        return False
+    coarse = fill.simplify(DETECT_TOLERANCE_MM)
+    return not coarse.buffer(-NODE_CORE_RADIUS_MM, quad_segs=2).is_empty
 
 
-def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float) -> list[BaseGeometry]:
-    """Footprints where ``tx_geom`` and ``rx_geom`` (projected onto one plane) form a node."""
-    tx_geom = _area_only(tx_geom)
-    rx_geom = _area_only(rx_geom)
-    if tx_geom.is_empty or rx_geom.is_empty or tx_geom.distance(rx_geom) > gap_mm:
+def _window(a: BaseGeometry, b: BaseGeometry, grow: float) -> tuple[float, float, float, float] | None:
+    ax0, ay0, ax1, ay1 = a.bounds
+    bx0, by0, bx1, by1 = b.bounds
+    x0, y0 = max(ax0, bx0) - grow, max(ay0, by0) - grow
+    x1, y1 = min(ax1, bx1) + grow, min(ay1, by1) + grow
+    return (x0, y0, x1, y1) if x0 <= x1 and y0 <= y1 else None
+
+
+def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
+                 tx_buffer: BaseGeometry | None = None, rx_buffer: BaseGeometry | None = None) -> list[BaseGeometry]:
+    """Footprints where ``tx_geom`` and ``rx_geom`` (projected onto one plane) form a node.
+
+    Both (and their buffers by the gap, when the caller has them) are clipped to where their
+    boxes overlap before anything else, so a long TX line crossing many RX lines costs only
+    its crossings.
+    """
+    if tx_geom.is_empty or rx_geom.is_empty:
         return []
-    region = _area_only(tx_geom.buffer(gap_mm, quad_segs=4).intersection(rx_geom.buffer(gap_mm, quad_segs=4)))
+    win = _window(tx_geom, rx_geom, gap_mm)
+    if win is None:
+        return []
+    x0, y0, x1, y1 = win
+    big = 4 * gap_mm + 2 * NODE_CORE_RADIUS_MM
+    box_ = (x0 - big, y0 - big, x1 + big, y1 + big)
+    tx_c = _area_only(shapely.clip_by_rect(tx_geom, *box_))
+    rx_c = _area_only(shapely.clip_by_rect(rx_geom, *box_))
+    if tx_c.is_empty or rx_c.is_empty or not shapely.dwithin(tx_c, rx_c, gap_mm):
+        return []
+    tb = shapely.clip_by_rect(tx_buffer, *box_) if tx_buffer is not None else tx_c.buffer(gap_mm, quad_segs=4)
+    rb = shapely.clip_by_rect(rx_buffer, *box_) if rx_buffer is not None else rx_c.buffer(gap_mm, quad_segs=4)
+    region = _area_only(tb.intersection(rb))
     if region.is_empty:
         return []
     pieces = _polys(region)
-    clusters = _polys(_union(p.buffer(CLUSTER_MERGE_MM / 2, quad_segs=2) for p in pieces))
     out: list[BaseGeometry] = []
-    copper = _union([tx_geom, rx_geom])
-    for c in clusters:
-        mine = _union(p for p in pieces if p.intersects(c))
+    copper: BaseGeometry | None = None
+    for members in _cluster_pieces(pieces, CLUSTER_MERGE_MM):
+        mine = _union(pieces[i] for i in members)
         hull = mine.convex_hull
+        if _short_side(hull) < 2 * NODE_CORE_RADIUS_MM:
+            continue  # the filled region lies inside the hull: no room for the core disc
+        if copper is None:
+            copper = _union([tx_c, rx_c])
         fill = _union([mine, _area_only(copper.intersection(hull))])
-        if _short_core(fill):
-            out.append(hull.buffer(gap_mm, quad_segs=4))
+        if not _short_core(fill):
+            continue
+        footprint = hull.buffer(gap_mm, quad_segs=4)
+        if (tx_c.intersection(footprint).area < MIN_NODE_COPPER_MM2
+                or rx_c.intersection(footprint).area < MIN_NODE_COPPER_MM2):
+            continue
+        out.append(footprint)
     return out
 
 
-def find_nodes(board: Board, tx_nets: Sequence[str], rx_nets: Sequence[str]) -> list[Node]:
-    """Every TX-RX node in the copper (same layer, or TX on another layer under RX)."""
+@dataclass(slots=True)
+class NodeCache:
+    """What node detection computed on one board: per-pair nodes, simplified copper, gap buffers."""
+
+    pairs: dict[tuple[str, str], list[Node]] = field(default_factory=dict)
+    geo: dict[tuple[str, str], BaseGeometry | None] = field(default_factory=dict)
+    buffers: dict[tuple[str, str, float], BaseGeometry] = field(default_factory=dict)
+
+
+def find_nodes(board: Board, tx_nets: Sequence[str], rx_nets: Sequence[str],
+               cache: NodeCache | None = None) -> list[Node]:
+    """Every TX-RX node in the copper (same layer, or TX on another layer under RX).
+
+    Detection works on outlines simplified to :data:`DETECT_TOLERANCE_MM` (arcs come finely
+    flattened); electrodes are cut from the exact copper afterwards.  ``cache`` keeps work
+    between calls on the same board."""
+    c = cache if cache is not None else NodeCache()
     layers = board.copper_layers()
-    nodes: list[Node] = []
+
+    def geo(net: str, layer: Layer) -> BaseGeometry | None:
+        key = (net, layer.name)
+        if key not in c.geo:
+            g = layer.by_net.get(net)
+            c.geo[key] = None if g is None or g.is_empty else _area_only(g).simplify(DETECT_TOLERANCE_MM)
+        return c.geo[key]
+
+    def buf(net: str, layer: str, gap: float) -> BaseGeometry:
+        key = (net, layer, gap)
+        if key not in c.buffers:
+            g = c.geo[(net, layer)]
+            assert g is not None
+            c.buffers[key] = g.buffer(gap, quad_segs=2)
+        return c.buffers[key]
+
     for rx in rx_nets:
-        for rl in layers:
-            rg = rl.by_net.get(rx)
-            if rg is None or rg.is_empty:
+        for tx in tx_nets:
+            if (tx, rx) in c.pairs:
                 continue
-            for tx in tx_nets:
+            found: list[Node] = []
+            for rl in layers:
+                rg = geo(rx, rl)
+                if rg is None:
+                    continue
                 for tl in layers:
-                    tg = tl.by_net.get(tx)
-                    if tg is None or tg.is_empty:
+                    tg = geo(tx, tl)
+                    if tg is None:
                         continue
                     gap = FACING_GAP_MM if tl is rl else CROSS_LAYER_GAP_MM
-                    for fp in facing_nodes(tg, rg, gap):
-                        nodes.append(Node(tx=tx, rx=rx, tx_layer=tl.name, rx_layer=rl.name, footprint=fp))
-    return _merge_same_pair(nodes)
+                    if _window(tg, rg, gap) is None or not shapely.dwithin(tg, rg, gap):
+                        continue
+                    for fp in facing_nodes(tg, rg, gap, buf(tx, tl.name, gap), buf(rx, rl.name, gap)):
+                        found.append(Node(tx=tx, rx=rx, tx_layer=tl.name, rx_layer=rl.name, footprint=fp))
+            c.pairs[(tx, rx)] = _merge_same_pair(found)
+    return [n for rx in rx_nets for tx in tx_nets for n in c.pairs[(tx, rx)]]
 
 
 def _merge_same_pair(nodes: list[Node]) -> list[Node]:
@@ -414,7 +530,7 @@ def _row_col_match(a: str, b: str) -> bool:
     while i < min(len(a), len(b)) and a[i] == b[i]:
         i += 1
     ra, rb = a[i:].lower().strip("_-."), b[i:].lower().strip("_-.")
-    return (ra, rb) in _ROW_COL_PAIRS
+    return (ra, rb) in _ROW_COL_PAIRS or (rb, ra) in _ROW_COL_PAIRS
 
 
 def build_design(board: Board, config: Config) -> Design:
@@ -428,6 +544,7 @@ def build_design(board: Board, config: Config) -> Design:
     face_order = [la.name for la in face_layers(board, face)]
     board_nets = set(board.net_names())
     used: set[str] = set()
+    memo = NodeCache()
 
     if not board.copper_layers():
         notes.append("the board has no copper layers: no sensors")
@@ -443,13 +560,13 @@ def build_design(board: Board, config: Config) -> Design:
     for role_a, role_b in (("transmitter", "receiver"), ("self", "self")):
         a_nets = [n for n, (r, _) in roles.items() if r == role_a and n not in used]
         b_nets = [n for n, (r, _) in roles.items() if r == role_b and n not in used]
-        sensors.extend(_name_matrices(board, a_nets, b_nets, roles, margin, face, face_order, used))
+        sensors.extend(_name_matrices(board, a_nets, b_nets, roles, margin, face, face_order, used, memo))
 
     # 4. mutual nodes from geometry
     tx_nets = sorted((n for n, (r, _) in roles.items() if r == "transmitter" and n not in used), key=natural_key)
     rx_nets = sorted((n for n, (r, _) in roles.items() if r == "receiver" and n not in used), key=natural_key)
     if tx_nets and rx_nets:
-        sensors.extend(_geometry_mutual(board, tx_nets, rx_nets, ra.sensor_of, margin, face_order, used, notes))
+        sensors.extend(_geometry_mutual(board, tx_nets, rx_nets, ra.sensor_of, margin, face_order, used, notes, memo))
     for n in [*tx_nets, *rx_nets]:
         if n not in used:
             notes.append(f"net {n} ({roles[n][0]}) faces no {'receiver' if roles[n][0] == 'transmitter' else 'transmitter'}"
@@ -551,7 +668,7 @@ def _add_electrode(electrodes: list[Electrode], e: Electrode) -> None:
 
 
 def _name_matrices(board: Board, a_nets: list[str], b_nets: list[str], roles: dict, margin: float, face: str,
-                   face_order: list[str], used: set[str]) -> list[Sensor]:
+                   face_order: list[str], used: set[str], memo: NodeCache) -> list[Sensor]:
     out: list[Sensor] = []
     by_stem_a: dict[str, list[str]] = {}
     by_stem_b: dict[str, list[str]] = {}
@@ -569,6 +686,8 @@ def _name_matrices(board: Board, a_nets: list[str], b_nets: list[str], roles: di
             cols = sorted((n for n in by_stem_b[sb] if n not in used), key=natural_key)
             if len(rows) < 2 or len(cols) < 2:
                 continue
+            if roles[rows[0]][0] == "transmitter" and len(cluster_nodes(find_nodes(board, rows, cols, memo))) > 1:
+                continue  # separate keys scanned as a matrix: the geometry step makes them mutual nodes
             electrodes = [e for n in (*rows, *cols) if (e := whole_net_electrode(board, n, roles[n][0], face))]
             name = f"{sa}/{sb} matrix"
             out.append(_make_sensor(name, "matrix", electrodes, margin, "roles", face_order, rows=rows, columns=cols))
@@ -576,12 +695,8 @@ def _name_matrices(board: Board, a_nets: list[str], b_nets: list[str], roles: di
     return out
 
 
-def _geometry_mutual(board: Board, tx_nets: list[str], rx_nets: list[str], sensor_of: dict[str, str], margin: float,
-                     face_order: list[str], used: set[str], notes: list[str]) -> list[Sensor]:
-    nodes = find_nodes(board, tx_nets, rx_nets)
-    if not nodes:
-        return []
-    # nodes whose footprints touch form clusters; a cluster with >= 2 TX and >= 2 RX nets is a matrix
+def cluster_nodes(nodes: Sequence[Node]) -> list[list[int]]:
+    """Indices of nodes whose footprints touch (within :data:`MATRIX_TOUCH_MM`), cluster by cluster."""
     parent = list(range(len(nodes)))
 
     def find(i: int) -> int:
@@ -590,6 +705,8 @@ def _geometry_mutual(board: Board, tx_nets: list[str], rx_nets: list[str], senso
             i = parent[i]
         return i
 
+    if not nodes:
+        return []
     fps = [nd.footprint for nd in nodes]
     tree = shapely.STRtree(fps)
     for i, fp in enumerate(fps):
@@ -598,9 +715,18 @@ def _geometry_mutual(board: Board, tx_nets: list[str], rx_nets: list[str], senso
     clusters: dict[int, list[int]] = {}
     for i in range(len(nodes)):
         clusters.setdefault(find(i), []).append(i)
+    return sorted(clusters.values(), key=min)
+
+
+def _geometry_mutual(board: Board, tx_nets: list[str], rx_nets: list[str], sensor_of: dict[str, str], margin: float,
+                     face_order: list[str], used: set[str], notes: list[str],
+                     memo: NodeCache) -> list[Sensor]:
+    nodes = find_nodes(board, tx_nets, rx_nets, memo)
+    if not nodes:
+        return []
     out: list[Sensor] = []
     singles: list[Node] = []
-    for idx in sorted(clusters.values(), key=lambda c: min(c)):
+    for idx in cluster_nodes(nodes):
         txs = sorted({nodes[i].tx for i in idx}, key=natural_key)
         rxs = sorted({nodes[i].rx for i in idx}, key=natural_key)
         if not (len(txs) >= 2 and len(rxs) >= 2 and len(idx) >= 4):
@@ -655,7 +781,7 @@ def _self_sensors(board: Board, nets: list[str], sensor_of: dict[str, str], marg
                   face_order: list[str], used: set[str], notes: list[str]) -> list[Sensor]:
     electrodes: dict[str, Electrode] = {}
     for n in nets:
-        e = (whole_net_electrode(board, n, "self", face) if "PROX" in n.upper()
+        e = (whole_net_electrode(board, n, "self", face) if _is_proximity_name(n)
              else self_electrode(board, n, "self", face, notes))
         if e is not None:
             electrodes[n] = e
@@ -684,7 +810,7 @@ def _self_sensors(board: Board, nets: list[str], sensor_of: dict[str, str], marg
         prefer: SensorKind | None = "wheel" if any(w in up for w in _WHEEL_WORDS) else (
             "slider" if any(w in up for w in _SLIDER_WORDS) else None)
         segs = [electrodes[n] for n in members]
-        if "PROX" in up:
+        if _is_proximity_name(up):
             continue
         arr = arrange(segs, require_adjacent=not (named or prefer), prefer=prefer)
         if arr is None:
@@ -703,7 +829,7 @@ def _self_sensors(board: Board, nets: list[str], sensor_of: dict[str, str], marg
     for n in nets:
         if n in grouped or n not in electrodes:
             continue
-        kind: SensorKind = "proximity" if "PROX" in n.upper() else "self-button"
+        kind: SensorKind = "proximity" if _is_proximity_name(n) else "self-button"
         out.append(_make_sensor(sensor_of.get(n, n), kind, [electrodes[n]], margin, "roles", face_order))
     used.update(nets)
     return out
