@@ -95,3 +95,19 @@ def test_cli_init_on_a_real_board(shared_dir: Path, tmp_path: Path) -> None:
     assert config.stackup_override.source == "config"
     assert main(["init", str(fab), "--output", str(out)]) == 2
     assert main(["init", str(fab), "--output", str(out), "--force"]) == 0
+
+
+def test_b04_thirty_six_keys_and_hand_sense(shared_dir: Path, tmp_path: Path) -> None:
+    # designers: "36 capacitive keys scanned as strobed columns and sensed rows, plus a hand-sense
+    # electrode" (two board halves, nets .../c0..c4 and .../r0..r3, .../handsense)
+    d, text = design_from_init(shared_dir, "b04-keys-4layer", tmp_path)
+    keys = [s for s in d.sensors if s.kind == "mutual-node"]
+    assert len(keys) == 36
+    assert not [s for s in d.sensors if s.kind == "matrix"]  # separate keys, not a touchpad
+    # every key pairs one column (TX) with one row (RX) of the same half
+    for k in keys:
+        (tx,) = {e.net for e in k.electrodes_with("transmitter")}
+        (rx,) = {e.net for e in k.electrodes_with("receiver")}
+        assert tx.rsplit("/", 1)[-1].startswith("c") and rx.rsplit("/", 1)[-1].startswith("r")
+        assert tx.rsplit("/", 1)[0] == rx.rsplit("/", 1)[0]
+    assert sorted(s.name.rsplit("/", 1)[-1] for s in d.sensors if s.kind == "proximity") == ["handsense", "handsense"]
