@@ -212,3 +212,28 @@ def test_mutated_drill_files_read_or_raise_input_error(shared_dir: Path, ops: li
         read_excellon(apply(src, ops), "m.drl")
     except InputError as exc:
         assert exc.file == "m.drl" and exc.expected
+
+
+@pytest.mark.parametrize(
+    "drill, copper",
+    [
+        # pcb-tools-resources (Apache-2.0): "M72" only, implied 2.4 format with leading zeros omitted
+        ("pcb-tools-resources/ncdrill.DRD", "pcb-tools-resources/top_copper.GTL"),
+        # tracespace fixtures boards (MIT): three more generators' drill files with their copper
+        ("tracespace-fixtures/boards/8bit-mixtape/mixtape.txt", "tracespace-fixtures/boards/8bit-mixtape/mixtape.gtl"),
+        ("tracespace-fixtures/boards/core/core.TXT", "tracespace-fixtures/boards/core/core.GTL"),
+        ("tracespace-fixtures/boards/usbvil/pic18f14k50.txt", "tracespace-fixtures/boards/usbvil/pic18f14k50.gtl"),
+    ],
+)
+def test_holes_land_on_the_pads_of_the_same_board(shared_dir: Path, drill: str, copper: str) -> None:
+    # the board's own copper (read by the Gerber reader) is the reference for our number formats:
+    # a misread format (LZ for TZ, inch for mm, wrong digits) puts the holes off the pads.
+    # Holes of 3 mm and more are mounting holes that may have no copper; of the rest at least 95 %
+    # must sit on top-layer copper (a few through-hole pads exist only on the bottom).
+    from sensorcheck.fab.gerber import read_gerber
+
+    root = shared_dir / "gerber-suites"
+    dark = read_gerber((root / copper).read_bytes(), copper).dark
+    holes = [h for h in read_excellon((root / drill).read_bytes(), drill).holes if h.diameter_mm < 3.0]
+    on_pads = sum(1 for h in holes if dark.contains(Point(h.x_mm, h.y_mm)))
+    assert len(holes) >= 20 and on_pads >= 0.95 * len(holes)
