@@ -320,12 +320,22 @@ def starter_config(board: Board) -> str:
     by_role: dict[str, list[str]] = {}
     for net in sorted(roles, key=natural_key):
         by_role.setdefault(roles[net][0], []).append(net)
+    segment_groups = _segment_groups(by_role.get("self", []))
     for role in ("transmitter", "receiver", "self", "shield", "guard", "ground"):
         members = by_role.get(role, [])
         if not members:
             continue
         whys = sorted({roles[n][2] for n in members})
         lines.append(f"# REVIEW: {len(members)} net(s): {_comment('; '.join(whys))}")
+        if role == "self" and segment_groups:
+            grouped = {n for _, _, ms in segment_groups for n in ms}
+            items = [_q(p) for p in _patterns([n for n in members if n not in grouped], nets)]
+            for name, kind, ms in segment_groups:
+                lines.append(f"# REVIEW: {', '.join(ms)}: one {kind} by name ('{name}'); its segments are "
+                             "ordered by their position on the board")
+                items += [f"{{pattern = {_q(p)}, sensor = {_q(name)}}}" for p in _patterns(ms, nets)]
+            lines.append(f"self = [{', '.join(items)}]")
+            continue
         lines.append(f"{role} = [{', '.join(_q(p) for p in _patterns(members, nets))}]")
     agg = by_role.get("aggressor", [])
     if agg:
@@ -375,7 +385,6 @@ def starter_config(board: Board) -> str:
         '# sensor = "B1"',
         "",
     ]
-    lines += _group_lines(by_role.get("self", []))
     lines += [
         "[finger]",
         "# REVIEW: a battery product on a table couples weakly to earth: give device_ground in pF",
@@ -403,27 +412,20 @@ def face_layer_name(board: Board, face: str) -> str:
     return cu[0].name if face == "top" else cu[-1].name
 
 
-def _group_lines(self_nets: list[str]) -> list[str]:
-    """[[sensors]] groups for self nets whose stem says slider or wheel (ordered by name)."""
+def _segment_groups(self_nets: list[str]) -> list[tuple[str, str, list[str]]]:
+    """(sensor name, kind, nets) for self nets whose name stem says slider or wheel."""
     stems: dict[str, list[str]] = {}
     for n in self_nets:
-        s = _stem(n)
-        if s is not None and re.search(r"SLID|SLD|WHEEL|WHL|SCROLL", s.upper()):
-            stems.setdefault(s, []).append(n)
-    out: list[str] = []
-    for s, members in sorted(stems.items()):
-        kind = "wheel" if re.search(r"WHEEL|WHL", s.upper()) else "slider"
+        st = _stem(n)
+        if st is not None and re.search(r"SLID|SLD|WHEEL|WHL|SCROLL", st.upper()):
+            stems.setdefault(st, []).append(n)
+    out: list[tuple[str, str, list[str]]] = []
+    for st, members in sorted(stems.items()):
+        kind = "wheel" if re.search(r"WHEEL|WHL", st.upper()) else "slider"
         if len(members) < (3 if kind == "wheel" else 2):
             continue
-        members = sorted(members, key=natural_key)
-        out += [
-            f"# REVIEW: a {kind} by name, segments in name order: check they run in this order on the board",
-            "[[sensors]]",
-            f"name = {_q(s.lower().strip('_-.') or kind)}",
-            f"kind = {_q(kind)}",
-            f"nets = [{', '.join(_q(n) for n in members)}]",
-            "",
-        ]
+        name = st.rsplit("/", 1)[-1].lower().strip("_-.") or kind
+        out.append((name, kind, sorted(members, key=natural_key)))
     return out
 
 
