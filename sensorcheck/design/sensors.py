@@ -632,10 +632,12 @@ def _group_sensor(board: Board, g: SensorGroup, roles: dict, margin: float, face
                     electrodes.append(e)
         return _make_sensor(g.name, "matrix", electrodes, margin, "group", face_order, rows=g.rows, columns=g.columns)
     # mutual-node, or a mutual slider/wheel (tx segments in order + rx)
-    for net in g.tx:
-        roles.setdefault(net, ("transmitter", None))
-    for net in g.rx:
-        roles.setdefault(net, ("receiver", None))
+    for nets, role in ((g.tx, "transmitter"), (g.rx, "receiver")):
+        for net in nets:
+            if net in roles and roles[net][0] != role:
+                notes.append(f"sensor '{g.name}' uses net {net} as {role}; its role {roles[net][0]} from [roles] "
+                             "gives way to the group")
+            roles[net] = (role, None)  # type: ignore[assignment]
     nodes = find_nodes(board, list(g.tx), list(g.rx))
     if nodes:
         for nd in nodes:

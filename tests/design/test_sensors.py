@@ -403,3 +403,25 @@ def test_thin_teeth_of_a_pad_stay_with_the_electrode() -> None:
     electrode, rest = split_electrode(layer, "T0")
     assert electrode.area == pytest.approx(40 + 5 * 0.4 * 6, rel=1e-6)  # body + teeth
     assert rest.area == pytest.approx(20 * 0.4, rel=0.02)  # the draw outside the pad (its round cap inside)
+
+
+def test_mutual_group_names_the_node_and_overrides_roles() -> None:
+    c = cfg(self=["*X1"])  # a wrong guess the group corrects
+    c.groups = [SensorGroup(name="K1", kind="mutual-node", tx=("TX1",), rx=("RX1",))]
+    d = build_design(ring_board(), c)
+    k1 = [s for s in d.sensors if s.name == "K1"]
+    assert len(k1) == 1 and k1[0].kind == "mutual-node" and k1[0].how_found == "group"
+    assert d.roles["TX1"][0] == "transmitter" and d.roles["RX1"][0] == "receiver"
+    assert any("gives way to the group" in n for n in d.notes)
+    # the group's RX electrode is the disc, as found from the roles (test_tx_ring_around_rx_disc)
+    (rxe,) = k1[0].electrodes_with("receiver")
+    assert rxe.geometry.contains(disc(0, 0, 3.99))
+
+
+def test_proximity_group_takes_the_whole_net() -> None:
+    loop = box(0, 0, 40, 20).difference(box(0.5, 0.5, 39.5, 19.5))
+    c = cfg()
+    c.groups = [SensorGroup(name="hand", kind="proximity", nets=("LOOP",))]
+    (s,) = build_design(make_board({"top-copper": {"LOOP": loop}}), c).sensors
+    assert (s.name, s.kind) == ("hand", "proximity")
+    assert s.electrodes[0].geometry.area == pytest.approx(40 * 20 - 39 * 19)
