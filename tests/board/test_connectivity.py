@@ -114,3 +114,24 @@ def test_assign_nets_without_copper_is_harmless() -> None:
 
     board = Board(name="x", source="x")
     assert assign_nets(board) == [] and board.net_source == "geometry"
+
+
+def test_plated_holes_join_exactly_the_copper_of_one_x2_net_on_a_4_layer_board(shared_dir: Path) -> None:
+    # corpus b02 (KiCad 7, 4 layers, X2 nets on every object): the generator's nets are the
+    # reference. Connectivity (islands joined through plated holes on all four layers) must never
+    # put two X2 nets in one group (that would be a short we invented) and must never leave one
+    # X2 net in two groups (a via we failed to follow through the inner layers).
+    board = load_board(shared_dir / "corpus/b02-buttons-4layer/fab")
+    x2 = {layer.name: images_by_net(layer.features) for layer in board.copper_layers()}
+    islands = name_islands(board, x2, use_x2=True)
+    nets_of_group: dict[int, set[str]] = {}
+    groups_of_net: dict[str, set[int]] = {}
+    for isl in islands:
+        if isl.source == "x2" and isl.name:
+            nets_of_group.setdefault(isl.group, set()).add(isl.name)
+            groups_of_net.setdefault(isl.name, set()).add(isl.group)
+    assert len(islands) > 300 and len(groups_of_net) > 100
+    assert [n for n in nets_of_group.values() if len(n) > 1] == []
+    assert {n: g for n, g in groups_of_net.items() if len(g) > 1} == {}
+    inner = {isl.layer for isl in islands if isl.layer.startswith("inner")}
+    assert inner == {"inner1-copper", "inner2-copper"}
