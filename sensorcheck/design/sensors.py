@@ -621,7 +621,8 @@ def _group_sensor(board: Board, g: SensorGroup, roles: dict, margin: float, face
                 if not same and pos[::-1] != listed and not (g.kind == "wheel" and _cyclic_equal(pos[::-1], listed)):
                     notes.append(f"sensor '{g.name}': the segments are listed as {', '.join(listed)} but lie in the "
                                  f"order {', '.join(pos)} on the board")
-        return _make_sensor(g.name, g.kind, electrodes, margin, "group", face_order, order=g.nets)
+        order = g.nets if g.kind in ("slider", "wheel") else ()
+        return _make_sensor(g.name, g.kind, electrodes, margin, "group", face_order, order=order)
     if g.kind == "matrix":
         for fld, default in (("rows", "transmitter"), ("columns", "receiver")):
             for net in getattr(g, fld):
