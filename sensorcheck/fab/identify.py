@@ -317,15 +317,39 @@ _BOTTOM_WORDS = {"bottom", "bot", "back", "b", "sol"}
 _INNER_WORDS = {"in", "inner", "inr", "internal", "internalplane", "mid", "midlayer", "ly", "plane", "group"}
 
 
+_FUNCTION_WORDS = _PASTE_WORDS | _MASK_WORDS | _SILK_WORDS | _COPPER_WORDS | {"solder", "screen", "cream"}
+_TOP_STRONG = {"top", "front", "cmp", "component", "toplayer"}
+_BOTTOM_STRONG = {"bottom", "bot", "back", "sol", "bottomlayer"}
+
+
+def _side_of(token: str) -> Side | None:
+    if token in _TOP_WORDS or token == "toplayer":
+        return "top"
+    if token in _BOTTOM_WORDS or token == "bottomlayer":
+        return "bottom"
+    return None
+
+
 def _side_from_tokens(tokens: list[str]) -> tuple[Side | None, int | None]:
+    """Side (and inner-layer number) from the words of a name.
+
+    A side word right next to a function word wins ("F_Cu", "MaskTop", "tcream"); then a whole
+    side word anywhere ("board.top.gbr"); single letters elsewhere in a project name do not count.
+    """
     for i, t in enumerate(tokens):
         nxt = tokens[i + 1] if i + 1 < len(tokens) else ""
         if t in _INNER_WORDS and nxt.isdigit():
             return "inner", int(nxt)
-    if any(t in _TOP_WORDS for t in tokens) or "toplayer" in tokens:
-        return "top", None
-    if any(t in _BOTTOM_WORDS for t in tokens) or "bottomlayer" in tokens:
-        return "bottom", None
+    for i, t in enumerate(tokens):
+        if t in _FUNCTION_WORDS:
+            for j in (i - 1, i + 1):
+                if 0 <= j < len(tokens) and _side_of(tokens[j]):
+                    return _side_of(tokens[j]), None
+    for t in reversed(tokens):
+        if t in _TOP_STRONG:
+            return "top", None
+        if t in _BOTTOM_STRONG:
+            return "bottom", None
     return None, None
 
 
@@ -353,7 +377,6 @@ def identify_name(name: str) -> Identification:
             side = "bottom"
         return Identification(name, "components", "pnp", None, side, "filename")
     toks = _tokens(stem)
-    # "board.bottom_copper.gbr": the final "gbr" says nothing, the words before it do
     if ext_l in _NOT_FAB_EXT:
         return Identification(name, None, None, identified_by="filename",
                               note=f"not fabrication data ({_NOT_FAB_EXT[ext_l]})")
@@ -361,7 +384,6 @@ def identify_name(name: str) -> Identification:
         if set(toks) & {"pos", "pnp", "centroid", "placement", "pick", "place", "xy", "cpl", "positions"}:
             return Identification(name, "components", "pnp", None, "both", "filename")
         return Identification(name, None, None, identified_by="filename", note="CSV file (not a placement file by its name)")
-    words = toks if ext_l in _GENERIC_EXT or not ext_l else toks + _tokens(ext_l)
 
     def layer_ident(role: LayerFunction, side: Side | None, number: int | None = None) -> Identification:
         if role in ("mask", "silk", "paste"):

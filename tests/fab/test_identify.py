@@ -147,6 +147,10 @@ def test_inner_layer_numbers_from_names() -> None:
         ("CADCAM Top SMT Paste.GBR", ("paste", "top")),  # Proteus
         ("board.GP1", ("copper", "inner")),  # Altium internal plane 1
         ("board-NPTH.drl", ("drill", "both")),
+        ("SOLDERMASK_TOP.art", ("mask", "top")),  # OrCAD/Allegro artwork names (from memory)
+        ("PASTEMASK_BOTTOM.art", ("paste", "bottom")),  # Allegro: "paste mask" is paste
+        ("x-t-B_Cu.gbr", ("copper", "bottom")),  # a one-letter project-name word is not a side
+        ("my-b-board-F_Mask.gbr", ("mask", "top")),
     ],
 )
 def test_more_eda_conventions(name: str, expected: tuple) -> None:
