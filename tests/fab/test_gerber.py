@@ -248,3 +248,31 @@ def test_inconsistent_arc_is_flagged() -> None:
     body = "%ADD10C,0.1*%\nD10*\nG75*\nG03*\nX0Y0D02*\nX3000000Y0I1000000J0D01*\n"
     got = read_gerber(gbr(body), "a.gbr")
     assert any("arc radii differ" in w and "a.gbr:8" in w for w in got.warnings)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.tuples(st.sampled_from(["D", "C"]), st.sampled_from(["A", "B", ""]),
+                          st.integers(0, 8), st.integers(0, 8), st.sampled_from(["10", "11"])),
+                min_size=1, max_size=25))
+def test_polarity_matches_painting_in_file_order(objects: list[tuple[str, str, int, int, str]]) -> None:
+    # spec section 4.9.2: objects are painted in file order, dark paints, clear erases, so a point
+    # is dark when the last object over it is dark. Painted naively here, one object at a time.
+    body = "%ADD10R,3X2*%\n%ADD11C,2.5*%\n"
+    for pol, net, x, y, ap in objects:
+        body += f"%LP{pol}*%\n" + (f"%TO.N,{net}*%\n" if net else "") + f"D{ap}*\nX{mm(x)}Y{mm(y)}D03*\n%TD*%\n"
+    got = read_gerber(gbr(body), "r.gbr")
+    painted: dict[str | None, object] = {}
+    whole = shapely.Polygon()
+    for f in got.features:
+        if f.polarity == "dark":
+            whole = whole.union(f.geometry)
+            painted[f.net] = shapely.union(painted.get(f.net, shapely.Polygon()), f.geometry)
+        else:
+            whole = whole.difference(f.geometry)
+            painted = {k: shapely.difference(v, f.geometry) for k, v in painted.items()}
+    assert got.dark is not None
+    assert got.dark.symmetric_difference(whole).area < 1e-9
+    nets = images_by_net(got.features)
+    assert set(nets) == {k for k, v in painted.items() if not v.is_empty}  # type: ignore[attr-defined]
+    for key, image in nets.items():
+        assert image.symmetric_difference(painted[key]).area < 1e-9  # type: ignore[arg-type]
