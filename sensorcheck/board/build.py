@@ -26,17 +26,7 @@ from shapely.geometry.base import BaseGeometry
 from shapely.ops import polygonize, unary_union
 
 from sensorcheck.board.connectivity import assign_nets
-from sensorcheck.board.model import (
-    Board,
-    Component,
-    FileInfo,
-    Hole,
-    Layer,
-    NetPoint,
-    SourceRef,
-    Stackup,
-    StackupLayer,
-)
+from sensorcheck.board.model import Board, Feature, FileInfo, Hole, Layer, Stackup, StackupLayer
 from sensorcheck.errors import InputError, SensorcheckError
 from sensorcheck.fab.archive import InputFile, open_input, read_bytes, read_head, safe_name
 from sensorcheck.fab.identify import Identification, check_layer_map, identify, job_file_functions, sniff
@@ -216,7 +206,7 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
     seen_content: dict[tuple[str, str], str] = {}
     copper: list[tuple[Identification, Layer]] = []
     others: list[Layer] = []
-    x2_images: dict[str, dict[str | None, BaseGeometry]] = {}
+    x2_images: dict[int, dict[str | None, BaseGeometry]] = {}  # id(layer) -> X2 per-net images
     drill_holes: dict[str, list[Hole]] = {}
     outline_src: tuple[str, list[BaseGeometry], BaseGeometry | None] | None = None
     for f in files:
@@ -249,7 +239,7 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
                     info.note = "; ".join([*( [info.note] if info.note else []), *g.warnings[:3]])
                 if ident.role == "copper":
                     copper.append((ident, layer))
-                    x2_images[id(layer).__str__()] = g.by_net  # re-keyed by layer name after ordering
+                    x2_images[id(layer)] = g.by_net  # keyed by layer name once the stack is ordered
                 else:
                     if ident.role == "outline":
                         outline_src = (shown, [ft.path if ft.path is not None else ft.geometry.boundary for ft in g.features], g.dark)
@@ -319,7 +309,7 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
         claimed[name] = layer.file
         layer.name, layer.copper_index = name, cidx
         info.layer = name
-        x2_by_name[name] = x2_images[str(id(layer))]
+        x2_by_name[name] = x2_images[id(layer)]
         board.layers.append(layer)
     for layer in others:
         info = infos[_key_of(infos, layer.file)]
@@ -363,7 +353,7 @@ def _key_of(infos: dict[str, FileInfo], shown: str) -> str:
     raise KeyError(shown)
 
 
-def _holes_from_gerber(features, plated: bool | None, name: str) -> list[Hole]:  # type: ignore[no-untyped-def]
+def _holes_from_gerber(features: list[Feature], plated: bool | None, name: str) -> list[Hole]:
     """Holes of an X2 drill file written in Gerber: each flash's extent is its diameter."""
     holes: list[Hole] = []
     for ft in features:
