@@ -43,16 +43,13 @@ class MeshSpec:
 
 
 def _quad_or_tris(piece: Polygon) -> list[np.ndarray]:
-    """One convex panel of <= 6 corners, or triangles."""
+    """One panel of <= 6 corners (its centroid inside it), or triangles."""
     if piece.is_empty or piece.area <= 0:
         return []
-    piece = shapely.orient_polygons(piece) if hasattr(shapely, "orient_polygons") else shapely.geometry.polygon.orient(piece)
+    piece = shapely.orient_polygons(piece)
     coords = np.asarray(piece.exterior.coords)[:-1]
     if not piece.interiors and 3 <= len(coords) <= 6:
-        if len(coords) == 3:
-            return [coords]
-        hull = piece.convex_hull
-        if abs(hull.area - piece.area) <= 1e-12 * max(piece.area, 1e-300) + 1e-15 * hull.area:
+        if len(coords) == 3 or piece.contains(piece.centroid):
             return [coords]
     tris = shapely.constrained_delaunay_triangles(piece)
     out = []
@@ -161,10 +158,12 @@ def flat_panels(
     spec: MeshSpec,
     scale: float = 1.0,
     h_max_at: Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]] | None = None,
+    band_zone: BaseGeometry | None = None,
+    banded: bool = True,
 ) -> np.ndarray:
     """Panels of a horizontal conductor at height z (geometry and ``h_max_at`` in units of ``scale`` metres)."""
     spec_units = MeshSpec(spec.h_min / scale, spec.h_max / scale, spec.grading)
-    p2 = mesh_polygon(geom, spec_units, h_max_at)
+    p2 = mesh_polygon_banded(geom, spec_units, h_max_at, band_zone) if banded else mesh_polygon(geom, spec_units, h_max_at)
     out = panels_from_2d(p2, np.array([0.0, 0.0, z]), np.array([scale, 0.0, 0.0]), np.array([0.0, scale, 0.0]))
     return out
 
@@ -262,3 +261,62 @@ def box_panels(side: float, spec: MeshSpec, centre: tuple[float, float, float] =
         (np.array([0, -h, 0]), np.array([1.0, 0, 0]), np.array([0, 0, 1.0])),
     ]
     return np.concatenate([panels_from_2d(face, c + o, e1, e2) for o, e1, e2 in frames])
+
+
+#: offsets of the edge rows, as fractions of the band width: thin rows at the edge where the
+#: charge density grows like d^-1/2, widening away from it
+BAND_ROWS = (0.0, 0.0625, 0.1875, 0.5, 1.0)
+
+
+def mesh_polygon_banded(
+    geom: BaseGeometry,
+    spec: MeshSpec,
+    h_max_at: Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]] | None = None,
+    band_zone: BaseGeometry | None = None,
+) -> list[np.ndarray]:
+    """Like :func:`mesh_polygon`, with rows of thin panels along the edges (within ``band_zone``).
+
+    The band of width ``spec.h_min`` inside the boundary is split into rows at
+    ``BAND_ROWS * h_min`` from the edge (offset curves, shapely buffers) and cut across every
+    ``h_min`` along the edge: long thin panels aligned with the edge, where collocation with
+    constant charge needs resolution only across the edge.  The rest is the graded quadtree.
+    """
+    if geom.is_empty or geom.area <= 0:
+        return []
+    if not geom.is_valid:
+        raise ValueError(f"invalid polygon: {shapely.is_valid_reason(geom)}")
+    w = spec.h_min
+    offsets = [geom if o == 0 else geom.buffer(-o * w, quad_segs=8) for o in BAND_ROWS]
+    band = shapely.difference(geom, offsets[-1])
+    if band_zone is not None:
+        band = shapely.intersection(band, band_zone)
+    if band.is_empty or band.area <= 0:
+        return mesh_polygon(geom, spec, h_max_at)
+    panels: list[np.ndarray] = []
+    x0, y0, x1, y1 = band.bounds
+    nx = max(1, int(np.ceil((x1 - x0) / w)))
+    ny = max(1, int(np.ceil((y1 - y0) / w)))
+    gx, gy = np.meshgrid(x0 + np.arange(nx) * w, y0 + np.arange(ny) * w)
+    cells = shapely.box(gx.ravel(), gy.ravel(), gx.ravel() + w, gy.ravel() + w)
+    tree = shapely.STRtree(cells)
+    for i in range(len(BAND_ROWS) - 1):
+        ring = shapely.difference(offsets[i], offsets[i + 1])
+        if band_zone is not None:
+            ring = shapely.intersection(ring, band_zone)
+        if ring.is_empty:
+            continue
+        hit = tree.query(ring, predicate="intersects")
+        pieces = shapely.intersection(cells[hit], ring)
+        min_area = 1e-3 * w * w * (BAND_ROWS[i + 1] - BAND_ROWS[i])
+        for piece in pieces:
+            for part in shapely.get_parts(piece):
+                if isinstance(part, Polygon) and part.area > min_area:
+                    part = part.simplify(0.15 * w * (BAND_ROWS[i + 1] - BAND_ROWS[i]), preserve_topology=True)
+                    panels.extend(t for t in _quad_or_tris(part) if _tri_area(t) > 0.2 * min_area)
+    rest = shapely.difference(geom, band)
+    rest = shapely.union_all([p for p in shapely.get_parts(rest) if isinstance(p, Polygon) and p.area > 1e-6 * w * w] or [Polygon()])
+    if not rest.is_empty:
+        if not rest.is_valid:
+            rest = shapely.make_valid(rest)
+        panels.extend(mesh_polygon(rest, spec, h_max_at))
+    return panels

@@ -58,8 +58,8 @@ class SolverOptions:
     """Mesh and model options (mm); ``refine`` divides every panel size (the bench uses 4)."""
 
     window_mm: float = 15.0
-    h_edge_mm: float = 0.4
-    h_near_mm: float | None = None  # None: 0.75 x the overlay thickness, within 0.6-1.5 mm
+    h_edge_mm: float = 0.8  # width of the edge band (rows at 1/16, 3/16, 1/2 of it) and panel length along edges
+    h_near_mm: float | None = None  # None: 1.2 x the overlay thickness, within 0.8-2.0 mm
     h_far_mm: float = 3.0
     finger_edge_mm: float = 0.5
     finger_max_mm: float = 3.0
@@ -294,7 +294,7 @@ def gather_conductors(design: Design, sensor: Sensor, window: Polygon, notes: li
 def _h_near_mm(opts: SolverOptions, overlay: Overlay) -> float:
     if opts.h_near_mm is not None:
         return opts.h_near_mm
-    return float(np.clip(0.75 * overlay.thickness_mm, 0.6, 1.5))
+    return float(np.clip(1.2 * overlay.thickness_mm, 0.8, 2.0))
 
 
 def mesh_conductors(
@@ -317,7 +317,7 @@ def mesh_conductors(
                 notes.append(f"copper layer {layer} is not in the stackup: left out")
                 continue
             spec = MeshSpec(h_edge, h_far, 0.35)
-            v = flat_panels(g, stack.copper_z_m[layer] / MM, spec, scale=1.0, h_max_at=h_at)
+            v = flat_panels(g, stack.copper_z_m[layer] / MM, spec, scale=1.0, h_max_at=h_at, band_zone=zone)
             v = v * MM
             parts.append(v)
             conds.append(np.full(len(v), k))
