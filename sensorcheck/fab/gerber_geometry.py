@@ -45,6 +45,9 @@ from sensorcheck.fab.gerber_parser import (
 
 MM_PER_INCH = 25.4
 EMPTY = Polygon()
+#: a circle never gets more segments than this (a radius of 1 m at 1 um); beyond it the chord
+#: error grows past the tolerance rather than memory past reason
+MAX_CIRCLE_SEGMENTS = 8192
 
 
 # --------------------------------------------------------------------------------------------
@@ -59,7 +62,7 @@ def circle_segments(radius_mm: float, tolerance_mm: float) -> int:
     if radius_mm <= tolerance_mm:
         return 8
     half_angle = math.acos(1.0 - tolerance_mm / radius_mm)
-    n = max(8, math.ceil(math.pi / half_angle))
+    n = min(max(8, math.ceil(math.pi / half_angle)), MAX_CIRCLE_SEGMENTS)
     return n + (-n) % 4
 
 
@@ -215,17 +218,21 @@ def _macro_primitive(code: int, a: tuple[float, ...], k: float, tol: float) -> t
         return a[0], _poly(_rotate(_rect(x + w / 2, y + h / 2, w, h), rot))
     if code == 4:  # outline: exposure, n, x0, y0, ... xn, yn, rotation
         n = int(a[1])
+        if n < 1 or len(a) < 2 + 2 * (n + 1):
+            raise ValueError(f"outline primitive with {n} segments but {len(a) - 2} coordinates")
         coords = np.array(a[2:2 + 2 * (n + 1)], dtype=float).reshape(-1, 2) * k
         rot = a[2 + 2 * (n + 1)] if len(a) > 2 + 2 * (n + 1) else 0.0
         return a[0], _poly(_rotate(coords, rot))
     if code == 5:  # polygon: exposure, vertices, cx, cy, diameter, rotation
         n = int(a[1])
+        if not 3 <= n <= 12:
+            raise ValueError(f"polygon primitive with {n} vertices (3 to 12 allowed)")
         rot = a[5] if len(a) > 5 else 0.0
         pts = _regular_polygon(a[2] * k, a[3] * k, a[4] * k, n, 0.0)
         return a[0], _poly(_rotate(pts, rot))
     if code == 6:  # moire (older revisions): cx, cy, outer dia, ring thickness, gap, rings, cross thickness, cross length, rot
         cx, cy, outer, thick, gap = (v * k for v in a[0:5])
-        rings = int(a[5])
+        rings = min(int(a[5]), 1000)
         ct, cl = a[6] * k, a[7] * k
         rot = a[8] if len(a) > 8 else 0.0
         parts = []

@@ -276,3 +276,21 @@ def test_polarity_matches_painting_in_file_order(objects: list[tuple[str, str, i
     assert set(nets) == {k for k, v in painted.items() if not v.is_empty}  # type: ignore[attr-defined]
     for key, image in nets.items():
         assert image.symmetric_difference(painted[key]).area < 1e-9  # type: ignore[arg-type]
+
+
+@pytest.mark.parametrize(
+    ("macro", "what"),
+    [
+        ("5,1,1000000000,0,0,1,0", "vertices"),  # polygon primitive: 3 to 12 vertices (spec 4.5.1.7)
+        ("4,1,5,0,0,1,0,0", "coordinates"),  # outline with fewer points than it announces
+        ("1,1,$1/0,0,0", "cannot read"),  # division by zero when the aperture is defined
+    ],
+)
+def test_malformed_macros_are_refused(macro: str, what: str) -> None:
+    e = refused(gbr(f"%AMBAD*\n{macro}*%\n%ADD10BAD,1*%\nD10*\nX0Y0D03*\n"))
+    assert what in e.message
+
+
+def test_huge_circle_stays_bounded() -> None:
+    got = read_gerber(gbr("%ADD10C,100000*%\nD10*\nX0Y0D03*\n"), "big.gbr")
+    assert len(got.features[0].geometry.exterior.coords) <= 8192 + 1
