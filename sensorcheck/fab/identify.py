@@ -127,7 +127,8 @@ def from_file_function(name: str, values: list[str], how: IdentifiedBy) -> Ident
         if side is None:
             return Identification(name, None, "gerber", identified_by=how, file_function=text,
                                   note=f"X2 FileFunction {text}: copper layer without Top/Inr/Bot")
-        layer = {"top": "top-copper", "bottom": "bottom-copper"}.get(side, "inner-copper")
+        inner = f"inner{num - 1}-copper" if num is not None and num > 1 else "inner-copper"
+        layer = {"top": "top-copper", "bottom": "bottom-copper"}.get(side, inner)
         return Identification(name, "copper", "gerber", layer, side, how, num, num is not None,
                               file_function=text)
     if fn in ("soldermask", "legend", "paste"):
@@ -393,7 +394,8 @@ def identify_name(name: str) -> Identification:
                                   note=f"{role} layer, but the name gives no side (use a layer map)")
         if role == "copper":
             if side == "inner" or number is not None:
-                return Identification(name, "copper", "gerber", "inner-copper", "inner", "filename", number)
+                layer = f"inner{number}-copper" if number else "inner-copper"
+                return Identification(name, "copper", "gerber", layer, "inner", "filename", number)
             if side in ("top", "bottom"):
                 return Identification(name, "copper", "gerber", f"{side}-copper", side, "filename")
             return Identification(name, None, "gerber", identified_by="filename",

@@ -29,7 +29,7 @@ from sensorcheck.fab.identify import (
 X2_CASES = [
     (b"%TF.FileFunction,Copper,L1,Top*%\n", ("copper", "top-copper", "top", 1)),
     (b"G04 #@! TF.FileFunction,Copper,L2,Bot*\n", ("copper", "bottom-copper", "bottom", 2)),
-    (b"%TF.FileFunction,Copper,L3,Inr,Plane*%\n", ("copper", "inner-copper", "inner", 3)),
+    (b"%TF.FileFunction,Copper,L3,Inr,Plane*%\n", ("copper", "inner2-copper", "inner", 3)),
     (b"%TF.FileFunction,Soldermask,Top*%\n", ("mask", "top-mask", "top", None)),
     (b"G04 #@! TF.FileFunction,Legend,Bot*\n", ("silk", "bottom-silk", "bottom", None)),
     (b"%TF.FileFunction,Paste,Bot*%\n", ("paste", "bottom-paste", "bottom", None)),
