@@ -149,6 +149,11 @@ class Revision:
     led_route: Literal["short", "under-btn2"]
     #: top-row channel: (net, channel y, U1 pin) in order of rising y
     channel: tuple[tuple[str, float, int], ...]
+    #: extra ground vias (stitching pockets of the pour that traces enclose)
+    extra_gnd_vias: tuple[tuple[float, float], ...] = ()
+    #: two channel nets with no ground between them: the pour pocket their jogs and pin stubs
+    #: would enclose is left out (it would float)
+    no_pour_between: tuple[str, str] | None = None
 
 
 CLEAN = Revision(
@@ -183,6 +188,8 @@ FLAWED = Revision(
     led_route="under-btn2",
     channel=(("TX1", 31.0, 6), ("RX1", 33.0, 5), ("TX2", 33.5, 4), ("RX2", 35.5, 3), ("BTN1", 37.5, 2),
              ("BTN2", 39.5, 1)),
+    extra_gnd_vias=((40.0, 32.0),),  # the strip between TX1 and RX1 is closed off by K1's keep-out
+    no_pour_between=("RX1", "TX2"),
 )
 
 REVISIONS = (CLEAN, FLAWED)
@@ -420,11 +427,17 @@ def build(rev: Revision) -> Board:
     b.track("bottom", [(gx, gy), (gx + 2.8, gy)], GND_TRACE_MM, "GND")
 
     # top-row sensor traces (bottom layer): via -> channel -> jog -> U1 pin
+    jogs: dict[str, tuple[float, float, float]] = {}
     for rank, (net, yc, pin) in enumerate(rev.channel):
         vx, vy = vias[net]
-        xj = 74.0 + rank
+        xj = round(73.5 + 1.2 * rank, 6)
         px, py = u1_pin_xy(pin)
         b.track("bottom", [(vx, vy), (vx, yc), (xj, yc), (xj, py), (px, py)], SENSE_TRACE_MM, net)
+        jogs[net] = (xj, yc, py)
+    if rev.no_pour_between:
+        (xa, _, pa), (xb, yb, pb) = jogs[rev.no_pour_between[0]], jogs[rev.no_pour_between[1]]
+        b._cut_rect("bottom", (xa, pa, xb, yb))  # between the two jogs
+        b._cut_rect("bottom", (xa, pa, u1_pin_xy(1)[0], pb))  # between the two pin stubs
     # slider traces: leftmost segment -> lowest channel, farthest jog, lowest pin
     for i, (vx, vy) in enumerate(slider_vias()):
         yc = 6.0 + 1.5 * i
@@ -454,7 +467,7 @@ def build(rev: Revision) -> Board:
         b.track("bottom", [(px, py), (led_via[0], py), led_via], LED_TRACE_MM, "LED_DRV")
     b.via(led_via, "LED_DRV")
 
-    for xy in GND_STITCH:
+    for xy in GND_STITCH + rev.extra_gnd_vias:
         b.via(xy, "GND")
     for xy in MOUNT_HOLES:
         b.holes_npth.append(DrillHole(xy[0], xy[1], MOUNT_HOLE_MM, "MechanicalDrill"))

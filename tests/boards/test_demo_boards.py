@@ -471,6 +471,12 @@ def test_board_reader_reads_the_demo(rev: object) -> None:
     top = board.layer("top-copper")
     assert top.by_net["BTN1"].area == pytest.approx(math.pi * demo.BTN_R_MM**2, rel=1e-3)
     assert len(board.holes) == len(demo.build(rev).holes_pth) + len(demo.MOUNT_HOLES)
+    # no floating ground: every piece of the pour on each layer holds a plated hole (a via or
+    # J1's ground pin) that ties it to the other layer
+    plated = [Point(h.x_mm, h.y_mm) for h in board.holes if h.plated]
+    for layer in board.copper_layers():
+        for piece in shapely.get_parts(layer.by_net["GND"]):
+            assert any(piece.intersects(p) for p in plated), (layer.name, piece.centroid)
 
 
 # --- the scaling benchmark's large boards ------------------------------------------------------
