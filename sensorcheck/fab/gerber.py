@@ -100,7 +100,12 @@ def read_gerber(
     """Read one Gerber file into features (exact shapely geometry, mm), its dark image and per-net images.
 
     Raises InputError (LimitError for limits) naming the file and line for anything it cannot
-    read; no other exception type escapes.
+    read; no other exception type escapes for any input bytes. ``arc_tolerance_mm`` <= 0 is a
+    caller's mistake, not the file's: ValueError.
+
+    Warnings a user must see (ignored deprecated statements, empty image, arcs off their circle,
+    an extent no board has, holes ignored in draws ...) are in ``GerberRead.warnings``, at most
+    five of each kind plus a count.
     """
     if not arc_tolerance_mm > 0:
         raise ValueError("arc_tolerance_mm must be > 0")
