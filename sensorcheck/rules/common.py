@@ -337,3 +337,11 @@ def require_role(design: Design, role_name: str) -> list[str]:
             role_name, f'{role_name} = ["..."]')
         raise MissingInput(f"no {role_name} nets were named", f"add {example} under [roles] in sensorcheck.toml")
     return nets
+
+
+def sensor_source(design: Design, s: Sensor, near: BaseGeometry | None = None) -> Any:
+    """Source (file, line) of the sensor's electrode feature nearest to ``near`` (or to its outline)."""
+    feats: list[Feature] = []
+    for layer in dict.fromkeys(e.layer for e in s.electrodes):
+        feats += net_features(design.board, layer, [e.net for e in s.electrodes if e.layer == layer])
+    return source_near(feats, near if near is not None else s.outline)

@@ -20,6 +20,7 @@ from sensorcheck.rules.common import (
     min_inscribed_width_mm,
     nearest_points,
     overlay_thickness_mm,
+    sensor_source,
     union,
 )
 from sensorcheck.rules.engine import Param, Rule
@@ -94,6 +95,7 @@ class SizeVsContact(Rule):
                     "warning",
                     msg,
                     value=width, limit=limit, unit="mm", layer=layer, geom=g, nets=tuple(net.split(",")), sensor=s.name,
+                    source=sensor_source(design, s, g),
                 )
 
 
@@ -152,6 +154,7 @@ class NeighbourSpacing(Rule):
                     f"{fmt(params['overlay_factor'], 0)} x overlay {fmt(t, 2)} mm, {fmt(params['min_spacing_mm'], 1)} mm)",
                     value=d, limit=limit, unit="mm", layer=ea.layer, point=midpoint(pa, pb),
                     geom=ea.geometry.union(eb.geometry), nets=(ea.net, eb.net), sensor=a.name,
+                    source=sensor_source(design, a, ea.geometry),
                 )
 
 
@@ -278,7 +281,7 @@ class SliderCoverage(Rule):
                     f"a {fmt(df, 1)} mm contact swept along {s.name} overlaps no segment over {fmt(dead_mm, 2)} mm "
                     "(dead zone; limit 0 mm)",
                     value=dead_mm, limit=0.0, unit="mm", layer=s.layer, point=dead_pt, geom=s.outline,
-                    nets=s.nets, sensor=s.name,
+                    nets=s.nets, sensor=s.name, source=sensor_source(design, s),
                 )
             elif worst_ratio < params["min_second_fraction"]:
                 yield finding(
@@ -287,7 +290,7 @@ class SliderCoverage(Rule):
                     f"of the first at worst; limit {fmt(100 * params['min_second_fraction'], 0)} % (every position must "
                     "cover two segments)",
                     value=100 * worst_ratio, limit=100 * params["min_second_fraction"], unit="%", layer=s.layer,
-                    point=worst_pt, geom=s.outline, nets=s.nets, sensor=s.name,
+                    point=worst_pt, geom=s.outline, nets=s.nets, sensor=s.name, source=sensor_source(design, s),
                 )
             elif end_mm > max_end + step:
                 yield finding(
@@ -295,6 +298,7 @@ class SliderCoverage(Rule):
                     f"at the ends of {s.name} a {fmt(df, 1)} mm contact sees a single segment over {fmt(end_mm, 1)} mm of "
                     f"travel; limit {fmt(max_end, 1)} mm ({fmt(params['max_end_fraction'], 2)} x contact)",
                     value=end_mm, limit=max_end, unit="mm", layer=s.layer, geom=s.outline, nets=s.nets, sensor=s.name,
+                    source=sensor_source(design, s),
                 )
 
 
@@ -348,6 +352,7 @@ class DiamondPitch(Rule):
                         f"{axis} pitch {n1}-{n2} of {s.name} is {fmt(pitch)} mm; accepted {fmt(lo, 1)}-{fmt(hi, 1)} mm",
                         value=pitch, limit=lo if pitch < lo else hi, unit="mm", layer=s.layer,
                         point=midpoint((c1.x, c1.y), (c2.x, c2.y)), geom=g1.union(g2), nets=(n1, n2), sensor=s.name,
+                        source=sensor_source(design, s, g1),
                     )
 
 

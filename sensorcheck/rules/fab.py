@@ -16,6 +16,7 @@ from sensorcheck.rules.common import (
     is_via,
     midpoint,
     nearest_points,
+    sensor_source,
     source_near,
     union,
 )
@@ -315,7 +316,7 @@ class BoardEdgeNearSensor(Rule):
                 "warning",
                 f"{s.name} is {fmt(d)} mm from the board edge; limit {fmt(params['min_distance_mm'], 1)} mm",
                 value=d, limit=params["min_distance_mm"], unit="mm", layer=s.layer, point=midpoint(pa, pb),
-                geom=s.outline, nets=s.nets, sensor=s.name,
+                geom=s.outline, nets=s.nets, sensor=s.name, source=sensor_source(design, s, edge),
             )
 
 

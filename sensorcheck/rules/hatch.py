@@ -22,6 +22,7 @@ from sensorcheck.rules.common import (
     fmt,
     layer_separation,
     sensing_nets,
+    source_near,
     union,
 )
 from sensorcheck.rules.engine import MissingInput, Param, Rule
@@ -156,6 +157,7 @@ class FillNearSensor(Rule):
             if outline_board is not None and outline_board.area > 0:
                 ring = ring.intersection(shapely.Polygon(outline_board.exterior) if outline_board.geom_type == "Polygon" else outline_board)
             self_kind = s.kind in SELF_KINDS
+            skip = sensing_nets(design)
             windows: list[tuple[float, float, BaseGeometry]] | None = None  # only when something is reported
             for lay in design.board.copper_layers():
                 other = _other_copper(design, lay.name, ring)
@@ -177,6 +179,8 @@ class FillNearSensor(Rule):
                     "common practice)",
                     value=pct, limit=limit, unit="%", layer=lay.name, geom=ring.intersection(other),
                     nets=(), sensor=s.name,
+                    source=source_near([f for f in lay.features if f.net not in skip and f.polarity == "dark"
+                                        and bbox_overlap(f.geometry, ring)], own),
                 )
 
 
@@ -245,6 +249,8 @@ class GroundUnderSelf(Rule):
                     stack_src = board.stackup.source if board.stackup else "?"
                     nets = tuple(sorted(n for n, g in lay.by_net.items()
                                         if n != e.net and bbox_overlap(g, e.geometry) and g.intersects(e.geometry)))
+                    src = source_near([f for f in lay.features if f.net in nets and bbox_overlap(f.geometry, e.geometry)],
+                                      e.geometry)
                     base = (
                         f"{fmt(fill, 1)} % of the electrode ({fmt(under.area, 1)} mm2) has copper under it on {lay.name}, "
                         f"{fmt(h, 3)} mm below (eps_r {fmt(eps, 2)}, stackup from {stack_src}): adds about "
@@ -254,14 +260,14 @@ class GroundUnderSelf(Rule):
                         yield finding(
                             "error", f"{base}; solid copper within {fmt(params['close_mm'])} mm under a self electrode",
                             value=h, limit=params["close_mm"], unit="mm", layer=lay.name, geom=under,
-                            nets=(e.net, *nets), sensor=s.name,
+                            nets=(e.net, *nets), sensor=s.name, source=src,
                         )
                     elif fill > params["max_fill_percent"] or added > params["max_added_pf"]:
                         yield finding(
                             "warning",
                             f"{base}; limits {fmt(params['max_fill_percent'], 0)} % fill and {fmt(params['max_added_pf'], 1)} pF",
                             value=added, limit=params["max_added_pf"], unit="pF", layer=lay.name, geom=under,
-                            nets=(e.net, *nets), sensor=s.name,
+                            nets=(e.net, *nets), sensor=s.name, source=src,
                         )
 
 

@@ -14,8 +14,10 @@ from sensorcheck.rules.common import (
     hole_nets,
     is_via,
     layer_separation,
+    net_features,
     paths,
     sensing_nets,
+    source_near,
     trace_features,
     union,
 )
@@ -333,6 +335,7 @@ class ParasiticBudget(Rule):
             yield finding(
                 sev, f"estimated parasitic capacitance of {e.net} is {fmt(total)} pF ({parts}), {what} (closed-form estimate)",
                 value=total, limit=limit, unit="pF", layer=e.layer, geom=e.geometry, nets=(e.net,), sensor=s.name,
+                source=source_near(net_features(design.board, e.layer, [e.net]), e.geometry),
             )
 
 
