@@ -35,6 +35,7 @@ def test_self_size(side: float, overlay: float, warn: bool) -> None:
         assert f.value == pytest.approx(side, abs=0.05)  # widest inscribed disc of a square = its side
         assert f.limit == pytest.approx(8 + 2 * overlay)
         assert f"equivalent diameter {math.sqrt(4 * side * side / math.pi):.1f} mm" in f.message
+        assert (f.location.file, f.location.line) == ("top-copper.gbr", 1)  # the pad's region object
 
 
 def test_elongated_pad_is_judged_by_its_width() -> None:
