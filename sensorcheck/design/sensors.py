@@ -111,6 +111,11 @@ def _area_only(geom: BaseGeometry) -> BaseGeometry:
     return polys[0] if len(polys) == 1 else MultiPolygon(polys)
 
 
+def _valid(geom: BaseGeometry) -> BaseGeometry:
+    """``geom`` repaired when a reader left it invalid (self-touching rings), polygons only."""
+    return geom if geom.is_valid else _area_only(shapely.make_valid(geom))
+
+
 def stem_of(net: str) -> str | None:
     """The name without its trailing index (``SL_3`` -> ``SL``); None when there is no index."""
     m = re.match(r"^(.*?[A-Za-z])[_\-.]?(\d+)$", net)
@@ -153,7 +158,7 @@ def split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry]
     least :data:`MIN_ELECTRODE_AREA_MM2`, is electrode (thin teeth of an interleaved pad stay
     with it).  Without them: a morphological opening (see the module docstring).
     """
-    geom = _area_only(layer.by_net.get(net, _empty()))
+    geom = _valid(_area_only(layer.by_net.get(net, _empty())))
     if geom.is_empty:
         return _empty(), _empty()
     feats = [f for f in layer.features if f.net == net and f.polarity == "dark"]
@@ -213,7 +218,7 @@ def whole_net_electrode(board: Board, net: str, role: Role, face: str) -> Electr
     if not layers:
         return None
     best = max(layers, key=lambda la: (round(la.by_net[net].area, 6), -layers.index(la)))
-    geom = _area_only(best.by_net[net])
+    geom = _valid(_area_only(best.by_net[net]))
     return Electrode(net=net, role=role, layer=best.name, geometry=geom,
                      trace=_net_copper(board, net, best.name, geom))
 
@@ -347,7 +352,7 @@ def find_nodes(board: Board, tx_nets: Sequence[str], rx_nets: Sequence[str],
         key = (net, layer.name)
         if key not in c.geo:
             g = layer.by_net.get(net)
-            c.geo[key] = None if g is None or g.is_empty else _area_only(g).simplify(DETECT_TOLERANCE_MM)
+            c.geo[key] = None if g is None or g.is_empty else _valid(_area_only(g)).simplify(DETECT_TOLERANCE_MM)
         return c.geo[key]
 
     def buf(net: str, layer: str, gap: float) -> BaseGeometry:

@@ -10,6 +10,7 @@ import math
 
 import pytest
 import shapely
+from shapely import affinity
 from shapely.geometry import box
 
 from sensorcheck.design.config import load_config
@@ -425,3 +426,45 @@ def test_proximity_group_takes_the_whole_net() -> None:
     (s,) = build_design(make_board({"top-copper": {"LOOP": loop}}), c).sensors
     assert (s.name, s.kind) == ("hand", "proximity")
     assert s.electrodes[0].geometry.area == pytest.approx(40 * 20 - 39 * 19)
+
+
+# --------------------------------------------------------------------------- properties
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=30, deadline=None)
+@given(n=st.integers(3, 8), perm=st.randoms(use_true_random=False), angle=st.floats(0, 180))
+def test_slider_order_follows_position_for_any_naming(n: int, perm, angle: float) -> None:
+    """Segments on a line at any angle, named in any order: the order is the positions' order
+    (either direction), so consecutive segments in the result are neighbours on the board."""
+    names = [f"S{k}" for k in range(n)]
+    perm.shuffle(names)
+    ux, uy = math.cos(math.radians(angle)), math.sin(math.radians(angle))
+    pitch = 8.0
+    nets = {}
+    for k, name in enumerate(names):
+        seg = affinity.rotate(box(0, 0, 7.5, 12), angle, origin=(0, 0))
+        nets[name] = affinity.translate(seg, k * pitch * ux, k * pitch * uy)
+    d = build_design(make_board({"top-copper": nets}), cfg(self=["S*"]))
+    (s,) = d.sensors
+    assert s.kind == "slider"
+    pos = [names.index(n_) for n_ in s.order]  # index = position along the line, by construction
+    assert pos == sorted(pos) or pos == sorted(pos, reverse=True)
+
+
+@settings(max_examples=20, deadline=None)
+@given(n=st.integers(3, 8), perm=st.randoms(use_true_random=False), turn=st.floats(0, 360))
+def test_wheel_order_follows_angle_for_any_naming(n: int, perm, turn: float) -> None:
+    names = [f"R{k}" for k in range(n)]
+    perm.shuffle(names)
+    span = 360.0 / n
+    nets = {name: sector(0, 0, 6, 15, turn + k * span + 0.3, turn + (k + 1) * span - 0.3) for k, name in enumerate(names)}
+    d = build_design(make_board({"top-copper": nets}), cfg(self=["R*"]))
+    (s,) = d.sensors
+    assert s.kind == "wheel"
+    pos = [names.index(n_) for n_ in s.order]
+    steps = {(b - a) % n for a, b in zip(pos, pos[1:] + pos[:1])}
+    assert steps in ({1}, {n - 1})  # consecutive around the circle, one way or the other
+    assert s.order[0] == "R0"  # starts at the first name
