@@ -158,3 +158,10 @@ def test_cli_refuses_overwrite_with_exit_2(tmp_path: Path) -> None:
 
     (tmp_path / "sensorcheck.toml").write_text("")
     assert main(["init", str(tmp_path)]) == 2
+
+
+def test_zip_input_writes_beside_the_archive(tmp_path: Path) -> None:
+    z = tmp_path / "fab.zip"
+    z.write_bytes(b"PK\x05\x06" + b"\0" * 18)
+    assert init.run(args(z), loader=lambda p: demo_board()) == 0
+    assert (tmp_path / "sensorcheck.toml").is_file()

@@ -434,7 +434,7 @@ from hypothesis import given, settings  # noqa: E402
 from hypothesis import strategies as st  # noqa: E402
 
 
-@settings(max_examples=30, deadline=None)
+@settings(max_examples=20, deadline=None)
 @given(n=st.integers(3, 8), perm=st.randoms(use_true_random=False), angle=st.floats(0, 180))
 def test_slider_order_follows_position_for_any_naming(n: int, perm, angle: float) -> None:
     """Segments on a line at any angle, named in any order: the order is the positions' order
