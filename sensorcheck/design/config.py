@@ -48,6 +48,7 @@ from sensorcheck.physics.materials import lookup_material, material_names
 from sensorcheck.rules.finding import Waiver
 
 CONFIG_NAME = "sensorcheck.toml"
+MAX_CONFIG_BYTES = 1024 * 1024  # a config is a page of text; refuse anything far larger
 
 #: own finger defaults (used only when sensorcheck.physics.finger has none)
 CONTACT_DIAMETER_MM = 8.0  # common practice: fingertip disc 5-10 mm, 8 mm typical
@@ -604,6 +605,8 @@ def _profile_path(ctx: _Ctx, name: str, base: Path | None, profiles_dir: Path, w
 
 def _read_toml(ctx: _Ctx, path: Path) -> dict[str, Any]:
     try:
+        if path.stat().st_size > MAX_CONFIG_BYTES:
+            raise ctx.err(None, f"larger than {MAX_CONFIG_BYTES // 1024} KiB: not a sensorcheck config")
         data = path.read_bytes()
     except OSError as exc:
         raise ctx.err(None, f"cannot read: {exc.strerror or exc}") from None
@@ -612,6 +615,7 @@ def _read_toml(ctx: _Ctx, path: Path) -> dict[str, Any]:
     except UnicodeDecodeError as exc:
         line = data[: exc.start].count(b"\n") + 1
         raise ctx.err(f"line {line}", "not UTF-8 text (TOML files are UTF-8)") from None
+    text = text.removeprefix("\ufeff")  # a byte-order mark some editors write
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:

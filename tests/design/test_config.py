@@ -444,3 +444,17 @@ def test_mutated_config_gives_config_error_or_config(tmp_path: Path, data: st.Da
     except ConfigError as exc:
         assert exc.file == str(p)
         assert exc.describe().startswith(str(p))
+
+
+def test_bom_accepted_and_huge_or_missing_files_refused(tmp_path: Path) -> None:
+    p = tmp_path / "bom.toml"
+    p.write_bytes(b"\xef\xbb\xbf[board]\nface = 'bottom'\n")
+    assert load_config(p, profiles_dir=tmp_path).face == "bottom"
+    big = tmp_path / "big.toml"
+    big.write_bytes(b"# " + b"x" * (2 * 1024 * 1024) + b"\n")
+    with pytest.raises(ConfigError, match="KiB"):
+        load_config(big)
+    with pytest.raises(ConfigError, match="cannot read"):
+        load_config(tmp_path / "absent.toml")
+    with pytest.raises(ConfigError, match="cannot read"):
+        load_config(tmp_path)  # a folder
