@@ -629,6 +629,11 @@ def _group_sensor(board: Board, g: SensorGroup, roles: dict, margin: float, face
         order = g.nets if g.kind in ("slider", "wheel") else ()
         return _make_sensor(g.name, g.kind, electrodes, margin, "group", face_order, order=order)
     if g.kind == "matrix":
+        assumed = [n for n in (*g.rows, *g.columns) if n not in roles]
+        if assumed:
+            notes.append(f"sensor '{g.name}': no role given for {', '.join(assumed)}; rows taken as transmitters "
+                         "and columns as receivers (give roles to say otherwise, e.g. self for a self-capacitance "
+                         "matrix)")
         for fld, default in (("rows", "transmitter"), ("columns", "receiver")):
             for net in getattr(g, fld):
                 if net not in roles:

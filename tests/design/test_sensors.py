@@ -291,6 +291,7 @@ def test_three_by_three_matrix_by_group() -> None:
     (s,) = d.sensors
     assert (s.name, s.kind, s.rows, s.columns) == ("pad", "matrix", ("X0", "X1", "X2"), ("Y0", "Y1", "Y2"))
     assert d.roles["X0"][0] == "transmitter" and d.roles["Y2"][0] == "receiver"
+    assert any("rows taken as transmitters" in n for n in d.notes)  # an assumption is said out loud
 
 
 def test_diamond_pad_from_geometry() -> None:
