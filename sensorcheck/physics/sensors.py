@@ -524,7 +524,8 @@ def _hand_range(model: SensorModel, x: float, y: float, base_f: float) -> float 
 def estimate_sensor(design: Design, sensor: Sensor, *, heights: int = 12, max_height_mm: float = 20.0) -> SensorEstimate:
     """Baseline, touch signal, approach curve and neighbours' crosstalk of one sensor."""
     opts = SolverOptions.from_config(design.config.estimate)
-    return estimate_with(design, sensor, opts=opts, heights=heights, max_height_mm=max_height_mm)
+    limits = getattr(design.config, "limits", None) or DEFAULT_LIMITS
+    return estimate_with(design, sensor, opts=opts, heights=heights, max_height_mm=max_height_mm, limits=limits)
 
 
 def estimate_with(
@@ -630,10 +631,13 @@ def estimate_design(
     sensors: list[str] | None = None,
     workers: int | None = None,
     progress: Callable[[str], None] | None = None,
+    errors: list[str] | None = None,
 ) -> dict[str, SensorEstimate]:
     """Estimates for the design's sensors (or those named), in parallel across processes.
 
-    Errors of one sensor (bad copper, over the mesh budget) are re-raised after the others ran.
+    Errors of one sensor (bad copper, over the mesh budget) are raised as one InputError after
+    the others ran; pass ``errors`` (a list) to collect their messages there instead and keep
+    the estimates of the other sensors.
     """
     names = [s.name for s in design.sensors] if sensors is None else list(sensors)
     known = {s.name for s in design.sensors}
@@ -646,11 +650,11 @@ def estimate_design(
     jobs = [(design, n, heights, max_h) for n in names]
     n_workers = min(workers or os.cpu_count() or 1, len(jobs)) if jobs else 1
     results: dict[str, SensorEstimate] = {}
-    errors: list[str] = []
+    failed: list[str] = errors if errors is not None else []
     if n_workers <= 1:
         done = map(_one, jobs)
         for name, res in done:
-            _collect(name, res, results, errors, progress)
+            _collect(name, res, results, failed, progress)
     else:
         saved = {k: os.environ.get(k) for k in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")}
         try:
@@ -667,15 +671,15 @@ def estimate_design(
                         os.environ[k] = v
                 for fut in futures:
                     name, res = fut.result()
-                    _collect(name, res, results, errors, progress)
+                    _collect(name, res, results, failed, progress)
         finally:
             for k, v in saved.items():
                 if v is None:
                     os.environ.pop(k, None)
                 else:
                     os.environ[k] = v
-    if errors:
-        raise InputError(design.board.source, None, "; ".join(errors), "sensors the field solver can model")
+    if failed and errors is None:
+        raise InputError(design.board.source, None, "; ".join(failed), "sensors the field solver can model")
     return results
 
 
