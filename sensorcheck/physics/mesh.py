@@ -70,10 +70,12 @@ def mesh_polygon(geom: BaseGeometry, spec: MeshSpec, h_max_at: Callable[[np.ndar
 
     ``h_max_at(x, y) -> (h_edge, h_max)``: optional local panel sizes (finer near a sensor).
     """
-    if geom.is_empty or geom.area <= 0:
+    if geom.is_empty:
         return []
     if not geom.is_valid:
         raise ValueError(f"invalid polygon: {shapely.is_valid_reason(geom)}")
+    if geom.area <= 0:
+        return []
     boundary = geom.boundary
     shapely.prepare(geom)
     shapely.prepare(boundary)
@@ -281,10 +283,12 @@ def mesh_polygon_banded(
     ``h_min`` along the edge: long thin panels aligned with the edge, where collocation with
     constant charge needs resolution only across the edge.  The rest is the graded quadtree.
     """
-    if geom.is_empty or geom.area <= 0:
+    if geom.is_empty:
         return []
     if not geom.is_valid:
         raise ValueError(f"invalid polygon: {shapely.is_valid_reason(geom)}")
+    if geom.area <= 0:
+        return []
     w = spec.h_min
     offsets = [geom if o == 0 else geom.buffer(-o * w, quad_segs=8) for o in BAND_ROWS]
     band = shapely.difference(geom, offsets[-1])
