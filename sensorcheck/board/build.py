@@ -154,8 +154,11 @@ def load_board(
     with open_input(p, limits=limits) as files:
         board = Board(name=_board_name(p), source=safe_name(str(path)))
         _read_all(board, files, dict(layer_map or {}), limits, say)
-    if board.stackup is None:
-        board.stackup = stackup_override or default_stackup([layer.name for layer in board.copper_layers()])
+    # The config's stackup is there for a job file that is missing *or wrong*: when given, it wins.
+    if stackup_override is not None:
+        board.stackup = stackup_override
+    elif board.stackup is None:
+        board.stackup = default_stackup([layer.name for layer in board.copper_layers()])
     return board
 
 
