@@ -528,3 +528,64 @@ def test_large_hatch_has_the_closed_form_fill(tmp_path: Path) -> None:
     fill = image(g, window).area / window.area
     # each pitch cell holds one opening centred in it: the copper is a w-wide band around it
     assert fill == pytest.approx(1 - (o / (o + w)) ** 2, rel=0.01)
+
+
+# --- the writer on its own -------------------------------------------------------------------
+
+from sensorcheck.fab.writer import (  # noqa: E402
+    ArcTo,
+    GerberWriter,
+    LineTo,
+    NetRecord,
+    ipc356_bytes,
+    ipc356_record,
+)
+
+
+def test_writer_rounds_to_the_format_and_refuses_bad_objects(tmp_path: Path) -> None:
+    w = GerberWriter("Copper,L1,Top")
+    ap = w.circle(0.25, "Conductor")
+    w.flash((1.23456789, -0.0000004), ap, net="A")
+    text = w.to_bytes().decode()
+    # format 4.6: integer nanometres, so 1.23456789 mm -> 1234568 and -0.4 nm -> 0
+    assert "X1234568Y0D03*" in text
+    with pytest.raises(ValueError):
+        w.region((0, 0), [LineTo((1, 0)), LineTo((1, 1))], function="Conductor", net="A")  # not closed
+    with pytest.raises(ValueError):
+        w.flash((0, 0), ap, net="A,B")  # a comma would split the attribute field
+    with pytest.raises(ValueError):
+        w.circle(0.0, "Conductor")
+
+
+def test_writer_arcs_and_regions_read_back_exactly(tmp_path: Path) -> None:
+    w = GerberWriter("Copper,L1,Top")
+    # a 2 x 1 mm slot-like region: two straight sides and two half-circle ends of radius 0.5
+    w.region((0.5, 0.0), [LineTo((1.5, 0.0)), ArcTo((1.5, 1.0), (1.5, 0.5), False), LineTo((0.5, 1.0)),
+                          ArcTo((0.5, 0.0), (0.5, 0.5), False)], function="Conductor", net="S")
+    w.annulus((5.0, 5.0), 1.0, 2.0, function="Conductor", net="R")
+    path = tmp_path / "t.gtl"
+    path.write_bytes(w.to_bytes())
+    g = read_gerber(path)
+    slot = image(g, box(-1, -1, 3, 2))
+    assert slot.area == pytest.approx(1.0 + math.pi * 0.25, abs=2 * math.pi * 0.5 * ARC_TOL_MM + 1e-9)
+    ring = image(g, box(2.5, 2.5, 7.5, 7.5))
+    assert ring.area == pytest.approx(math.pi * (4 - 1), abs=2 * math.pi * 3 * ARC_TOL_MM)
+    assert len(shapely.get_parts(ring)) == 1 and len(shapely.get_parts(ring)[0].interiors) == 1
+
+
+def test_ipc356_long_net_names_get_an_alias_that_readers_resolve(tmp_path: Path) -> None:
+    long_name = "SLIDER_SEGMENT_NUMBER_3"  # longer than the 14 columns 4-17 hold
+    rec = NetRecord(long_name, "U9", "12", 10.5, -3.25, 0.6, 1.5, access=1)
+    path = tmp_path / "n.d356"
+    path.write_bytes(ipc356_bytes([rec], job="t", title="t"))
+    text = path.read_text()
+    assert "P  NNAME1" in text and long_name in text
+    line = next(ln for ln in text.splitlines() if ln.startswith("327"))
+    assert line[3:17].strip() == "NNAME1" and line[20:26].strip() == "U9" and line[27:31].strip() == "12"
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        netlist = Netlist.open(path)
+    (r,) = netlist.test_records
+    assert r.net_name == long_name and (r.x, r.y) == pytest.approx((10.5, -3.25)) and r.access_layer == 1
+    with pytest.raises(ValueError):
+        ipc356_record(NetRecord("A", "U1", "1", 1000.0, 0.0, 0.5, 0.5), "A")  # X needs 7 digits
