@@ -76,14 +76,16 @@ def test_identical_copies_are_read_once(tmp_path: Path) -> None:
     assert [f.path for f in board.files if f.note and "read once" in f.note] == ["sub/b.drl"]
 
 
-def test_stackup_sources_job_then_config_then_default(tmp_path: Path) -> None:
+def test_stackup_sources_config_then_job_then_default(tmp_path: Path) -> None:
+    # DESIGN.md: the config's stackup is for a job file that is "missing or wrong", so it wins.
     (tmp_path / "b-F_Cu.gbr").write_bytes(gerber([flash(1, 1)], function="Copper,L1,Top"))
     override = Stackup([StackupLayer("F.Cu", "copper", 0.07, copper_layer="top-copper")], 0.8, "config")
     assert load_board(tmp_path).stackup.source == "default"  # type: ignore[union-attr]
     assert load_board(tmp_path, stackup_override=override).stackup is override
     (tmp_path / "b.gbrjob").write_text('{"Header": {}, "GeneralSpecs": {"BoardThickness": 1.0}, "MaterialStackup": '
                                        '[{"Type": "Copper", "Thickness": 0.035}, {"Type": "Dielectric"}, {"Type": "Copper", "Thickness": 0.035}]}')
-    st = load_board(tmp_path, stackup_override=override).stackup
+    assert load_board(tmp_path, stackup_override=override).stackup is override
+    st = load_board(tmp_path).stackup
     assert st is not None and st.source == "jobfile" and st.board_thickness_mm == 1.0
 
 
