@@ -1,0 +1,318 @@
+"""Corpus boards: findings of the full check, each checked by hand against an independent reading.
+
+Issue 3's acceptance check: corpus boards (``../shared/corpus``), each with a config written from
+what its designers published (``tests/corpus/configs/<board>.toml``; every value commented with
+its source, the overlay marked as our assumption where the designers state none), give findings
+whose values were checked by hand.
+
+"By hand" here means: independently of sensorcheck's readers, board model and rule code.  The
+Gerber files are parsed with gerbonara's own parser (an outside library; its primitives, not
+sensorcheck's subclass or its geometry conversion) and turned into shapely geometry by the small
+converter below; nets come from gerbonara's X2 object attributes (b06) or from connectivity and
+the IPC-D-356 netlist the designers exported (b03).  The expected values were also read against
+the designers' own statements (the corpus README, the Gerber job file) where they give one.  The
+check runs with ``--no-estimate`` (geometry rules only; field solves are slow).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+from collections.abc import Iterable, Iterator
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pytest
+import shapely
+from gerbonara import GerberFile
+from gerbonara import graphic_primitives as gp
+from gerbonara.graphic_objects import Flash
+from gerbonara.utils import MM
+from shapely import affinity
+from shapely.geometry import LineString, Point, Polygon, box
+from shapely.geometry.base import BaseGeometry
+
+from sensorcheck.cli import main
+
+pytestmark = pytest.mark.corpus
+
+CONFIGS = Path(__file__).resolve().parent / "configs"
+EPS0_F_PER_M = 8.8541878128e-12  # vacuum permittivity, CODATA 2018
+ARC_STEP_DEG = 1.0  # chord step of our own arc flattening (sagitta r(1 - cos 0.5 deg) < 4e-5 r)
+
+Finding = dict[str, Any]
+
+
+# --- the independent reader: gerbonara primitives -> shapely ---------------------------------------
+
+def _arc_points(x1: float, y1: float, x2: float, y2: float, cx: float, cy: float,
+                clockwise: bool) -> list[tuple[float, float]]:
+    a1, a2 = math.atan2(y1 - cy, x1 - cx), math.atan2(y2 - cy, x2 - cx)
+    r = math.hypot(x1 - cx, y1 - cy)
+    if clockwise:
+        while a2 >= a1:
+            a2 -= 2 * math.pi
+    else:
+        while a2 <= a1:
+            a2 += 2 * math.pi
+    n = max(2, int(abs(a2 - a1) / math.radians(ARC_STEP_DEG)) + 1)
+    return [(cx + r * math.cos(a1 + (a2 - a1) * i / n), cy + r * math.sin(a1 + (a2 - a1) * i / n))
+            for i in range(n + 1)]
+
+
+def _shape(p: Any) -> BaseGeometry:
+    """One gerbonara graphic primitive (mm) as a shapely area."""
+    if isinstance(p, gp.Circle):
+        return Point(p.x, p.y).buffer(p.r, quad_segs=32)
+    if isinstance(p, gp.Line):
+        if (p.x1, p.y1) == (p.x2, p.y2):
+            return Point(p.x1, p.y1).buffer(p.width / 2, quad_segs=16)
+        return LineString([(p.x1, p.y1), (p.x2, p.y2)]).buffer(p.width / 2, quad_segs=16)
+    if isinstance(p, gp.Arc):
+        return LineString(_arc_points(p.x1, p.y1, p.x2, p.y2, p.cx, p.cy, p.clockwise)).buffer(
+            p.width / 2, quad_segs=16)
+    if isinstance(p, gp.Rectangle):
+        rect = box(p.x - p.w / 2, p.y - p.h / 2, p.x + p.w / 2, p.y + p.h / 2)
+        return affinity.rotate(rect, p.rotation, origin=(p.x, p.y), use_radians=True) if p.rotation else rect
+    if isinstance(p, gp.ArcPoly):
+        pts: list[tuple[float, float]] = []
+        for a, b, (clockwise, (cx, cy)) in p.segments:
+            if clockwise is None:
+                pts.append(a)
+            else:
+                pts.extend(_arc_points(a[0], a[1], b[0], b[1], cx, cy, clockwise)[:-1])
+        if len(pts) < 3:
+            return Polygon()
+        # KiCad writes a pour with holes as one contour with zero-width cut-ins: make_valid turns the
+        # cut-ins into lines (dropped) and the enclosed openings into holes.
+        valid = shapely.make_valid(Polygon(pts))
+        return shapely.union_all([g for g in getattr(valid, "geoms", [valid])
+                                  if g.geom_type in ("Polygon", "MultiPolygon")])
+    raise TypeError(f"primitive {type(p).__name__} not expected in these files")
+
+
+def _net(obj: Any) -> str | None:
+    attrs = obj.attrs if isinstance(getattr(obj, "attrs", None), dict) else {}
+    net = attrs.get(".N")
+    return (net[0] if isinstance(net, tuple) else net) or None
+
+
+def _objects(path: Path) -> Iterator[tuple[Any, BaseGeometry]]:
+    for obj in GerberFile.open(path).objects:
+        for p in obj.to_primitives(unit=MM):
+            # none of the files read here uses clear polarity on copper or mask (checked: no %LPC)
+            assert p.polarity_dark, f"{path.name}: clear polarity not handled by this test's reader"
+            yield obj, _shape(p)
+
+
+def image(path: Path) -> BaseGeometry:
+    """The dark image of a Gerber layer."""
+    return shapely.union_all([s for _, s in _objects(path)])
+
+
+def parts(geom: BaseGeometry) -> list[BaseGeometry]:
+    return list(getattr(geom, "geoms", [geom]))
+
+
+def board_outline(path: Path) -> BaseGeometry:
+    """Board area from the outline layer: the stroke centre lines, polygonized; cut-outs removed."""
+    lines: list[LineString] = []
+    for obj in GerberFile.open(path).objects:
+        for p in obj.to_primitives(unit=MM):
+            if isinstance(p, gp.Line):
+                lines.append(LineString([(p.x1, p.y1), (p.x2, p.y2)]))
+            elif isinstance(p, gp.Arc):
+                lines.append(LineString(_arc_points(p.x1, p.y1, p.x2, p.y2, p.cx, p.cy, p.clockwise)))
+    coll = shapely.GeometryCollection(lines)
+    merged = shapely.union_all(shapely.snap(coll, coll, 1e-3))
+    faces = sorted(parts(shapely.polygonize(parts(merged))), key=lambda q: -q.area)
+    board = faces[0]
+    for q in faces[1:]:
+        if board.contains(q.representative_point()):
+            board = board.difference(q)
+    return board
+
+
+def ipc356_points(path: Path) -> list[tuple[str, float, float, int]]:
+    """(net, x_mm, y_mm, access) of IPC-D-356 test records 317/327 (access 0 = through, 1 = top,
+    2 = bottom; ``UNITS CUST 0`` = 0.0001 inch, ``CUST 1`` = 0.001 mm: IPC-D-356A)."""
+    scale = 0.00254
+    out: list[tuple[str, float, float, int]] = []
+    for line in path.read_text().splitlines():
+        if line.startswith("P  UNITS CUST"):
+            scale = 0.00254 if line.split()[-1] == "0" else 0.001
+        elif line[:3] in ("317", "327"):
+            m = re.search(r"A(\d\d)X([+-]?\d+)Y([+-]?\d+)", line)
+            assert m, line
+            out.append((line[3:17].strip(), int(m.group(2)) * scale, int(m.group(3)) * scale, int(m.group(1))))
+    return out
+
+
+def nets_by_netlist(geom: BaseGeometry, points: list[tuple[str, float, float, int]],
+                    access: Iterable[int]) -> list[tuple[BaseGeometry, set[str]]]:
+    """Each connected copper piece with the netlist nets whose test points it holds."""
+    acc = set(access)
+    return [(c, {n for n, x, y, a in points if a in acc and c.covers(Point(x, y))}) for c in parts(geom)]
+
+
+# --- running the check -------------------------------------------------------------------------------
+
+def run_check(fab: Path, board_id: str, out_dir: Path) -> list[Finding]:
+    report = out_dir / f"{board_id}.json"
+    rc = main(["check", str(fab), "--config", str(CONFIGS / f"{board_id}.toml"), "--no-estimate",
+               "--report", f"json:{report}"])
+    assert rc in (0, 1), f"check of {board_id} failed with exit code {rc}"
+    return json.loads(report.read_text())["boards"][0]["findings"]
+
+
+def pick(findings: list[Finding], rule: str, **where: Any) -> list[Finding]:
+    return [f for f in findings if f["rule_id"] == rule and all(f.get(k) == v for k, v in where.items())]
+
+
+def one(findings: list[Finding], rule: str, **where: Any) -> Finding:
+    found = pick(findings, rule, **where)
+    assert len(found) == 1, f"{rule} {where}: {len(found)} findings"
+    return found[0]
+
+
+def with_text(findings: list[Finding], rule: str, text: str) -> Finding:
+    found = [f for f in findings if f["rule_id"] == rule and text in f["message"]]
+    assert len(found) == 1, f"{rule} '{text}': {len(found)} findings"
+    return found[0]
+
+
+# --- b03-wheel: 3-segment wheel on the bottom copper, hatched ground on the top -------------------------
+
+B03 = "b03-wheel"
+WHEEL = ("/TOUCH0", "/TOUCH1", "/TOUCH2")
+
+
+@pytest.fixture(scope="module")
+def b03(shared_dir: Path, tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
+    fab = shared_dir / "corpus" / B03 / "fab"
+    findings = run_check(fab, B03, tmp_path_factory.mktemp(B03))
+    points = ipc356_points(fab / "netlist.ipc")
+    top = nets_by_netlist(image(fab / "TouchwheelSAO-F_Cu.gtl"), points, (0, 1))
+    bottom = nets_by_netlist(image(fab / "TouchwheelSAO-B_Cu.gbl"), points, (0, 2))
+    electrodes = {n: shapely.union_all([c for c, ns in bottom if n in ns]) for n in WHEEL}
+    return {"findings": findings, "top": top, "bottom": bottom, "electrodes": electrodes,
+            "outline": board_outline(fab / "TouchwheelSAO-Edge_Cuts.gm1")}
+
+
+def _net_copper(pieces: list[tuple[BaseGeometry, set[str]]], net: str) -> BaseGeometry:
+    return shapely.union_all([c for c, ns in pieces if net in ns])
+
+
+def test_b03_reader_sees_the_designers_hatch(b03: dict[str, Any]) -> None:
+    """Our reader against the designers' statement (corpus README): hatch 1.0 mm lines, 1.5 mm gaps
+    at 45 degrees.  The whole openings of the top GND pour are 1.5 mm squares (2.25 mm2) on a 2.5 mm
+    pitch (line 1.0 mm); square-hatch fill 1 - (g/(g+w))^2 = 1 - (1.5/2.5)^2 = 64 % (derived)."""
+    gnd = max(parts(_net_copper(b03["top"], "GND")), key=lambda q: q.area)
+    holes = [Polygon(r) for r in gnd.interiors]
+    whole = [h for h in holes if abs(h.area - 1.5 ** 2) < 0.05]
+    assert len(whole) >= 40, "the top ground should be a hatch with many whole 1.5 mm openings"
+    centres = np.array([[h.centroid.x, h.centroid.y] for h in whole])
+    d = np.hypot(*(centres[:, None, :] - centres[None, :, :]).transpose(2, 0, 1))
+    np.fill_diagonal(d, np.inf)
+    pitch_mm = float(np.median(d.min(axis=1)))
+    assert pitch_mm == pytest.approx(2.5, abs=0.01)  # 1.0 mm line + 1.5 mm opening (README)
+    # 45 degrees: an opening's sides run diagonally, so its bounding box is 1.5 * sqrt(2) wide
+    x0, _, x1, _ = whole[0].bounds
+    assert x1 - x0 == pytest.approx(1.5 * math.sqrt(2), abs=0.02)
+
+
+def test_b03_hatch_fill_near_wheel(b03: dict[str, Any]) -> None:
+    """hatch.fill-near-sensor on top-copper: a warning (the wheel is self-capacitance; top is not its
+    layer, limit 50 %).  By hand: the non-sensing top copper (all nets but /TOUCH*) in the ring from
+    the electrodes out to 10 mm, clipped to the board outline: 59.65 %.  That is below the hatch's
+    own 64 % (clearances around pads and traces in the ring) and above the 50 % limit."""
+    wheel = shapely.union_all(list(b03["electrodes"].values()))
+    window = wheel.buffer(10.0).difference(wheel).intersection(b03["outline"])
+    other = shapely.union_all([c for c, ns in b03["top"] if not ns & set(WHEEL)])
+    fill_percent = 100 * other.intersection(window).area / window.area
+    assert 55.0 < fill_percent < 64.0  # sanity: a 64 % hatch with clearances cut out of it
+    f = one(b03["findings"], "hatch.fill-near-sensor", sensor="wheel")
+    assert f["severity"] == "warning" and f["location"]["layer"] == "top-copper"
+    assert f["value"] == pytest.approx(fill_percent, abs=0.5)  # tolerance: arc flattening, outline
+    assert f["limit"] == 50.0  # default profile, other layers (rule parameter, common practice)
+    assert "hatch line 1.00 mm" in f["message"]  # README: 1.0 mm lines
+
+
+@pytest.mark.xfail(strict=True, reason=(
+    "hatch.measure_hatch reports the opening as the side of the MEAN opening area, which the clipped "
+    "openings next to pads and the ring edge pull down: 1.26 mm where the designers state 1.5 mm "
+    "(and the Gerber's 45 whole openings measure 1.50 mm). Reported to the rule's owner."))
+def test_b03_hatch_opening_as_designed(b03: dict[str, Any]) -> None:
+    f = one(b03["findings"], "hatch.fill-near-sensor", sensor="wheel")
+    m = re.search(r"opening ([0-9.]+) mm", f["message"])
+    assert m and float(m.group(1)) == pytest.approx(1.5, abs=0.1)  # README: 1.5 mm gaps
+
+
+@pytest.mark.parametrize(("trace_net", "electrode_net", "area_mm2"), [
+    # by hand below; these are the values our reader gives (recorded to catch a silent change)
+    ("/TOUCH1", "/TOUCH0", 2.363),
+    ("/TOUCH2", "/TOUCH0", 2.765),
+    ("/TOUCH1", "/TOUCH2", 0.292),
+    ("/TOUCH0", "/TOUCH2", 0.0485),
+])
+def test_b03_traces_under_other_segments(b03: dict[str, Any], trace_net: str, electrode_net: str,
+                                         area_mm2: float) -> None:
+    """routing.trace-under-electrode: the segments' traces run on the top copper (to the controller
+    at the centre) across the other segments on the bottom.  By hand: the top copper that the
+    netlist puts on the trace's net, intersected with the other segment's bottom copper."""
+    hand = _net_copper(b03["top"], trace_net).intersection(b03["electrodes"][electrode_net]).area
+    assert hand == pytest.approx(area_mm2, rel=0.01)
+    f = with_text(b03["findings"], "routing.trace-under-electrode",
+                  f"trace of {trace_net} (wheel) on top-copper runs under the electrode {electrode_net}")
+    assert f["severity"] == "error"  # a self-capacitance sensor (rule docstring)
+    assert f["value"] == pytest.approx(hand, rel=0.03, abs=0.002)
+
+
+def test_b03_no_trace_of_a_segment_under_itself(b03: dict[str, Any]) -> None:
+    """Absence: /TOUCH2's top trace crosses no /TOUCH1 copper (by hand: zero overlap), and a segment's
+    own trace is never reported under its own electrode."""
+    assert _net_copper(b03["top"], "/TOUCH2").intersection(b03["electrodes"]["/TOUCH1"]).area < 1e-6
+    assert not [f for f in pick(b03["findings"], "routing.trace-under-electrode")
+                if "trace of /TOUCH2" in f["message"] and "electrode /TOUCH1" in f["message"]]
+
+
+def test_b03_fiducials_are_floating_copper(b03: dict[str, Any]) -> None:
+    """fab.floating-copper: two top-copper pieces that the netlist lists as N/C: the 1.0 mm fiducials
+    FID1/FID2 (pi/4 mm2 each), 8.30 and 8.46 mm from the wheel (projected), inside the 10 mm limit.
+    The finding is right by the rule's definition; a reviewer would waive fiducials."""
+    wheel = shapely.union_all(list(b03["electrodes"].values()))
+    floating = sorted((c for c, ns in b03["top"] if ns == {"N/C"}), key=lambda c: c.distance(wheel))
+    assert len(floating) == 2
+    findings = sorted(pick(b03["findings"], "fab.floating-copper"), key=lambda f: f["value"])
+    assert len(findings) == 2
+    for piece, f in zip(floating, findings):
+        assert piece.area == pytest.approx(math.pi / 4, rel=0.01)  # 1.0 mm disc
+        assert f["value"] == pytest.approx(piece.distance(wheel), abs=0.02)
+        assert f["limit"] == 10.0
+        m = re.search(r"unconnected copper \(([0-9.]+) mm2\)", f["message"])
+        assert m and float(m.group(1)) == pytest.approx(piece.area, abs=0.01)  # 2-decimal message
+
+
+def test_b03_copper_under_each_segment(b03: dict[str, Any]) -> None:
+    """hatch.ground-under-self: the top copper of other nets under each segment, and the plate
+    capacitance eps0 eps_r A / h with the default stackup (no job file: 1.6 mm board less two 35 um
+    coppers = 1.53 mm of FR-4, eps_r 4.4 as the report states).  By hand: 57.4 / 64.0 / 65.9 % of
+    about 155.8 mm2 -> 2.28 / 2.54 / 2.62 pF: a warning (fill above 50 %), not an error (h > 0.5 mm)."""
+    for net, electrode in b03["electrodes"].items():
+        under = shapely.union_all([c for c, ns in b03["top"] if net not in ns]).intersection(electrode).area
+        c_pf = EPS0_F_PER_M * 4.4 * under * 1e-6 / 1.53e-3 * 1e12
+        f = with_text(b03["findings"], "hatch.ground-under-self", f"({under:.1f} mm2)")
+        assert f["severity"] == "warning"
+        assert f["value"] == pytest.approx(c_pf, rel=0.01)
+        assert f"{100 * under / electrode.area:.1f} %" in f["message"]
+
+
+def test_b03_no_ground_gap_finding(b03: dict[str, Any]) -> None:
+    """Absence of gap.electrode-ground-vs-overlay: the only bottom GND copper (a pad near the board
+    edge) is 10.6 mm from the wheel, far beyond the 1.0 mm target (our 1 mm overlay assumption,
+    clamped to 0.5-2 mm)."""
+    wheel = shapely.union_all(list(b03["electrodes"].values()))
+    assert _net_copper(b03["bottom"], "GND").distance(wheel) > 2.0
+    assert not pick(b03["findings"], "gap.electrode-ground-vs-overlay")
