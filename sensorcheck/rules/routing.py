@@ -15,6 +15,7 @@ from sensorcheck.rules.common import (
     REFERENCE_ROLES,
     SELF_KINDS,
     aggressor_kind,
+    bbox_overlap,
     finding,
     fmt,
     hole_nets,
@@ -82,6 +83,8 @@ class ForeignCopperInZone(Rule):
             for lay in design.board.copper_layers():
                 for net, geom in sorted(lay.by_net.items()):
                     if net in own or is_floating_id(net) or role(design, net) in REFERENCE_ROLES | {"aggressor"}:
+                        continue
+                    if not bbox_overlap(geom, s.zone):
                         continue
                     inside = geom.intersection(s.zone)
                     if not others_el.is_empty:
@@ -213,6 +216,8 @@ class TraceUnderElectrode(Rule):
                             # a mutual node's RX trace leaves through its own TX ring by design
                             continue
                         for layer, tg in sorted(traces.items()):
+                            if not bbox_overlap(tg, eb.geometry):
+                                continue
                             ov = tg.intersection(eb.geometry)
                             if ov.is_empty or ov.area < params["min_area_mm2"]:
                                 continue
