@@ -77,6 +77,33 @@ def _result_for(fab: Path, estimate: bool, config: Path | None) -> tuple[Result,
     return result, seconds
 
 
+def _stress_result() -> Result:
+    """A made-up board far denser than any corpus board, so that the size budget has to act.
+
+    Two 200 x 150 mm layers: 45 880 round pads (64 segments a quarter) and a fine 45-degree hatch.
+    """
+    import shapely
+    from shapely.geometry import LineString, Point, box
+
+    from sensorcheck.board.model import Board, Layer
+
+    pads = [Point(1 + 0.8 * i, 1 + 0.8 * j).buffer(0.3, quad_segs=64) for i in range(248) for j in range(185)]
+    lines = []
+    for k in range(0, 700):
+        x = k * 0.5
+        lines.append(LineString([(x, 0), (x - 150, 150)]).buffer(0.1, cap_style="flat"))
+    hatch = shapely.union_all(lines).intersection(box(0, 0, 200, 150))
+    board = Board(
+        name="stress", source="synthetic", outline=box(0, 0, 200, 150),
+        layers=[
+            Layer("top-copper", "copper", "top", "top", copper_index=1, dark=shapely.multipolygons(pads)),
+            Layer("bottom-copper", "copper", "bottom", "bottom", copper_index=2, dark=hatch),
+        ],
+    )
+    return Result(board="stress", source="synthetic", tool_version="bench", config_file=None,
+                  drawing=drawing_from_board(board))
+
+
 def _load_times(browser: Any, url: str, runs: int, shot: Path | None) -> list[tuple[float, float]]:
     times = []
     for i in range(runs):
@@ -104,6 +131,7 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--runs", type=int, default=3)
     ap.add_argument("--estimate", action="store_true", help="run the field solver too (slower)")
     ap.add_argument("--chromium", default="/usr/bin/chromium")
+    ap.add_argument("--stress", action="store_true", help="also a made-up board too dense for the budget")
     ap.add_argument("--no-config", action="store_true", help="check without the bench's own role configs")
     args = ap.parse_args(argv)
     if not CORPUS.is_dir():
@@ -123,16 +151,21 @@ def main(argv: list[str] | None = None) -> int:
         print(f"{'board':<20} {'page MB':>8} {'tol mm':>7} {'draw s':>7} {'render s':>8} "
               f"{'load ms min/med/max':>22} {'x base':>7}  verdict")
         worst_ok = True
-        for name in args.boards:
-            fab = CORPUS / name / "fab"
-            if not fab.is_dir():
-                print(f"{name:<20} missing")
-                continue
-            config = None
-            if name in BENCH_CONFIGS and not args.no_config:
-                config = out / f"{name}.toml"
-                config.write_text(BENCH_CONFIGS[name], encoding="utf-8")
-            result, draw_s = _result_for(fab, args.estimate, config)
+        for name in [*args.boards, *(["stress"] if args.stress else [])]:
+            if name == "stress":
+                t0 = time.perf_counter()
+                result = _stress_result()
+                draw_s = time.perf_counter() - t0
+            else:
+                fab = CORPUS / name / "fab"
+                if not fab.is_dir():
+                    print(f"{name:<20} missing")
+                    continue
+                config = None
+                if name in BENCH_CONFIGS and not args.no_config:
+                    config = out / f"{name}.toml"
+                    config.write_text(BENCH_CONFIGS[name], encoding="utf-8")
+                result, draw_s = _result_for(fab, args.estimate, config)
             t0 = time.perf_counter()
             page = render([result])
             render_s = time.perf_counter() - t0

@@ -4,8 +4,9 @@ Nothing here is used for checking: rules measure the exact geometry of ``board/m
 A drawing keeps the look of the copper to a stated tolerance so that the review page of a
 large board stays small and quick to open:
 
-* every copper layer's final image is simplified with ``shapely.simplify`` (Douglas-Peucker,
-  topology preserved) at ``tolerance_mm``;
+* every polygon of every copper layer's final image is simplified with ``shapely.simplify``
+  (Douglas-Peucker) at ``tolerance_mm``, topology kept where the plain algorithm would break a
+  polygon, so no feature disappears;
 * the vertices are then snapped to a grid of at most half the tolerance (:func:`grid_for`), so
   that the drawing lies within ``tolerance_mm + grid/sqrt(2)`` of the copper;
 * when the SVG path data of all layers would exceed ``max_bytes``, the tolerance is doubled until
@@ -23,7 +24,7 @@ from collections.abc import Iterable, Sequence
 
 import numpy as np
 import shapely
-from shapely.geometry import LineString, MultiLineString, MultiPolygon, Polygon
+from shapely.geometry import LineString, MultiLineString, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Board, Layer
@@ -50,7 +51,7 @@ def grid_for(tolerance_mm: float) -> float:
     return best
 
 
-def _grid_ints(ring: Sequence[tuple[float, float]], grid_mm: float) -> np.ndarray:
+def _grid_ints(ring: Sequence[tuple[float, float]] | np.ndarray, grid_mm: float) -> np.ndarray:
     """Ring vertices as integer grid units, y negated (SVG's y axis points down)."""
     arr = np.asarray(ring, dtype=float).reshape(-1, 2)
     out = np.rint(arr / grid_mm).astype(np.int64)
@@ -75,6 +76,14 @@ def _numbers(values: Iterable[int]) -> str:
     return " ".join(map(str, values)).replace(" -", "-")
 
 
+def _ring_path(pts: np.ndarray) -> str:
+    """One ring (integer grid units, cleaned) as an absolute move, relative lines and a close."""
+    if len(pts) < 3:
+        return ""
+    deltas = np.diff(pts, axis=0).ravel().tolist()
+    return f"M{_numbers(pts[0].tolist())}l{_numbers(deltas)}z"
+
+
 def svg_path_data(polygons: Iterable[Sequence[Sequence[tuple[float, float]]]], grid_mm: float) -> str:
     """SVG path data for polygons (each a list of rings) in integer grid units, y negated.
 
@@ -82,30 +91,23 @@ def svg_path_data(polygons: Iterable[Sequence[Sequence[tuple[float, float]]]], g
     an absolute move and relative line segments; rings with fewer than three distinct grid points
     are left out.
     """
-    parts: list[str] = []
-    for rings in polygons:
-        for ring in rings:
-            pts = _clean_ints(_grid_ints(ring, grid_mm))
-            if len(pts) < 3:
-                continue
-            deltas = np.diff(pts, axis=0).ravel().tolist()
-            parts.append(f"M{_numbers(pts[0].tolist())}l{_numbers(deltas)}z")
-    return "".join(parts)
+    return "".join(_ring_path(_clean_ints(_grid_ints(ring, grid_mm))) for rings in polygons for ring in rings)
 
 
-def _polygons_of(geom: BaseGeometry | None) -> list[Polygon]:
+def _polygon_parts(geom: BaseGeometry | None) -> np.ndarray:
+    """The polygons of any geometry, as an array (collections flattened, lines and points left out)."""
     if geom is None or geom.is_empty:
-        return []
-    if isinstance(geom, Polygon):
-        return [geom]
-    if isinstance(geom, MultiPolygon):
-        return list(geom.geoms)
-    if hasattr(geom, "geoms"):
-        out: list[Polygon] = []
-        for part in geom.geoms:  # type: ignore[attr-defined]
-            out.extend(_polygons_of(part))
-        return out
-    return []
+        return np.empty(0, dtype=object)
+    parts = np.asarray([geom], dtype=object)
+    while True:
+        types = shapely.get_type_id(parts)
+        multi = (types == 6) | (types == 7)  # MultiPolygon, GeometryCollection
+        if not multi.any():
+            break
+        parts = np.concatenate([parts[~multi], shapely.get_parts(parts[multi])])
+    types = shapely.get_type_id(parts)
+    polys = parts[types == 3]  # Polygon
+    return polys[~shapely.is_empty(polys)]
 
 
 def _layer_image(layer: Layer) -> BaseGeometry | None:
@@ -130,32 +132,49 @@ def _layer_image(layer: Layer) -> BaseGeometry | None:
     return image
 
 
-def _rings_of(poly: Polygon, grid_mm: float) -> PolygonRings:
-    """A polygon's rings as vertex lists snapped to the grid (exterior first)."""
-    rings: PolygonRings = []
-    for ring in [poly.exterior, *poly.interiors]:
-        coords = np.asarray(ring.coords, dtype=float)
-        snapped = np.rint(coords / grid_mm) * grid_mm
-        rings.append([(float(x), float(y)) for x, y in np.round(snapped, 6)])
-    return rings
+def _simplified(parts: np.ndarray, tolerance_mm: float) -> np.ndarray:
+    """Each polygon simplified on its own (Douglas-Peucker, vectorised in GEOS).
+
+    The plain algorithm is about 30 times faster than the topology-preserving one; only the
+    polygons it breaks (a ring crossing another, or a feature smaller than the tolerance that
+    collapses to nothing) are done again with topology kept, so no feature ever disappears.
+    """
+    if len(parts) == 0:
+        return parts
+    simple = shapely.simplify(parts, tolerance_mm, preserve_topology=False)
+    bad = shapely.is_empty(simple) | ~shapely.is_valid(simple)
+    if bad.any():
+        simple[bad] = shapely.simplify(parts[bad], tolerance_mm, preserve_topology=True)
+    return _polygon_parts(shapely.geometrycollections(simple))
 
 
-def _simplified(images: list[BaseGeometry | None], tolerance_mm: float) -> list[list[Polygon]]:
-    out: list[list[Polygon]] = []
-    for image in images:
-        if image is None or image.is_empty:
-            out.append([])
-            continue
-        simple = shapely.simplify(image, tolerance_mm, preserve_topology=True)
-        out.append([p for p in _polygons_of(simple) if not p.is_empty])
+def _snapped_rings(polys: np.ndarray, grid_mm: float) -> tuple[list[np.ndarray], np.ndarray]:
+    """All rings of the polygons snapped to the grid (mm), and the polygon each ring belongs to."""
+    if len(polys) == 0:
+        return [], np.empty(0, dtype=np.int64)
+    rings, ring_poly = shapely.get_rings(polys, return_index=True)
+    coords, coord_ring = shapely.get_coordinates(rings, return_index=True)
+    snapped = np.round(np.rint(coords / grid_mm) * grid_mm, 6)
+    counts = np.bincount(coord_ring, minlength=len(rings))
+    return np.split(snapped, np.cumsum(counts)[:-1]), ring_poly
+
+
+def _path_bytes(rings: list[np.ndarray], grid_mm: float) -> int:
+    return sum(len(_ring_path(_clean_ints(_grid_ints(r, grid_mm)))) for r in rings)
+
+
+def _as_polygons(rings: list[np.ndarray], ring_poly: np.ndarray) -> list[PolygonRings]:
+    """Rings grouped back into polygons (exterior first), as plain lists of (x, y) tuples."""
+    out: list[PolygonRings] = []
+    last = -1
+    for ring, poly in zip(rings, ring_poly.tolist(), strict=True):
+        pts = [(x, y) for x, y in ring.tolist()]
+        if poly != last:
+            out.append([pts])
+            last = poly
+        else:
+            out[-1].append(pts)
     return out
-
-
-def _path_bytes(polys: list[list[Polygon]], grid_mm: float) -> int:
-    total = 0
-    for layer_polys in polys:
-        total += len(svg_path_data((_rings_of(p, grid_mm) for p in layer_polys), grid_mm))
-    return total
 
 
 def _outline_rings(outline: BaseGeometry | None) -> list[Ring]:
@@ -219,22 +238,18 @@ def drawing_from_board(
     if not math.isfinite(tolerance_mm) or tolerance_mm <= 0:
         raise ValueError(f"tolerance_mm must be a positive number, got {tolerance_mm!r}")
     copper = board.copper_layers()
-    images = [_layer_image(layer) for layer in copper]
+    parts = [_polygon_parts(_layer_image(layer)) for layer in copper]
     tolerance = tolerance_mm
     while True:
-        polys = _simplified(images, tolerance)
         grid = grid_for(tolerance)
-        if _path_bytes(polys, grid) <= max_bytes or tolerance * 2 > MAX_TOLERANCE_MM:
+        snapped = [_snapped_rings(_simplified(p, tolerance), grid) for p in parts]
+        size = sum(_path_bytes(rings, grid) for rings, _ in snapped)
+        if size <= max_bytes or tolerance * 2 > MAX_TOLERANCE_MM:
             break
         tolerance *= 2
     draw_layers = [
-        DrawLayer(
-            name=layer.name,
-            function=layer.function,
-            side=layer.side,
-            polygons=[_rings_of(p, grid) for p in layer_polys],
-        )
-        for layer, layer_polys in zip(copper, polys, strict=True)
+        DrawLayer(name=layer.name, function=layer.function, side=layer.side, polygons=_as_polygons(rings, ring_poly))
+        for layer, (rings, ring_poly) in zip(copper, snapped, strict=True)
     ]
     outline = _outline_rings(board.outline)
     holes = _holes(board)

@@ -359,6 +359,16 @@ def test_drawing_gets_coarser_to_fit_the_budget() -> None:
     assert DEFAULT_MAX_BYTES < 5_000_000
 
 
+def test_small_features_survive_a_coarse_tolerance() -> None:
+    # Douglas-Peucker alone collapses a ring smaller than its tolerance to nothing; a via pad
+    # must still be drawn (as a coarser shape) however coarse the drawing gets
+    pads = [Point(5 + i, 5).buffer(0.15, quad_segs=16) for i in range(5)]
+    drawing = drawing_from_board(_board([shapely.union_all([*pads, box(0, 0, 3, 3)])]), tolerance_mm=0.5)
+    assert len(drawing.layers[0].polygons) == 6
+    for poly in drawing.layers[0].polygons:
+        assert Polygon(poly[0]).area > 0
+
+
 def test_drawing_outline_holes_and_slots() -> None:
     drawing = drawing_from_board(_board([box(1, 1, 2, 2), box(3, 3, 4, 4)]))
     assert [layer.name for layer in drawing.layers] == ["l0", "l1"]
