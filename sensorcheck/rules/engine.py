@@ -30,7 +30,7 @@ import traceback
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, ClassVar, Literal
+from typing import TYPE_CHECKING, Any, ClassVar, Literal
 
 from sensorcheck.errors import ConfigError
 from sensorcheck.rules.finding import (
@@ -44,6 +44,10 @@ from sensorcheck.rules.finding import (
     fingerprint_for,
     sort_key,
 )
+
+if TYPE_CHECKING:
+    from sensorcheck.design.model import Config, Design
+    from sensorcheck.physics.estimate import SensorEstimate
 
 Need = Literal["overlay", "sensors", "roles", "stackup", "outline", "max_parasitic_pf", "estimates"]
 SeverityOrOff = Literal["error", "warning", "note", "off"]
@@ -134,7 +138,8 @@ class Rule:
     def family(cls) -> str:
         return cls.id.split(".", 1)[0]
 
-    def check(self, design: Any, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+    def check(self, design: Design, estimates: Mapping[str, SensorEstimate],
+              params: Mapping[str, Any]) -> Iterable[Finding]:
         raise NotImplementedError
 
 
@@ -367,7 +372,7 @@ def load_profile(name_or_path: str, base_dir: Path | None = None,
     return out
 
 
-def effective_settings(config: Any) -> dict[str, tuple[SeverityOrOff, dict[str, Any]]]:
+def effective_settings(config: Config) -> dict[str, tuple[SeverityOrOff, dict[str, Any]]]:
     """Rule id -> (severity or "off", full params) after defaults < profile < config."""
     base_dir = Path(config.file).parent if getattr(config, "file", None) else None
     profile = load_profile(config.profile or "default", base_dir)
@@ -405,7 +410,7 @@ class RuleRun:
     notes: list[str] = field(default_factory=list)
 
 
-def _missing_needs(cls: type[Rule], design: Any, estimates: Mapping[str, Any] | None) -> list[str]:
+def _missing_needs(cls: type[Rule], design: Design, estimates: Mapping[str, SensorEstimate] | None) -> list[str]:
     missing: list[str] = []
     config = design.config
     for need in cls.needs:
@@ -515,7 +520,8 @@ def apply_waivers(findings: list[Finding], waivers: Iterable[Waiver], today: _dt
     return notes
 
 
-def run_rules(design: Any, estimates: Mapping[str, Any] | None = None, *, progress: Progress | None = None) -> RuleRun:
+def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = None, *,
+              progress: Progress | None = None) -> RuleRun:
     """Run every enabled rule on ``design``; fingerprint, waive and sort the findings.
 
     ``estimates``: sensor name -> :class:`~sensorcheck.physics.estimate.SensorEstimate`, or None
@@ -525,7 +531,7 @@ def run_rules(design: Any, estimates: Mapping[str, Any] | None = None, *, progre
     settings = effective_settings(config)
     reg = registry()
     run = RuleRun()
-    est: Mapping[str, Any] = estimates if estimates is not None else {}
+    est: Mapping[str, SensorEstimate] = estimates if estimates is not None else {}
     active = [rid for rid, cls in reg.items() if not cls.engine_only]
     for i, rid in enumerate(active):
         cls = reg[rid]
