@@ -194,14 +194,19 @@ def _home_box(result: Result) -> tuple[float, float, float, float]:
     return (x0 - pad, y0 - pad, x1 + pad, y1 + pad)
 
 
+def _all_finite(*values: float | None) -> bool:
+    return all(v is not None and math.isfinite(v) for v in values)
+
+
 def _located(f: Finding) -> bool:
+    """A finding is drawn when it has a finite point or box (else it is listed only)."""
     loc = f.location
-    return (loc.x_mm is not None and loc.y_mm is not None) or loc.box_mm is not None
+    return _all_finite(loc.x_mm, loc.y_mm) or (loc.box_mm is not None and _all_finite(*loc.box_mm))
 
 
 def _finding_point(f: Finding) -> tuple[float, float]:
     loc = f.location
-    if loc.x_mm is not None and loc.y_mm is not None:
+    if loc.x_mm is not None and loc.y_mm is not None and _all_finite(loc.x_mm, loc.y_mm):
         return loc.x_mm, loc.y_mm
     assert loc.box_mm is not None
     return (loc.box_mm[0] + loc.box_mm[2]) / 2, (loc.box_mm[1] + loc.box_mm[3]) / 2
@@ -314,7 +319,7 @@ def _svg(prefix: str, result: Result, fids: dict[int, str], findings: list[Findi
         fid = fids[i]
         x, y = _finding_point(f)
         parts = [f'<g class="fmark {_sev_class(f)}" data-fid="{fid}" id="{fid}-m">']
-        box = f.location.box_mm
+        box = f.location.box_mm if f.location.box_mm and _all_finite(*f.location.box_mm) else None
         if box is not None:
             parts.append(
                 f'<rect class="fbox" x="{_c(box[0])}" y="{_c(-box[3])}" width="{_c(box[2] - box[0])}" '
@@ -755,7 +760,7 @@ def _board_data(prefix: str, result: Result, findings: list[Finding], fids: dict
         if not _located(f):
             continue
         x, y = _finding_point(f)
-        box = f.location.box_mm
+        box = f.location.box_mm if f.location.box_mm and _all_finite(*f.location.box_mm) else None
         items.append(
             {
                 "id": fids[i],

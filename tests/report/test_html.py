@@ -258,6 +258,15 @@ def test_several_boards_one_page() -> None:
     assert len([a for a, _ in doc.scripts if a.get("type") == "application/json"]) == 2
 
 
+def test_non_finite_places_are_listed_not_drawn() -> None:
+    result = _result()
+    result.findings.append(Finding("odd.place", "warning", "place lost", location=Location("top-copper", float("nan"), 1.0)))
+    doc = parse(render([result]))
+    assert len(doc.with_class("fitem")) == 5
+    assert len([a for t, a in doc.elements if t == "g" and "fmark" in (a.get("class") or "").split()]) == 3
+    assert not [a for t, a in doc.elements if t in ("circle", "rect") and "nan" in " ".join(str(v) for v in a.values())]
+
+
 def test_no_results_still_a_page() -> None:
     doc = parse(render([]))
     assert "No boards were checked." in "".join(doc.text)
@@ -367,6 +376,29 @@ def test_small_features_survive_a_coarse_tolerance() -> None:
     assert len(drawing.layers[0].polygons) == 6
     for poly in drawing.layers[0].polygons:
         assert Polygon(poly[0]).area > 0
+
+
+@pytest.mark.corpus
+def test_corpus_board_drawn_within_tolerance(shared_dir: Path) -> None:
+    """A real board (b03, its copper read by the board reader): every copper layer drawn, faithfully."""
+    fab = shared_dir / "corpus" / "b03-wheel" / "fab"
+    if not fab.is_dir():
+        pytest.skip("corpus board b03-wheel is not there")
+    from sensorcheck.board.build import load_board
+
+    board = load_board(fab)
+    drawing = drawing_from_board(board)
+    tol = drawing.simplify_tolerance_mm
+    bound = tol + grid_for(tol) * math.sqrt(2) / 2
+    assert [layer.name for layer in drawing.layers] == [layer.name for layer in board.copper_layers()]
+    for layer, drawn_layer in zip(board.copper_layers(), drawing.layers, strict=True):
+        assert layer.dark is not None
+        drawn = shapely.union_all([Polygon(p[0], p[1:]) for p in drawn_layer.polygons])
+        # what moved lies in a band of half-width `bound` around the boundary: area <= 2 x length x bound
+        moved = shapely.symmetric_difference(layer.dark, drawn).area
+        assert moved <= 2 * layer.dark.boundary.length * bound
+    page = render([Result(board=board.name, source="b03", tool_version="t", config_file=None, drawing=drawing)])
+    assert len(page.encode()) < 5_000_000  # issue 5: the page stays under 5 MB
 
 
 def test_drawing_outline_holes_and_slots() -> None:

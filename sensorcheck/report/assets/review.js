@@ -58,6 +58,7 @@
     var drag = null;
     svg.addEventListener("pointerdown", function (e) {
       if (e.button !== 0) { return; }
+      canvas.focus({ preventScroll: true });
       drag = { x: e.clientX, y: e.clientY, v: view.slice(), k: unitsPerPx(), moved: false, id: e.pointerId };
     });
     svg.addEventListener("pointermove", function (e) {
