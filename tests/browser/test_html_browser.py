@@ -88,7 +88,7 @@ def test_list_and_board_agree(session: dict[str, Any]) -> None:
 def test_click_finding_highlights_and_zooms(session: dict[str, Any]) -> None:
     page = session["page"]
     page.keyboard.press("Escape")
-    page.focus("#b0-svg")
+    page.focus("#b0 .canvas")
     page.keyboard.press("0")
     home = _view(page)
     # the error at B1's pour clearance: (14.9, 32.4) mm in the synthetic board
