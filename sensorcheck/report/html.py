@@ -62,6 +62,10 @@ _UNIT_SUFFIXES: tuple[tuple[str, str], ...] = (
     ("_mhz", "MHz"),
     ("_khz", "kHz"),
 )
+_NO_DRAWING = (
+    '<p class="no-drawing">The board\'s copper is not drawn: this result carries no drawing. '
+    "Sensors and findings are placed on an empty field.</p>"
+)
 _ESTIMATE_SCALARS = (
     "kind",
     "baseline_pf",
@@ -803,6 +807,7 @@ def _board_section(index: int, label: str, result: Result, rules: dict[str, Rule
         '<div class="review">'
         f'<div class="viewer">{_toolbar(prefix, toggles)}'
         f'<div class="canvas" tabindex="0" aria-label="Board view: drag or arrow keys to pan, wheel or +/- to zoom, 0 to fit">{svg}</div>'
+        f"{'' if result.drawing is not None else _NO_DRAWING}"
         '<div class="statusbar"><span class="coords">x, y (mm)</span>'
         '<span class="hint">drag to pan · wheel or +/− to zoom · 0 fits · click lists what is there</span></div>'
         '<div class="here" aria-live="polite"><p class="muted">Click the board to list what is there.</p></div>'

@@ -267,6 +267,15 @@ def test_non_finite_places_are_listed_not_drawn() -> None:
     assert not [a for t, a in doc.elements if t in ("circle", "rect") and "nan" in " ".join(str(v) for v in a.values())]
 
 
+def test_result_without_drawing_says_so() -> None:
+    result = _result()
+    result.drawing = None
+    doc = parse(render([result]))
+    assert doc.with_class("no-drawing")
+    assert len([a for t, a in doc.elements if t == "g" and "fmark" in (a.get("class") or "").split()]) == 3
+    assert not parse(render([_result()])).with_class("no-drawing")
+
+
 def test_no_results_still_a_page() -> None:
     doc = parse(render([]))
     assert "No boards were checked." in "".join(doc.text)
