@@ -173,7 +173,7 @@ def general_block(obs: np.ndarray, src: Panels, images: Images, *, exact_all: bo
     return out
 
 
-BODY_IMAGE_TOL = 1e-4  # images of a body on itself below this fraction of the direct term are dropped
+BODY_IMAGE_TOL = 1e-3  # images of a body on itself below this fraction of the direct term are dropped
 
 
 def pruned(images: Images, rel_tol: float) -> Images:

@@ -61,9 +61,9 @@ class SolverOptions:
     h_edge_mm: float = 0.8  # width of the edge band (rows at 1/16, 3/16, 1/2 of it) and panel length along edges
     h_near_mm: float | None = None  # None: 1.2 x the overlay thickness, within 0.8-2.0 mm
     h_far_mm: float = 3.0
-    finger_edge_mm: float = 0.5
+    finger_edge_mm: float = 0.7
     finger_max_mm: float = 3.0
-    finger_sides: int = 24
+    finger_sides: int = 20
     touch_gap_mm: float = 0.02  # the finger "on" the overlay: this thin film of air
     refine: float = 1.0
     search: bool = True
