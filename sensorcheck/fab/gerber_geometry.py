@@ -429,8 +429,9 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float)
             x1, y1, x2, y2 = obj.x1 * k, obj.y1 * k, obj.x2 * k, obj.y2 * k
             cx, cy = x1 + obj.cx * k, y1 + obj.cy * k
             r1, r2 = math.hypot(x1 - cx, y1 - cy), math.hypot(x2 - cx, y2 - cy)
-            if abs(r1 - r2) > max(0.001, 0.001 * max(r1, r2)):
+            if abs(r1 - r2) > max(0.001, 0.001 * max(r1, r2), 3 * parsed.resolution_mm):
                 # spec section 4.7.2: start and end must lie on one circle about the centre
+                # (allowing for rounding to the file's coordinate resolution)
                 parsed.warnings.append(f"{name}:{line}: arc radii differ ({r1:.4f} mm at the start, "
                                        f"{r2:.4f} mm at the end); drawn as a spiral between them")
             pts = arc_points(x1, y1, x2, y2, cx, cy, obj.clockwise, tol, extra_radius=r)

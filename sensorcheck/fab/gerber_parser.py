@@ -258,6 +258,17 @@ _DECIMAL = r"[\+-]?(?:\d+\.?\d*|\.\d+)"
 # statements some generators write that mean nothing for the image (kept, with a warning)
 _HARMLESS_UNKNOWN = re.compile(r"^(?:IPPOS|IPNEG|INV?.*|LN.*|G90|M01|G04.*|ICAS|AS.*|MI.*|SF.*|OF.*|IR.*)$")
 
+# gerbonara's warnings, said the way a board designer reads them
+_WARNING_WORDS = [
+    ("D01 interpolation with a zero-size aperture", "a draw with a zero-size aperture adds nothing to the image"),
+    ("Deprecated G74", "single-quadrant arc mode (G74, deprecated since 2021)"),
+    ("Deprecated G90", "G90 (absolute notation, deprecated statement)"),
+    ("Circular arc interpolation without explicit G75",
+     "arc without G74/G75 before it: read as multi-quadrant (G75)"),
+    ("Coordinate omitted from first coordinate statement",
+     "the first coordinate statement omits X or Y: taken as 0"),
+]
+
 _ATTRIBUTE_RX = re.compile(
     r"(?P<eagle_garbage>)(?P<type>TF|TA|TO|TD)(?P<name>[._$a-zA-Z][._$a-zA-Z0-9]*)?(,(?P<value>.*))?$", re.DOTALL
 )
@@ -269,6 +280,8 @@ class ParseResult:
 
     gerber: GerberFile
     units: str  # "mm" | "inch"
+    #: the smallest coordinate step the file can write (from FS and MO), in mm
+    resolution_mm: float
     file_attributes: dict[str, list[str]]
     warnings: list[str] = field(default_factory=list)
     comments: list[str] = field(default_factory=list)
@@ -352,6 +365,10 @@ class SensorcheckGerberParser(GerberParser):
         return InputError(self.sc_name, line if line is not None else self.lineno, message, expected)
 
     def warn(self, msg: str, kls: type = SyntaxWarning) -> None:  # noqa: ARG002 - gerbonara's signature
+        for prefix, ours in _WARNING_WORDS:
+            if msg.startswith(prefix):
+                msg = ours
+                break
         self.sc_warnings.append(f"{self.sc_name}:{self.lineno}: {msg}")
 
     # ---- main loop ---------------------------------------------------------------------------
@@ -686,4 +703,6 @@ def parse_gerber_text(text: str, name: str, limits: Limits = DEFAULT_LIMITS) -> 
     else:
         units = "inch" if unit == Inch else "mm"
     attrs = {k: list(v) for k, v in parser.file_attrs.items()}
-    return ParseResult(target, units, attrs, parser.sc_warnings, list(target.comments))
+    decimals = parser.file_settings.number_format[1] or 6
+    resolution_mm = 10.0**-decimals * (25.4 if units == "inch" else 1.0)
+    return ParseResult(target, units, resolution_mm, attrs, parser.sc_warnings, list(target.comments))

@@ -15,6 +15,8 @@ import pytest
 
 from sensorcheck.fab.gerber import read_gerber
 
+pytestmark = pytest.mark.corpus  # reads ../shared; skips where absent
+
 _CORPUS = Path(__file__).resolve().parents[2].parent / "shared" / "corpus"
 BOARDS = sorted(p.name for p in _CORPUS.iterdir() if (p / "fab").is_dir()) if _CORPUS.is_dir() else []
 
@@ -64,3 +66,33 @@ def test_corpus_facts_from_its_readme() -> None:
     assert "GND" in nets and len(nets) > 10
     # copper pours are regions: they must keep their nets (DESIGN.md section 4)
     assert any(f.kind == "region" and f.net for f in got.features)
+
+
+# Peer suites' real boards (../shared/gerber-suites/README.md): tracespace's eight boards from
+# several generators (Eagle, KiCad, others; mostly inch) and pcb-tools' small board.
+_SUITES = _CORPUS.parent / "gerber-suites"
+_PEER_DIRS = sorted(p for p in (_SUITES / "tracespace-fixtures" / "boards").iterdir() if p.is_dir()) \
+    if (_SUITES / "tracespace-fixtures" / "boards").is_dir() else []
+
+
+def _peer_files(folder: Path) -> list[Path]:
+    out = []
+    for p in sorted(folder.rglob("*")):
+        if not p.is_file() or p.name.startswith("example_") or p.suffix.lower() in (".svg", ".json", ".md", ".ipc"):
+            continue
+        head = p.read_bytes()[:4096]
+        if re.search(rb"%FS|%MO", head) and b"M48" not in head[:300]:
+            out.append(p)
+    return out
+
+
+@pytest.mark.skipif(not _PEER_DIRS, reason="../shared/gerber-suites absent")
+@pytest.mark.parametrize("folder", [*_PEER_DIRS, _SUITES / "pcb-tools-resources"], ids=lambda p: p.name)
+def test_peer_suite_boards_read(folder: Path) -> None:
+    files = _peer_files(folder)
+    assert files
+    for path in files:
+        got = read_gerber(path.read_bytes(), path.name)
+        if got.object_count and got.dark is not None and not got.dark.is_empty:
+            x0, y0, x1, y1 = got.dark.bounds
+            assert 0 < max(x1 - x0, y1 - y0) < 500, path.name

@@ -36,7 +36,7 @@ from gerbonara.utils import Inch  # noqa: E402
 from sensorcheck.fab.gerber import read_gerber  # noqa: E402
 from sensorcheck.fab.gerber_parser import MacroAperture, StandardAperture, decode_gerber, parse_gerber_text  # noqa: E402
 
-pytestmark = pytest.mark.filterwarnings("ignore")  # pygerber's own deprecation warnings
+pytestmark = [pytest.mark.corpus, pytest.mark.filterwarnings("ignore")]  # pygerber's own deprecation warnings
 
 
 @pytest.fixture(autouse=True)

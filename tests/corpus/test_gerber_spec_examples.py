@@ -22,6 +22,8 @@ from shapely.geometry.base import BaseGeometry
 from sensorcheck.errors import InputError
 from sensorcheck.fab.gerber import read_gerber
 
+pytestmark = pytest.mark.corpus  # reads ../shared; skips where absent
+
 TOL_MM = 1e-5
 IN = 25.4  # mm per inch
 IN2 = IN * IN

@@ -28,6 +28,8 @@ from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.fab.gerber import read_gerber
 
+pytestmark = pytest.mark.corpus  # reads ../shared; skips where absent
+
 SVG_NS = "{http://www.w3.org/2000/svg}"
 
 
