@@ -1,0 +1,85 @@
+"""``sensorcheck estimate``: table, JSON, figure, sweep parsing, and a run on an invented design."""
+
+from __future__ import annotations
+
+import argparse
+import json
+from pathlib import Path
+
+import pytest
+
+from sensorcheck.commands import estimate as cmd
+from sensorcheck.errors import SensorcheckError
+from sensorcheck.physics.estimate import SensorEstimate
+
+from .designs import button
+
+
+def _est(name: str = "K1", turn: float | None = 1.2) -> SensorEstimate:
+    return SensorEstimate(
+        sensor=name,
+        kind="mutual",
+        model="estimate: test model",
+        baseline_pf=1.30,
+        touch_delta_pf=-0.15,
+        percent_change=-11.5,
+        turning_point_mm=turn,
+        curve=[(20.0, 1.299), (2.0, 1.20), (0.0, 1.15)],
+        best_point_mm=(1.0, -4.0),
+        crosstalk_pf={"K2": -0.004},
+        panels=1234,
+        notes=["window 15 mm"],
+    )
+
+
+def test_rows_label_units_and_values() -> None:
+    rows = cmd.estimate_rows({"K1": _est(), "A0": _est("A0", None)})
+    assert [r["sensor"] for r in rows] == ["A0", "K1"]
+    k1 = rows[1]
+    assert k1["baseline_pf"] == "1.300" and k1["touch_delta_ff"] == "-150.0" and k1["turning_point_mm"] == "1.20"
+    assert rows[0]["turning_point_mm"] == "none"
+    assert "K2 -4.0 fF" in k1["crosstalk"]
+
+
+def test_json_is_deterministic_and_says_estimate() -> None:
+    a = json.dumps(cmd.estimates_json({"K1": _est()}), sort_keys=True)
+    b = json.dumps(cmd.estimates_json({"K1": _est()}), sort_keys=True)
+    assert a == b
+    data = json.loads(a)
+    assert "measure a prototype" in data["disclaimer"]
+    assert data["estimates"][0]["curve"][0] == [20.0, 1.299]
+
+
+@pytest.mark.parametrize("suffix, magic", [(".png", b"\x89PNG"), (".svg", b"<?xml")])
+def test_plot_writes_png_or_svg(tmp_path: Path, suffix: str, magic: bytes) -> None:
+    out = tmp_path / f"curves{suffix}"
+    cmd.plot_curves({"K1": _est()}, out)
+    assert out.read_bytes().startswith(magic)
+
+
+def test_plot_refuses_other_formats(tmp_path: Path) -> None:
+    with pytest.raises(SensorcheckError, match="png or .svg"):
+        cmd.plot_curves({"K1": _est()}, tmp_path / "curves.pdf")
+
+
+@pytest.mark.parametrize("text", ["thickness=1,2", "overlay_thickness_mm=", "overlay_epsilon_r=a,b"])
+def test_bad_sweep_specs(text: str) -> None:
+    with pytest.raises(SensorcheckError):
+        cmd.parse_sweep(text)
+
+
+def test_sweep_spec() -> None:
+    assert cmd.parse_sweep("overlay_epsilon_r=2.8,7") == ("overlay_epsilon_r", [2.8, 7.0])
+
+
+def test_run_prints_table_and_writes_figure(tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]) -> None:
+    fast = {"h_edge_mm": 1.0, "h_near_mm": 1.5, "h_far_mm": 4.0, "window_mm": 8.0, "finger_sides": 16, "search": False, "heights": 3}
+    design = button(estimate=fast)
+    import sensorcheck.check as check
+
+    monkeypatch.setattr(check, "build_design_for", lambda path, config=None: design)
+    args = argparse.Namespace(path="x", config=None, sensor=["K1"], plot=tmp_path / "c.png", sweep=None, format="text")
+    assert cmd.run(args) == 0
+    out = capsys.readouterr().out
+    assert "estimates" in out.lower() and "K1" in out and "measure a prototype" in out
+    assert (tmp_path / "c.png").exists()
