@@ -410,3 +410,128 @@ def test_b06_neighbour_spacing(b06: dict[str, Any], a: str, b: str) -> None:
     f = with_text(b06["findings"], "electrode.neighbour-spacing", f"{a} and {b} are")
     assert f["value"] == pytest.approx(gap_mm, abs=0.002)
     assert f["limit"] == 5.0
+
+
+# --- b01-slider-proto: three self sliders (two on the bottom copper, one of single top pads) -----------
+
+B01 = "b01-slider-proto"
+B01_SLIDERS = {
+    "resistive_key": [f"/3-pad-sliders/RESISTIVE_KEY{i}" for i in range(3)],
+    "spatial_key": [f"/3-pad-sliders/SPATIAL_KEY{i}" for i in range(3)],
+    "pad_slider": ["Net-(P2-Pad1)", "Net-(P5-Pad1)", "Net-(P6-Pad1)"],
+}
+B01_LAYER = {"resistive_key": "bottom", "spatial_key": "bottom", "pad_slider": "top"}
+
+
+def _ipc_name(net: str) -> str:
+    """KiCad's IPC-D-356 export keeps the last 14 characters of a net name, upper-cased."""
+    return net.upper()[-14:]
+
+
+@pytest.fixture(scope="module")
+def b01(shared_dir: Path, tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
+    fab = shared_dir / "corpus" / B01 / "fab"
+    findings = run_check(fab, B01, tmp_path_factory.mktemp(B01))
+    points = ipc356_points(fab / "netlist.ipc")
+    wanted = {_ipc_name(n) for nets in B01_SLIDERS.values() for n in nets}
+    xy = np.array([(x, y) for n, x, y, _ in points if n in wanted])
+    # the sliders and their surroundings only: reading the whole 1.7 MB bottom layer costs seconds
+    roi = box(*(xy.min(axis=0) - 25.0), *(xy.max(axis=0) + 25.0))
+    out: dict[str, Any] = {"findings": findings}
+    for side, stem, access in (("bottom", "B", (0, 2)), ("top", "F", (0, 1))):
+        cu_file = fab / f"slider_rev_1_0-{stem}_Cu.{'gbl' if stem == 'B' else 'gtl'}"
+        prims = [(p, _shape(p)) for p in _primitives_in(cu_file, roi)]
+        pieces = nets_by_netlist(shapely.union_all([s for _, s in prims]), points, access)
+        out[side] = {
+            "net": {n: shapely.union_all([c for c, ns in pieces if _ipc_name(n) in ns])
+                    for nets in B01_SLIDERS.values() for n in nets},
+            "gnd": shapely.union_all([c for c, ns in pieces if "GND" in ns]),
+            # drawn tracks (pads drawn as zero-length 1.7 mm strokes excluded by the width)
+            "tracks": [(p.width, s) for p, s in prims if isinstance(p, (gp.Line, gp.Arc)) and p.width < 1.0],
+        }
+    out["bottom"]["paste"] = image(fab / "slider_rev_1_0-B_Paste.gbp")
+    out["top"]["paste"] = image(fab / "slider_rev_1_0-F_Paste.gtp")
+    out["top"]["mask"] = image(fab / "slider_rev_1_0-F_Mask.gts")
+    return out
+
+
+def _primitives_in(path: Path, roi: BaseGeometry) -> Iterator[Any]:
+    """The primitives whose bounding box meets ``roi`` (all dark: checked)."""
+    rx0, ry0, rx1, ry1 = roi.bounds
+    for obj in GerberFile.open(path).objects:
+        for p in obj.to_primitives(unit=MM):
+            assert p.polarity_dark, f"{path.name}: clear polarity not handled by this test's reader"
+            (x0, y0), (x1, y1) = p.bounding_box()
+            if x0 <= rx1 and rx0 <= x1 and y0 <= ry1 and ry0 <= y1:
+                yield p
+
+
+@pytest.mark.parametrize("sensor", sorted(B01_SLIDERS))
+def test_b01_segment_to_ground_gap(b01: dict[str, Any], sensor: str) -> None:
+    """gap.electrode-ground-vs-overlay, one warning per segment.  By hand: the distance from all the
+    segment net's copper on its layer (pad and track) to the GND copper there.  The rule measures
+    the electrode alone, a part of that copper, so its gap can only be the same or larger: the
+    check is hand <= value <= hand + 0.01 mm.  By hand: resistive 0.492, spatial 0.235 / 0.501 /
+    0.501, pads 0.509 mm; all below the 1.0 mm target (our 1 mm overlay assumption).  (The README's
+    'pad-to-pour clearance as low as 0.05 mm' is on the mutual sliders, which are not configured.)"""
+    side = b01[B01_LAYER[sensor]]
+    for net in B01_SLIDERS[sensor]:
+        hand_mm = side["net"][net].distance(side["gnd"])
+        assert 0.2 < hand_mm < 1.0, net
+        f = one(b01["findings"], "gap.electrode-ground-vs-overlay", nets=[net])
+        assert f["sensor"] == sensor and f["severity"] == "warning"
+        assert hand_mm - 0.002 <= f["value"] <= hand_mm + 0.01, net
+        assert f["limit"] == pytest.approx(1.0)
+
+
+def test_b01_paste_on_resistive_slider_only(b01: dict[str, Any]) -> None:
+    """fab.paste-on-electrode: by hand, the bottom paste openings over each RESISTIVE_KEY segment's
+    copper are 1.451 mm2 (the pads of the interpolation resistors sitting in the segment, R85/R90
+    etc. in the netlist: a true finding by the rule's definition, a reviewer would waive it); none
+    over the spatial slider or the top pads (0 mm2), so no finding there."""
+    for sensor, nets in B01_SLIDERS.items():
+        side = b01[B01_LAYER[sensor]]
+        for net in nets:
+            hand = side["net"][net].intersection(side["paste"]).area
+            found = pick(b01["findings"], "fab.paste-on-electrode", nets=[net])
+            if sensor == "resistive_key":
+                assert hand == pytest.approx(1.4512, rel=0.005)
+                assert len(found) == 1 and found[0]["value"] == pytest.approx(hand, rel=0.005)
+            else:
+                assert hand < 1e-6 and not found, net
+
+
+def test_b01_track_widths(b01: dict[str, Any]) -> None:
+    """trace.width: every sensor track on this board is drawn 0.254 mm (10 mil) wide: by hand, the
+    widest stroke under 1 mm inside each segment net's copper, per layer.  The default limit is
+    0.25 mm (common practice), so each net with a track on a layer warns once for it; nets with no
+    track on a layer (resistive and pads on the top, SPATIAL_KEY0 on the top) get none."""
+    expected: set[tuple[str, str]] = set()
+    for nets in B01_SLIDERS.values():
+        for net in nets:
+            for side in ("bottom", "top"):
+                cu = b01[side]["net"][net].buffer(1e-6)
+                widths = [w for w, s in b01[side]["tracks"] if cu.covers(s)]
+                if widths:
+                    assert max(widths) == pytest.approx(0.254, abs=1e-4), (net, side)
+                    expected.add((net, f"{side}-copper"))
+    found = pick(b01["findings"], "trace.width")
+    assert {(f["nets"][0], f["location"]["layer"]) for f in found} == expected
+    assert all(f["value"] == pytest.approx(0.254, abs=1e-4) and f["limit"] == 0.25 for f in found)
+
+
+def test_b01_pad_slider(b01: dict[str, Any]) -> None:
+    """The pad slider P2/P5/P6 on the top copper.  fab.mask-opening-on-electrode: by hand the top
+    mask opens each whole pad (65.85 mm2).  electrode.slider-coverage: by hand each pad's centre is
+    more than 4 mm (the default 8 mm contact's radius) from its neighbours, so a finger centred on
+    a pad touches no second segment: 0 % at worst."""
+    pads = [b01["top"]["net"][n] for n in B01_SLIDERS["pad_slider"]]
+    for net, pad in zip(B01_SLIDERS["pad_slider"], pads):
+        exposed = pad.intersection(b01["top"]["mask"]).area
+        f = one(b01["findings"], "fab.mask-opening-on-electrode", nets=[net])
+        assert f["value"] == pytest.approx(exposed, rel=0.005)
+    for i, pad in enumerate(pads):
+        others = shapely.union_all(pads[:i] + pads[i + 1:])
+        assert others.distance(pad.centroid) > 4.0
+    f = one(b01["findings"], "electrode.slider-coverage", sensor="pad_slider")
+    assert f["value"] == 0.0
