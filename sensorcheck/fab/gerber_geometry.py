@@ -133,12 +133,24 @@ def _rect(cx: float, cy: float, w: float, h: float) -> np.ndarray:
     )
 
 
+def polygonal(geom: BaseGeometry) -> BaseGeometry:
+    """Only the areas of a geometry (make_valid may also return the lines and points a
+    degenerate contour collapses to; they have no area and are no image)."""
+    if geom.geom_type in ("Polygon", "MultiPolygon"):
+        return geom
+    polys = [p for p in shapely.get_parts(geom) if p.geom_type == "Polygon" and not p.is_empty]
+    polys += [q for p in shapely.get_parts(geom) if p.geom_type == "MultiPolygon" for q in p.geoms]
+    if not polys:
+        return EMPTY
+    return polys[0] if len(polys) == 1 else shapely.union_all(polys)
+
+
 def _poly(coords: np.ndarray) -> BaseGeometry:
     if len(coords) < 3:
         return EMPTY
     p = Polygon(coords)
     if not p.is_valid:
-        p = shapely.make_valid(p)
+        p = polygonal(shapely.make_valid(p))
     return p
 
 
@@ -580,7 +592,7 @@ def _fix_region(poly: BaseGeometry) -> BaseGeometry:
     fixed = shapely.buffer(poly, 0)
     if fixed.is_empty and not poly.is_empty:
         fixed = shapely.make_valid(poly)
-    return fixed
+    return polygonal(fixed)
 
 
 # --------------------------------------------------------------------------------------------

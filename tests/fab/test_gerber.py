@@ -294,3 +294,12 @@ def test_malformed_macros_are_refused(macro: str, what: str) -> None:
 def test_huge_circle_stays_bounded() -> None:
     got = read_gerber(gbr("%ADD10C,100000*%\nD10*\nX0Y0D03*\n"), "big.gbr")
     assert len(got.features[0].geometry.exterior.coords) <= 8192 + 1
+
+
+def test_degenerate_region_leaves_no_lines_in_the_image() -> None:
+    # a contour that runs out and back along one line encloses no area (spec section 4.10): no
+    # image, and certainly no zero-width lines in it
+    body = f"G36*\nX0Y0D02*\nX{mm(5)}Y0D01*\nX0Y0D01*\nG37*\n%ADD10C,1*%\nD10*\nX{mm(10)}Y0D03*\n"
+    got = read_gerber(gbr(body), "d.gbr")
+    assert got.features[0].geometry.is_empty
+    assert got.dark is not None and got.dark.geom_type == "Polygon"
