@@ -35,15 +35,29 @@ class HatchMeasure:
 
     fill: float  # 0..1
     openings: int  # closed openings (holes in the copper) inside the window
-    opening_mm: float | None  # equivalent square side of the mean opening
+    opening_mm: float | None  # equivalent square side of the most common opening
     line_mm: float | None  # line width that, with that opening, gives the measured fill
+
+
+def _typical_area(areas: list[float]) -> float:
+    """The hatch's own opening area: the most common size (5 % bins), not a mean or median.
+
+    Near pads, traces and clearances many openings are cut to odd sizes (on a real board they can
+    outnumber the whole ones); the whole openings all have the same area and form the largest bin.
+    """
+    bins: dict[int, list[float]] = {}
+    for a in areas:
+        bins.setdefault(round(math.log(a) / math.log(1.05)), []).append(a)
+    best = max(bins.values(), key=lambda v: (len(v), float(np.median(v))))
+    return float(np.median(best))
 
 
 def measure_hatch(copper_geom: BaseGeometry, window: BaseGeometry) -> HatchMeasure:
     """Fill = copper area / window area, with the hatch's opening and line width read from the image.
 
-    The opening g is the side of a square of the mean area of the copper's closed openings inside
-    the window (clearances around what the window excludes do not count); the line width w is the
+    The opening g is the side of a square of the most common area among the copper's closed
+    openings inside the window (clearances around what the window excludes do not count, and the
+    openings that pads and traces cut to odd sizes do not pull it down); the line width w is the
     median distance from each opening to its nearest neighbour (the copper line between them), so
     it does not depend on how the window cuts the hatch.  For a square hatch the fill of a whole
     number of periods is then 1 - (g/(g+w))^2 (derived), which the tests check.  Solid copper (no
@@ -65,7 +79,7 @@ def measure_hatch(copper_geom: BaseGeometry, window: BaseGeometry) -> HatchMeasu
                 openings.append(opening)
     if not openings:
         return HatchMeasure(fill, 0, None, None)
-    g = math.sqrt(sum(o.area for o in openings) / len(openings))
+    g = math.sqrt(_typical_area([o.area for o in openings]))
     if len(openings) < 2:
         return HatchMeasure(fill, 1, g, None)
     tree = shapely.STRtree(openings)

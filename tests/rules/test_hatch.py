@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 
 import pytest
+import shapely
 from shapely.geometry import box
 
 from sensorcheck.physics.parasitics import EPS0_F_PER_M
@@ -119,3 +120,13 @@ def test_solid_far_ground_warns_light_hatch_passes() -> None:
     assert f.severity == "warning" and f.value == pytest.approx(plate_pf(144, 1.5, 4.5), rel=1e-6)
     light = square_hatch(-20, -20, 20, 20, 0.18, 1.14)
     assert run_one("hatch.ground-under-self", pad_over("bottom-copper", light, stackup_2layer(1.5))) == []
+
+
+def test_opening_is_not_pulled_down_by_cut_openings() -> None:
+    # a 0.5/1.5 mm hatch (the designed opening 1.5 mm) with a few openings partly filled by pads:
+    # the median opening stays the designed one (a mean would not)
+    hatch = square_hatch(0, 0, 20 * 2.0 + 0.5, 20 * 2.0 + 0.5, 0.5, 1.5)
+    pads = shapely.union_all([box(0.5 + 2 * k, 0.5, 1.5 + 2 * k, 1.5) for k in range(5)])  # fill half of 5 openings
+    m = measure_hatch(hatch.union(pads), box(0, 0, 40, 40))
+    assert m.opening_mm == pytest.approx(1.5, rel=1e-9)
+    assert m.line_mm == pytest.approx(0.5, rel=1e-9)
