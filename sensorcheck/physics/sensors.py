@@ -194,11 +194,17 @@ def _clean(geom: BaseGeometry, where: str, design: Design) -> BaseGeometry:
 
 
 def _dehatch(geom: BaseGeometry, notes: list[str], what: str) -> BaseGeometry:
-    """A hatch (many holes, low fill) becomes a solid sheet; the approximation is noted."""
+    """A hatch (many small openings, low fill) becomes a solid sheet; the approximation is noted.
+
+    Only the hatch's own openings are filled (those no larger than three times the median
+    opening): cut-outs around electrodes and other copper stay open.
+    """
     out = []
     for p in shapely.get_parts(geom):
         if isinstance(p, Polygon) and len(p.interiors) >= 12:
-            solid = Polygon(p.exterior)
+            areas = np.array([Polygon(r).area for r in p.interiors])
+            small = areas <= 3.0 * float(np.median(areas))
+            solid = Polygon(p.exterior, [r for r, keep in zip(p.interiors, ~small) if keep])
             fill = p.area / solid.area if solid.area > 0 else 1.0
             if fill < 0.85:
                 notes.append(
@@ -440,6 +446,7 @@ def build_model(
     kind, main = _roles_of(sensor, conductors)
     system = BoardSystem(panels, stack.medium, len(conductors))
     notes.append(f"window {w:g} mm around the sensor; {len(panels)} board panels")
+    notes = list(dict.fromkeys(notes))
     return SensorModel(design, sensor, overlay, finger, stack, conductors, system, cur, notes, kind, main)
 
 

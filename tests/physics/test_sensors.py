@@ -169,5 +169,9 @@ def test_hatched_ground_is_a_stated_sheet() -> None:
     hatch = grid.difference(Point(0, 0).buffer(9.0)).difference(__import__("shapely").union_all(holes))
     d = button(estimate=FAST)
     d.board.layers[0].by_net["GND"] = hatch
-    m = build_model(d, d.sensors[0])
+    m = build_model(d, d.sensors[0], opts=SolverOptions.from_config(FAST))
     assert any("hatched copper" in n and "solid sheet" in n for n in m.notes)
+    # only the hatch openings are filled: the cut-out around the sensor stays open
+    gnd = next(c for c in m.conductors if c.name == "ground").copper["top-copper"]
+    assert gnd.intersection(Point(0, 0).buffer(8.5)).area < 1e-6
+    assert gnd.area > 0.9 * (34 * 34 - np.pi * 81)
