@@ -32,12 +32,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import scipy.linalg as sla
+from scipy.spatial.distance import cdist
 from scipy.interpolate import RectBivariateSpline
 
 from sensorcheck.physics.greens import Images, LayeredMedium
 
 MAX_CORNERS = 6  # panels are convex polygons of 3 to 6 corners
-NEAR_ETA = 2.0  # exact integration closer than this many panel sizes (from the panel centroid)
+NEAR_ETA = 1.5  # exact integration closer than this many panel sizes (from the panel centroid)
 
 
 # --------------------------------------------------------------------------------------------
@@ -209,17 +210,27 @@ def _radial_table(amp: np.ndarray, dz: np.ndarray, rho_max: float, n: int = 2000
 
 
 def _lerp2(x: np.ndarray, grid: np.ndarray, f1: np.ndarray, f2: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Linear interpolation of two tables on the same uniform grid (faster than np.interp)."""
+    """Linear interpolation of two tables on the same uniform grid (faster than np.interp).
+
+    ``x`` is overwritten (it becomes the fractional position); the tables' dtype is kept.
+    """
     step = (grid[-1] - grid[0]) / (grid.size - 1)
-    t = x - grid[0]
-    t /= step
-    np.clip(t, 0.0, grid.size - 1.000001, out=t)
-    i = t.astype(np.intp)
-    t -= i
+    x -= grid[0]
+    x *= 1.0 / step
+    np.maximum(x, 0.0, out=x)
+    i = x.astype(np.intp)
+    np.minimum(i, grid.size - 2, out=i)
+    x -= i
     a1 = f1[i]
-    a1 += t * (f1[i + 1] - a1)
+    d1 = f1[i + 1]
+    d1 -= a1
+    d1 *= x
+    a1 += d1
     a2 = f2[i]
-    a2 += t * (f2[i + 1] - a2)
+    d2 = f2[i + 1]
+    d2 -= a2
+    d2 *= x
+    a2 += d2
     return a1, a2
 
 
@@ -230,45 +241,51 @@ def plane_block(obs: np.ndarray, z_obs: float, src: Panels, z_src: float, images
     size_ref = float(np.median(src.size))
     close = np.abs(dz) < 1.0 * size_ref
     close[np.argmin(np.abs(dz))] = True
-    rx = obs[:, 0][:, None] - src.centroid[None, :, 0]
-    ry = obs[:, 1][:, None] - src.centroid[None, :, 1]
-    rho2 = rx * rx + ry * ry
-    del rx, ry
-    out = np.zeros((len(obs), len(src)))
+    rho2 = cdist(obs[:, :2], src.centroid[:, :2], "sqeuclidean")
     size2 = (NEAR_ETA * src.size) ** 2
-    # panels on a horizontal plane: R.n = dz
+    ii, jj = np.nonzero(rho2 < size2[None, :])  # near in the plane: a superset for every image
+    m2q = (src.m2 / 4.0)[None, :]
+    area = src.area[None, :]
+    out: np.ndarray | None = None
     for a, dzk, zk in zip(amp[close], dz[close], zimg[close]):
         r2 = rho2 + dzk * dzk
-        near = r2 < size2[None, :]
-        r2[near] = 1.0
-        inv = np.sqrt(r2)
+        r2[ii, jj] = 1.0
+        inv = np.sqrt(r2, out=r2)
         np.divide(1.0, inv, out=inv)
-        del r2
-        # area * (1/R + m2/4 (rho^2 - 2 dz^2)/R^5)
-        val = (rho2 - 2.0 * dzk * dzk) * inv
-        val *= inv
-        val *= inv
-        val *= inv
-        val *= src.m2[None, :] / 4.0
+        # area * (1/R + m2/4 (rho^2 - 2 dz^2)/R^5): with R.n = dz on a horizontal plane
+        if dzk == 0.0:
+            val = inv * inv
+        else:
+            val = rho2 - 2.0 * dzk * dzk
+            val *= inv
+            val *= inv
+            val *= inv
+            val *= inv
+        val *= m2q
         val += 1.0
         val *= inv
-        val *= src.area[None, :]
-        val[near] = 0.0
-        ii, jj = np.nonzero(near)
-        if ii.size:
-            vv = src.verts[jj].copy()
-            vv[..., 2] = zk
-            val[ii, jj] = polygon_integral(obs[ii], vv)
-        out += a * val
+        val *= area
+        del inv, r2
+        vv = src.verts[jj].copy()
+        vv[..., 2] = zk
+        val[ii, jj] = polygon_integral(obs[ii], vv)
+        if out is None:
+            val *= a
+            out = val
+        else:
+            val *= a
+            out += val
+    assert out is not None
     if np.any(~close):
         rho_max = float(np.sqrt(rho2.max())) + 1e-12
         u, g, lap, d0 = _radial_table(amp[~close], dz[~close], rho_max)
-        uq = rho2 + d0 * d0
+        uq = rho2.astype(np.float32)
+        uq += np.float32(d0 * d0)
         np.log(uq, out=uq)
-        gi, li = _lerp2(uq, u, g, lap)
-        li *= src.m2[None, :] / 4.0
+        gi, li = _lerp2(uq, u, g.astype(np.float32), lap.astype(np.float32))
+        li *= m2q.astype(np.float32)
         li += gi
-        li *= src.area[None, :]
+        li *= area.astype(np.float32)
         out += li
     return out
 
