@@ -14,6 +14,7 @@ our error, known bug, problem), then each distinct problem with a reproducer fil
 from __future__ import annotations
 
 import argparse
+import warnings
 import re
 import sys
 import time
@@ -27,6 +28,10 @@ from hypothesis import HealthCheck, Phase, given, settings  # noqa: E402
 
 from hardening import READERS, Reader, Worker, problem  # noqa: E402
 from hardening.test_mutations import Example, examples, known_bug  # noqa: E402
+
+
+class _TimeUp(Exception):
+    """Raised in the property when the reader's share of time is spent (hypothesis stops on it)."""
 
 
 def _signature(found: str) -> str:
@@ -44,7 +49,7 @@ def fuzz_reader(reader: Reader, examples_n: int, seconds: float, out: Path, work
     @given(example=examples(reader, None))
     def run(example: Example) -> None:
         if time.monotonic() > stop_at:
-            return
+            raise _TimeUp
         outcome = worker.run(reader, example.data, example.name)
         found = problem(outcome, example.name, example.data)
         counts["examples"] += 1
@@ -62,11 +67,15 @@ def fuzz_reader(reader: Reader, examples_n: int, seconds: float, out: Path, work
             out.mkdir(parents=True, exist_ok=True)
             (out / f"{reader}-{len(problems)}-{Path(example.name).name}").write_bytes(example.data)
 
-    run()
+    try:
+        run()
+    except _TimeUp:
+        pass
     return counts, problems
 
 
 def main(argv: list[str] | None = None) -> int:
+    warnings.simplefilter("ignore")  # hypothesis warns about the repr of large examples it will not print
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--examples", type=int, default=1_000_000, help="most examples per reader")
     ap.add_argument("--seconds", type=float, default=300.0, help="time for the whole run, split over the readers")
