@@ -593,6 +593,8 @@ def estimate_with(
         notes.append(
             f"proximity range: {model.opts.hand_diameter_mm:g} mm hand-sized plate, signal floor {model.opts.proximity_floor_pf * 1000:g} fF (assumed)"
         )
+        if detection is not None and detection >= model.opts.hand_max_height_mm:
+            notes.append(f"proximity range is at least {model.opts.hand_max_height_mm:g} mm (the search stops there)")
     f = model.finger
     ground = "earthed device" if f.device_ground_coupling_pf is None else f"device ground {f.device_ground_coupling_pf:g} pF to earth"
     model_text = (

@@ -175,3 +175,17 @@ def test_hatched_ground_is_a_stated_sheet() -> None:
     gnd = next(c for c in m.conductors if c.name == "ground").copper["top-copper"]
     assert gnd.intersection(Point(0, 0).buffer(8.5)).area < 1e-6
     assert gnd.area > 0.9 * (34 * 34 - np.pi * 81)
+
+
+def test_proximity_range_grows_with_electrode_size() -> None:
+    # a larger self electrode reaches further for the same hand-sized target and signal floor
+    # (field knowledge: the coupling to a distant plate scales with the electrode's capacitance)
+    ranges = []
+    for r in (5.0, 9.0):
+        el = Point(0, 0).buffer(r, quad_segs=16)
+        s = Sensor("P1", "proximity", "top-copper", [Electrode("PROX", "self", "top-copper", el)], el.buffer(1), 1.0)
+        d = make_design({"PROX": el}, {"PROX": "self"}, [s], estimate=FAST)
+        e = estimate_sensor(d, s, heights=2)
+        assert e.detection_range_mm is not None
+        ranges.append(e.detection_range_mm)
+    assert ranges[1] > ranges[0] > 10.0
