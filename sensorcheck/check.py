@@ -234,7 +234,8 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
             ],
         }
 
-    estimates: dict[str, Any] = {}
+    # None (not {}): the rules that need estimates then say once that there are none
+    estimates: dict[str, Any] | None = None
     want_estimates = options.estimate if options.estimate is not None else bool(config.estimate.get("enabled", True))
     if want_estimates and design.sensors:
         try:
@@ -257,7 +258,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         result.findings.append(_internal_error_finding("rules", exc))
 
     try:
-        result.sensors = _summaries(design, estimates)
+        result.sensors = _summaries(design, estimates or {})
     except Exception as exc:  # noqa: BLE001
         result.findings.append(_internal_error_finding("summary", exc))
     if options.with_drawing:
