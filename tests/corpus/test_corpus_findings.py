@@ -244,14 +244,14 @@ def test_b03_hatch_fill_near_wheel(b03: dict[str, Any]) -> None:
     assert "hatch line 1.00 mm" in f["message"]  # README: 1.0 mm lines
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "hatch.measure_hatch reports the opening as the side of the MEAN opening area, which the clipped "
-    "openings next to pads and the ring edge pull down: 1.26 mm where the designers state 1.5 mm "
-    "(and the Gerber's 45 whole openings measure 1.50 mm). Reported to the rule's owner."))
 def test_b03_hatch_opening_as_designed(b03: dict[str, Any]) -> None:
+    """The hatch geometry the finding reports: 1.0 mm lines (checked above) and 1.5 mm openings, as
+    the designers state and the Gerber's whole openings measure.  (Checking this by hand found the
+    rule reporting 1.26 mm, the side of the MEAN opening, which the openings cut small next to
+    pads pull down; its owner has since taken the most common opening size instead.)"""
     f = one(b03["findings"], "hatch.fill-near-sensor", sensor="wheel")
     m = re.search(r"opening ([0-9.]+) mm", f["message"])
-    assert m and float(m.group(1)) == pytest.approx(1.5, abs=0.1)  # README: 1.5 mm gaps
+    assert m and float(m.group(1)) == pytest.approx(1.5, abs=0.05)  # README: 1.5 mm gaps
 
 
 @pytest.mark.parametrize(("trace_net", "electrode_net", "area_mm2"), [
