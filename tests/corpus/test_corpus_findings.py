@@ -325,6 +325,30 @@ def test_b03_copper_under_each_segment(b03: dict[str, Any]) -> None:
         assert m and float(m.group(1)) == pytest.approx(fill_percent, abs=0.2)
 
 
+def test_b03_wheel_coverage(b03: dict[str, Any]) -> None:
+    """electrode.slider-coverage: by hand, a disc of the default 8 mm contact swept round the circle
+    through the three segment centroids (radius 8.37 mm about the wheel's centre) sees, at worst,
+    a second segment at 3.5 % of the first: below the 10 % floor (derived), so a warning.  The rule
+    sweeps the closed polyline through the centroids instead (a triangle for three segments; by
+    hand that gives 3.2 %), hence the 1 percentage-point tolerance."""
+    electrodes = [b03["electrodes"][n] for n in WHEEL]
+    centroids = [e.centroid for e in electrodes]
+    centre = shapely.union_all(electrodes).convex_hull.centroid
+    radius_mm = float(np.mean([centre.distance(c) for c in centroids]))
+    assert all(abs(centre.distance(c) - radius_mm) < 0.05 for c in centroids)  # a symmetric wheel
+    path = centre.buffer(radius_mm, quad_segs=128).exterior
+    worst = 1.0
+    for i in range(int(path.length / 0.5)):
+        disc = path.interpolate(i * 0.5).buffer(4.0, quad_segs=32)
+        overlaps = sorted((e.intersection(disc).area for e in electrodes), reverse=True)
+        assert overlaps[0] > 0  # no dead zone
+        worst = min(worst, overlaps[1] / overlaps[0])
+    f = one(b03["findings"], "electrode.slider-coverage", sensor="wheel")
+    assert f["severity"] == "warning" and f["limit"] == pytest.approx(10.0)
+    assert f["value"] == pytest.approx(100 * worst, abs=1.0)
+    assert 100 * worst < 10.0
+
+
 def test_b03_no_ground_gap_finding(b03: dict[str, Any]) -> None:
     """Absence of gap.electrode-ground-vs-overlay: the only bottom GND copper (a pad near the board
     edge) is 10.6 mm from the wheel, far beyond the 1.0 mm target (our 1 mm overlay assumption,
