@@ -117,6 +117,10 @@ def read_gerber(
     try:
         parsed = parse_gerber_text(text, name, limits)
         features = gerber_geometry.objects_to_features(parsed, name, arc_tolerance_mm)
+        # the parser's objects are not needed past this point: free them before the unions,
+        # which is where a large layer reaches its peak memory
+        parsed.gerber.objects = []
+        del text
         vertices = int(shapely.get_num_coordinates(np.array([f.geometry for f in features], dtype=object)).sum()) \
             if features else 0
         if vertices > limits.max_vertices:

@@ -600,36 +600,85 @@ def _fix_region(poly: BaseGeometry) -> BaseGeometry:
 # --------------------------------------------------------------------------------------------
 
 def _union(geoms: list[BaseGeometry]) -> BaseGeometry:
-    """Union of many polygons: union each group of mutually connected shapes on its own.
+    """Union of many polygons: union only the pieces that touch, each connected group on its own.
 
-    Shapes that do not touch need no overlay at all: an STRtree finds the touching pairs, the
-    connected groups are unioned separately (small overlays) and the disjoint results are put
-    together as one MultiPolygon without a further union.
+    The inputs are split into their polygons first (a net's image or a panel is mostly pieces far
+    apart). An STRtree finds the pairs of pieces that really intersect or touch (exact predicate,
+    not only overlapping bounding boxes: a pour's box holds every pad inside it), each connected
+    group is unioned on its own (small overlays) and the results, pairwise disjoint, are put
+    together as one MultiPolygon without a further overlay. The cost grows with the pieces and
+    their contacts, not with the square of the layer.
     """
     if not geoms:
         return EMPTY
     if len(geoms) == 1:
         return geoms[0]
-    arr = np.array(geoms, dtype=object)
-    if len(arr) < 32:
-        return shapely.union_all(arr)
+    arr = shapely.get_parts(np.array(geoms, dtype=object))
+    arr = arr[~shapely.is_empty(arr)]
+    if len(arr) == 0:
+        return EMPTY
+    if len(arr) == 1:
+        return arr[0]
     tree = shapely.STRtree(arr)
-    left, right = tree.query(arr)  # bounding boxes overlap: cheap, and groups stay disjoint
-    n_groups, labels = connected_components(
-        coo_matrix((np.ones(len(left), dtype=np.int8), (left, right)), shape=(len(arr), len(arr))),
-        directed=False,
-    )
-    if n_groups == 1:
-        return shapely.union_all(arr)
-    order = np.argsort(labels, kind="stable")
-    bounds = np.flatnonzero(np.diff(labels[order])) + 1
-    parts: list[BaseGeometry] = []
-    for group in np.split(order, bounds):
-        parts.append(arr[group[0]] if len(group) == 1 else shapely.union_all(arr[group]))
-    polys = [p for part in parts for p in shapely.get_parts(part) if isinstance(p, Polygon) and not p.is_empty]
+    left, right = tree.query(arr, predicate="intersects")
+    keep = left < right
+    left, right = left[keep], right[keep]
+    if len(left) == 0:
+        polys = arr
+    else:
+        n_groups, labels = connected_components(
+            coo_matrix((np.ones(len(left), dtype=np.int8), (left, right)), shape=(len(arr), len(arr))),
+            directed=False,
+        )
+        if n_groups == 1:
+            return shapely.union_all(arr)
+        counts = np.bincount(labels, minlength=n_groups)
+        alone = counts[labels] == 1
+        order = np.argsort(labels, kind="stable")
+        order = order[~alone[order]]
+        splits = np.flatnonzero(np.diff(labels[order])) + 1
+        merged = [shapely.union_all(arr[group]) for group in np.split(order, splits)]
+        merged_arr = np.empty(len(merged), dtype=object)
+        merged_arr[:] = merged
+        polys = np.concatenate((arr[alone], shapely.get_parts(merged_arr)))
+        polys = polys[shapely.get_type_id(polys) == 3]  # polygons only (a union of areas is areas)
+        polys = polys[~shapely.is_empty(polys)]
     if len(polys) == 1:
         return polys[0]
-    return MultiPolygon(polys)
+    return shapely.multipolygons(polys)
+
+
+#: a dark polygon cut by at least this many clear objects goes through :func:`_cut_many`
+MANY_CUTS = 16
+
+
+def _cut_many(target: BaseGeometry, cutters: np.ndarray) -> BaseGeometry:
+    """A polygon less the union of many clear shapes, mostly without an overlay.
+
+    A clear piece that lies strictly inside the polygon (no contact with its outline or its
+    holes), has no hole itself and touches no other piece removes exactly its own area as a new
+    hole: such pieces (the openings of a hatch, clearances in a pour) are added as interior rings
+    directly, which is the same set as the overlay gives but costs no noding of the whole pour.
+    Only the other pieces go through a difference.
+    """
+    parts = shapely.get_parts(cutters)
+    parts = parts[~shapely.is_empty(parts)]
+    if len(parts) == 0:
+        return target
+    shapely.prepare(target)
+    free = (shapely.get_type_id(parts) == 3) & (shapely.get_num_interior_rings(parts) == 0)
+    free &= shapely.contains_properly(target, parts)
+    left, right = shapely.STRtree(parts).query(parts, predicate="intersects")
+    contact = left != right
+    free[left[contact]] = False
+    if not free.any():
+        return shapely.difference(target, _union(list(parts)))
+    rings = shapely.get_rings(target)  # exterior first, then the holes
+    out = shapely.polygons(rings[0], holes=np.concatenate((rings[1:], shapely.get_exterior_ring(parts[free]))))
+    rest = parts[~free]
+    if len(rest):
+        out = shapely.difference(out, _union(list(rest)))
+    return out
 
 
 def effective_dark(features: list[Feature]) -> list[tuple[Feature, BaseGeometry]]:
@@ -662,18 +711,23 @@ def effective_dark(features: list[Feature]) -> list[tuple[Feature, BaseGeometry]
         targets: list[int] = []
         cuts: list[BaseGeometry] = []
         for d_group, c_group in zip(np.split(d_idx, splits), np.split(c_idx, splits)):
+            target = int(d_group[0])
+            if len(c_group) >= MANY_CUTS and shapely.get_type_id(dark_geoms[target]) == 3:
+                result[target] = _cut_many(dark_geoms[target], clear_geoms[c_group])
+                continue
             key = tuple(c_group.tolist())
             cut = cut_cache.get(key)
             if cut is None:
                 cut = clear_geoms[key[0]] if len(key) == 1 else _union(list(clear_geoms[list(key)]))
                 cut_cache[key] = cut
-            targets.append(int(d_group[0]))
+            targets.append(target)
             cuts.append(cut)
-        cut_arr = np.empty(len(cuts), dtype=object)
-        cut_arr[:] = cuts
-        left = shapely.difference(dark_geoms[targets], cut_arr)
-        for t, g in zip(targets, left):
-            result[t] = g
+        if targets:
+            cut_arr = np.empty(len(cuts), dtype=object)
+            cut_arr[:] = cuts
+            left = shapely.difference(dark_geoms[targets], cut_arr)
+            for t, g in zip(targets, left):
+                result[t] = g
     return [(features[i], g) for i, g in zip(dark_pos, result) if not g.is_empty]
 
 
