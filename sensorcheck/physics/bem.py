@@ -37,7 +37,7 @@ from scipy.interpolate import RectBivariateSpline
 
 from sensorcheck.physics.greens import Images, LayeredMedium
 
-MAX_CORNERS = 6  # panels are convex polygons of 3 to 6 corners
+MAX_CORNERS = 8  # panels are flat polygons of 3 to 8 corners (centroid inside)
 NEAR_ETA = 1.5  # exact integration closer than this many panel sizes (from the panel centroid)
 
 
@@ -47,7 +47,7 @@ NEAR_ETA = 1.5  # exact integration closer than this many panel sizes (from the 
 
 @dataclass(slots=True)
 class Panels:
-    """Flat convex panels, (n, 6, 3) corners in metres (fewer corners: the last one repeated)."""
+    """Flat panels, (n, 8, 3) corners in metres (fewer corners: the last one repeated)."""
 
     verts: np.ndarray
     conductor: np.ndarray  # (n,) int conductor index
@@ -60,7 +60,7 @@ class Panels:
     def __post_init__(self) -> None:
         v = np.asarray(self.verts, dtype=float)
         if v.ndim != 3 or v.shape[2] != 3 or v.shape[1] < 3 or v.shape[1] > MAX_CORNERS:
-            raise ValueError("panels must be (n, 3..6, 3) corner arrays")
+            raise ValueError("panels must be (n, 3..8, 3) corner arrays")
         if v.shape[1] < MAX_CORNERS:
             v = np.concatenate([v, np.repeat(v[:, -1:], MAX_CORNERS - v.shape[1], axis=1)], axis=1)
         self.verts = v

@@ -7,12 +7,12 @@ A small graded mesher of our own on shapely/numpy (no external mesher):
   conductor grows like ``d^-1/2`` toward its edges, so panels shrink toward the edges
   (``h_min`` at the edge, growing by ``grading`` per unit distance up to ``h_max``).  Cells
   wholly inside stay squares; cells cut by the boundary become the exact intersection,
-  kept as one panel when it is a convex polygon of at most four corners, otherwise split by a
+  kept as one panel when it has at most eight corners and holds its centroid, otherwise split by a
   constrained Delaunay triangulation (shapely).
 * closed bodies: a flat-ended cylinder (the finger), a sphere (geodesic, from an icosahedron)
   and a box (each face meshed as a flat polygon, graded toward its edges).
 
-Panels are returned as arrays of shape (n, 6, 3) in metres; fewer corners repeat the last one.
+Panels are returned as arrays of shape (n, 8, 3) in metres; fewer corners repeat the last one.
 """
 
 from __future__ import annotations
@@ -43,12 +43,12 @@ class MeshSpec:
 
 
 def _quad_or_tris(piece: Polygon) -> list[np.ndarray]:
-    """One panel of <= 6 corners (its centroid inside it), or triangles."""
+    """One panel of <= 8 corners (its centroid inside it), or triangles."""
     if piece.is_empty or piece.area <= 0:
         return []
     piece = shapely.orient_polygons(piece)
     coords = np.asarray(piece.exterior.coords)[:-1]
-    if not piece.interiors and 3 <= len(coords) <= 6:
+    if not piece.interiors and 3 <= len(coords) <= 8:
         if len(coords) == 3 or piece.contains(piece.centroid):
             return [coords]
     tris = shapely.constrained_delaunay_triangles(piece)
@@ -80,9 +80,10 @@ def mesh_polygon(geom: BaseGeometry, spec: MeshSpec, h_max_at: Callable[[np.ndar
     shapely.prepare(geom)
     shapely.prepare(boundary)
     x0, y0, x1, y1 = geom.bounds
-    n_x = max(1, int(np.ceil((x1 - x0) / spec.h_max)))
-    n_y = max(1, int(np.ceil((y1 - y0) / spec.h_max)))
-    s0 = max((x1 - x0) / n_x, (y1 - y0) / n_y)
+    # cell sizes are h_min * 2^k whatever the bounds, so a smaller region never meshes finer
+    s0 = spec.h_min * 2.0 ** int(np.ceil(np.log2(max(spec.h_max / spec.h_min, 1.0))))
+    n_x = max(1, int(np.ceil((x1 - x0) / s0)))
+    n_y = max(1, int(np.ceil((y1 - y0) / s0)))
     gx, gy = np.meshgrid(x0 + (np.arange(n_x) + 0.5) * s0, y0 + (np.arange(n_y) + 0.5) * s0)
     cx, cy = gx.ravel(), gy.ravel()
     s = np.full(cx.shape, s0)
@@ -146,10 +147,10 @@ def mesh_polygon(geom: BaseGeometry, spec: MeshSpec, h_max_at: Callable[[np.ndar
 
 
 def panels_from_2d(panels_2d: list[np.ndarray], origin: np.ndarray, e1: np.ndarray, e2: np.ndarray) -> np.ndarray:
-    """Map 2-D panels into 3-D through a plane ``origin + u e1 + v e2``; returns (n, 6, 3)."""
-    out = np.empty((len(panels_2d), 6, 3))
+    """Map 2-D panels into 3-D through a plane ``origin + u e1 + v e2``; returns (n, 8, 3)."""
+    out = np.empty((len(panels_2d), 8, 3))
     for i, p in enumerate(panels_2d):
-        q = p if len(p) == 6 else np.vstack([p] + [p[-1:]] * (6 - len(p)))
+        q = p if len(p) == 8 else np.vstack([p] + [p[-1:]] * (8 - len(p)))
         out[i] = origin[None, :] + q[:, :1] * e1[None, :] + q[:, 1:2] * e2[None, :]
     return out
 
@@ -221,7 +222,7 @@ def cylinder_panels(
                 [x + a[0], y + a[1], zs[i + 1]],
             ]
             k += 1
-    panels.append(np.concatenate([side, np.repeat(side[:, -1:], 2, axis=1)], axis=1))
+    panels.append(np.concatenate([side, np.repeat(side[:, -1:], 4, axis=1)], axis=1))
     return np.concatenate(panels)
 
 
@@ -267,7 +268,7 @@ def box_panels(side: float, spec: MeshSpec, centre: tuple[float, float, float] =
 
 #: offsets of the edge rows, as fractions of the band width: thin rows at the edge where the
 #: charge density grows like d^-1/2, widening away from it
-BAND_ROWS = (0.0, 0.0625, 0.1875, 0.5, 1.0)
+BAND_ROWS = (0.0, 0.08, 0.3, 1.0)
 
 
 def mesh_polygon_banded(
@@ -315,7 +316,7 @@ def mesh_polygon_banded(
         for piece in pieces:
             for part in shapely.get_parts(piece):
                 if isinstance(part, Polygon) and part.area > min_area:
-                    part = part.simplify(0.15 * w * (BAND_ROWS[i + 1] - BAND_ROWS[i]), preserve_topology=True)
+                    part = part.simplify(0.03 * w * (BAND_ROWS[i + 1] - BAND_ROWS[i]), preserve_topology=True)
                     panels.extend(t for t in _quad_or_tris(part) if _tri_area(t) > 0.2 * min_area)
     rest = shapely.difference(geom, band)
     rest = shapely.union_all([p for p in shapely.get_parts(rest) if isinstance(p, Polygon) and p.area > 1e-6 * w * w] or [Polygon()])

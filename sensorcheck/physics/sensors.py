@@ -58,7 +58,7 @@ class SolverOptions:
     """Mesh and model options (mm); ``refine`` divides every panel size (the bench uses 4)."""
 
     window_mm: float = 15.0
-    h_edge_mm: float = 0.8  # width of the edge band (rows at 1/16, 3/16, 1/2 of it) and panel length along edges
+    h_edge_mm: float = 0.8  # width of the edge band (rows at 0.08 and 0.3 of it) and panel length along edges
     h_near_mm: float | None = None  # None: 1.2 x the overlay thickness, within 0.8-2.0 mm
     h_far_mm: float = 3.0
     finger_edge_mm: float = 0.7
@@ -66,6 +66,7 @@ class SolverOptions:
     finger_sides: int = 20
     touch_gap_mm: float = 0.02  # the finger "on" the overlay: this thin film of air
     refine: float = 1.0
+    edge_band: bool = True  # thin rows of panels along edges near the sensor (off: plain graded quadtree)
     search: bool = True
     proximity_floor_pf: float = 0.01  # assumption: a resolvable change of 10 fF; a parameter
     hand_diameter_mm: float = 80.0  # hand-sized target for proximity range (stated model choice)
@@ -323,7 +324,7 @@ def mesh_conductors(
                 notes.append(f"copper layer {layer} is not in the stackup: left out")
                 continue
             spec = MeshSpec(h_edge, h_far, 0.35)
-            v = flat_panels(g, stack.copper_z_m[layer] / MM, spec, scale=1.0, h_max_at=h_at, band_zone=zone)
+            v = flat_panels(g, stack.copper_z_m[layer] / MM, spec, scale=1.0, h_max_at=h_at, band_zone=zone, banded=opts.edge_band)
             v = v * MM
             parts.append(v)
             conds.append(np.full(len(v), k))
@@ -424,25 +425,38 @@ def build_model(
     if outline.is_empty:
         raise InputError(design.board.source, None, f"sensor {sensor.name} has no electrode copper", "electrode copper")
     x0, y0, x1, y1 = outline.bounds
-    w = opts.window_mm
-    window = box(x0 - w, y0 - w, x1 + w, y1 + w)
-    conductors = gather_conductors(design, sensor, window, notes)
     zone = outline.buffer(2.0)
-    # mesh, coarsening when over the panel budget
-    cur = opts
-    for attempt in range(4):
-        panels = mesh_conductors(conductors, stack, zone, cur, overlay, notes)
+    # over the panel budget: a smaller window first, then coarser interiors, then coarser edges
+    h_near = _h_near_mm(opts, overlay)
+    steps = [
+        ("window", replace(opts)),
+        ("window", replace(opts, window_mm=opts.window_mm * 0.6)),
+        ("interior", replace(opts, window_mm=opts.window_mm * 0.6, h_near_mm=h_near * 1.6, h_far_mm=opts.h_far_mm * 1.6)),
+        ("edges", replace(opts, window_mm=opts.window_mm * 0.4, h_near_mm=h_near * 2.0, h_far_mm=opts.h_far_mm * 2.0, edge_band=False)),
+    ]
+    for attempt, (what, cur) in enumerate(steps):
+        w = cur.window_mm
+        window = box(x0 - w, y0 - w, x1 + w, y1 + w)
+        trial_notes = list(notes)
+        conductors = gather_conductors(design, sensor, window, trial_notes)
+        panels = mesh_conductors(conductors, stack, zone, cur, overlay, trial_notes)
         if len(panels) <= limits.max_mesh_panels:
+            notes = trial_notes
+            if attempt:
+                notes.append(
+                    f"mesh reduced to stay within {limits.max_mesh_panels} panels (window {w:g} mm"
+                    + (", coarser interior panels" if what != "window" else "")
+                    + (", no thin edge rows" if what == "edges" else "")
+                    + "): lower accuracy"
+                )
             break
-        if attempt == 3:
-            raise LimitError(
-                design.board.source,
-                None,
-                f"sensor {sensor.name}: {len(panels)} boundary-element panels even after coarsening (limit {limits.max_mesh_panels})",
-                "a smaller sensor window or a higher [limits] max_mesh_panels",
-            )
-        cur = replace(cur, refine=cur.refine / 1.5)
-        notes.append(f"mesh coarsened 1.5x to stay within {limits.max_mesh_panels} panels (lower accuracy)")
+    else:
+        raise LimitError(
+            design.board.source,
+            None,
+            f"sensor {sensor.name}: {len(panels)} boundary-element panels even after coarsening (limit {limits.max_mesh_panels})",
+            "a smaller sensor or a higher [limits] max_mesh_panels",
+        )
     kind, main = _roles_of(sensor, conductors)
     system = BoardSystem(panels, stack.medium, len(conductors))
     notes.append(f"window {w:g} mm around the sensor; {len(panels)} board panels")

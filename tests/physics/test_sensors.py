@@ -157,7 +157,7 @@ def test_coarsening_is_noted() -> None:
     d = button(estimate=FAST)
     n = len(build_model(d, d.sensors[0], opts=SolverOptions.from_config(FAST)).system.panels)
     m = build_model(d, d.sensors[0], opts=SolverOptions.from_config(FAST), limits=Limits(max_mesh_panels=int(0.9 * n)))
-    assert any("coarsened" in note for note in m.notes)
+    assert any("mesh reduced" in note for note in m.notes)
     assert len(m.system.panels) <= int(0.9 * n)
 
 
