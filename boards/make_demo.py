@@ -177,10 +177,13 @@ FLAWED = Revision(
     folder="tm1-flawed",
     rev="A",
     title="TM-1 kitchen timer, revision A (seeded faults, for review)",
-    k1_rx_r_mm=5.0,
+    # fault (a): a 20 mm receiver in a 2 mm TX ring with no ground within 10 mm on either layer:
+    # the receiver is large against the ground around it, so with the product's weak return path
+    # (battery, on a worktop) the finger's own coupling to RX overtakes and the signal turns around
+    k1_rx_r_mm=10.0,
     k1_gap_mm=1.2,
-    k1_tx_w_mm=0.3,
-    k1_gnd_clear_mm=5.0,
+    k1_tx_w_mm=2.0,
+    k1_gnd_clear_mm=10.0,
     k1_tx_via_side="left",
     k2_gap_mm=0.2,
     dense_hatch=True,
@@ -188,7 +191,9 @@ FLAWED = Revision(
     led_route="under-btn2",
     channel=(("TX1", 31.0, 6), ("RX1", 33.0, 5), ("TX2", 33.5, 4), ("RX2", 35.5, 3), ("BTN1", 37.5, 2),
              ("BTN2", 39.5, 1)),
-    extra_gnd_vias=((40.0, 32.0),),  # the strip between TX1 and RX1 is closed off by K1's keep-out
+    # the strip between TX1 and RX1 is closed off by K1's keep-out; the top-left corner of the
+    # pour is cut off by it too
+    extra_gnd_vias=((40.0, 32.0), (2.2, 67.8)),
     no_pour_between=("RX1", "TX2"),
 )
 
@@ -467,8 +472,11 @@ def build(rev: Revision) -> Board:
         b.track("bottom", [(px, py), (led_via[0], py), led_via], LED_TRACE_MM, "LED_DRV")
     b.via(led_via, "LED_DRV")
 
+    # stitching vias, except inside K1's ground keep-out (a via there would be ground near RX)
+    k1_keepout_mm = k1_dims(rev)["tx_outer"] + rev.k1_gnd_clear_mm
     for xy in GND_STITCH + rev.extra_gnd_vias:
-        b.via(xy, "GND")
+        if math.hypot(xy[0] - K1_C[0], xy[1] - K1_C[1]) > k1_keepout_mm:
+            b.via(xy, "GND")
     for xy in MOUNT_HOLES:
         b.holes_npth.append(DrillHole(xy[0], xy[1], MOUNT_HOLE_MM, "MechanicalDrill"))
         for side in ("top", "bottom"):
