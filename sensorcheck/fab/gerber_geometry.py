@@ -599,6 +599,17 @@ def _fix_region(poly: BaseGeometry) -> BaseGeometry:
 # polarity and unions
 # --------------------------------------------------------------------------------------------
 
+def _polygon_parts(geoms: np.ndarray) -> np.ndarray:
+    """The non-empty parts of the geometries; single polygons are kept as they are (get_parts
+    would copy every one of them, doubling the memory of a large layer for a moment)."""
+    geoms = geoms[~shapely.is_empty(geoms)]
+    multi = shapely.get_type_id(geoms) >= 4
+    if not multi.any():
+        return geoms
+    parts = shapely.get_parts(geoms[multi])
+    return np.concatenate((geoms[~multi], parts[~shapely.is_empty(parts)]))
+
+
 def _union(geoms: list[BaseGeometry]) -> BaseGeometry:
     """Union of many polygons: union only the pieces that touch, each connected group on its own.
 
@@ -613,8 +624,7 @@ def _union(geoms: list[BaseGeometry]) -> BaseGeometry:
         return EMPTY
     if len(geoms) == 1:
         return geoms[0]
-    arr = shapely.get_parts(np.array(geoms, dtype=object))
-    arr = arr[~shapely.is_empty(arr)]
+    arr = _polygon_parts(np.array(geoms, dtype=object))
     if len(arr) == 0:
         return EMPTY
     if len(arr) == 1:
@@ -640,9 +650,10 @@ def _union(geoms: list[BaseGeometry]) -> BaseGeometry:
         merged = [shapely.union_all(arr[group]) for group in np.split(order, splits)]
         merged_arr = np.empty(len(merged), dtype=object)
         merged_arr[:] = merged
-        polys = np.concatenate((arr[alone], shapely.get_parts(merged_arr)))
-        polys = polys[shapely.get_type_id(polys) == 3]  # polygons only (a union of areas is areas)
-        polys = polys[~shapely.is_empty(polys)]
+        polys = np.concatenate((arr[alone], _polygon_parts(merged_arr)))
+    polys = polys[shapely.get_type_id(polys) == 3]  # polygons only (a union of areas is areas)
+    if len(polys) == 0:
+        return EMPTY
     if len(polys) == 1:
         return polys[0]
     return shapely.multipolygons(polys)
@@ -661,8 +672,7 @@ def _cut_many(target: BaseGeometry, cutters: np.ndarray) -> BaseGeometry:
     directly, which is the same set as the overlay gives but costs no noding of the whole pour.
     Only the other pieces go through a difference.
     """
-    parts = shapely.get_parts(cutters)
-    parts = parts[~shapely.is_empty(parts)]
+    parts = _polygon_parts(cutters)
     if len(parts) == 0:
         return target
     shapely.prepare(target)
@@ -741,8 +751,12 @@ def images_by_net(features: list[Feature]) -> dict[str | None, BaseGeometry]:
     groups: dict[str | None, list[BaseGeometry]] = defaultdict(list)
     for f, g in effective_dark(features):
         groups[f.net].append(g)
-    images = {net: _union(geoms) for net, geoms in groups.items()}
-    return {k: v for k, v in images.items() if not v.is_empty}
+    images: dict[str | None, BaseGeometry] = {}
+    for net in list(groups):
+        image = _union(groups.pop(net))  # each net's pieces freed as soon as its image is made
+        if not image.is_empty:
+            images[net] = image
+    return images
 
 
 def dark_from_nets(by_net: dict[str | None, BaseGeometry]) -> BaseGeometry:
