@@ -190,10 +190,14 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     try:
         design, config = _design_and_config(path, options.config_file, options.layer_map, progress)
     except SensorcheckError as err:
+        if isinstance(err, ConfigError):
+            result.config_file = err.file
         result.findings.append(_input_error_finding(err))
+        finish(result, options.baseline)
         return result
     except Exception as exc:  # noqa: BLE001 - a bug must become a report entry, never a lost board
         result.findings.append(_internal_error_finding("reading", exc))
+        finish(result, options.baseline)
         return result
     board = design.board
     result.board = board.name or result.board  # the engine fingerprints with the board's own name

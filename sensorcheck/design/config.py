@@ -137,7 +137,10 @@ def _number(
 ) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         raise ctx.err(where, f"expected a number, got {_type_name(value)}")
-    v = float(value)
+    try:
+        v = float(value)
+    except OverflowError:  # a TOML integer too large for a float
+        raise ctx.err(where, f"expected a finite number, got an integer of {len(str(value))} digits") from None
     if not math.isfinite(v):
         raise ctx.err(where, f"expected a finite number, got {value}")
     if min_value is not None:
