@@ -112,9 +112,14 @@ def call_reader(reader: Reader, data: bytes, name: str, limits_overrides: dict[s
                 try:
                     load_config(path, profiles_dir=REPO / "rules")
                 except ConfigError as exc:
-                    # the file the user gave, and the key path (or "line N") where it went wrong
-                    file = name if exc.file == str(path) else exc.file
-                    return Outcome("ours", type(exc).__name__, file, None, f"{exc.key}: {exc.message}",
+                    # the file the user gave, and the key path (or "line N") where it went wrong; an
+                    # error in a profile file the config names (profile = "path") names that file,
+                    # which is right: it is shown in the message, the outcome keeps the config's name
+                    if exc.file == str(path):
+                        return Outcome("ours", type(exc).__name__, name, None, f"{exc.key}: {exc.message}",
+                                       seconds=time.perf_counter() - t0)
+                    return Outcome("ours", type(exc).__name__, name if exc.file else None, None,
+                                   f"(in the profile {exc.file}) {exc.key}: {exc.message}",
                                    seconds=time.perf_counter() - t0)
         else:
             raise ValueError(reader)
