@@ -67,6 +67,8 @@ def estimates_json(estimates: dict[str, SensorEstimate]) -> dict[str, Any]:
             "turning_point_mm": r(e.turning_point_mm, 4),
             "best_point_mm": None if e.best_point_mm is None else [r(e.best_point_mm[0], 4), r(e.best_point_mm[1], 4)],
             "curve": [[r(h, 4), r(v)] for h, v in e.curve],
+            "curve_centre": [[r(h, 4), r(v)] for h, v in e.curve_centre],
+            "centre_mm": None if e.centre_mm is None else [r(e.centre_mm[0], 4), r(e.centre_mm[1], 4)],
             "crosstalk_pf": {k: r(v) for k, v in sorted(e.crosstalk_pf.items())},
             "parasitic_pf": r(e.parasitic_pf),
             "detection_range_mm": r(e.detection_range_mm, 3),
@@ -127,6 +129,10 @@ def plot_curves(estimates: dict[str, SensorEstimate], path: Path) -> None:
             h = [max(p[0], 0.05) for p in e.curve]
             pct = [100.0 * (p[1] - e.baseline_pf) / e.baseline_pf for p in e.curve]
             line = ax.plot(h, pct, marker="o", ms=3, label=f"{name} ({'Cm' if e.kind == 'mutual' else 'C self'})")[0]
+            if e.curve_centre:
+                hc = [max(p[0], 0.05) for p in e.curve_centre]
+                pc = [100.0 * (p[1] - e.baseline_pf) / e.baseline_pf for p in e.curve_centre]
+                ax.plot(hc, pc, ls="--", lw=1, color=line.get_color(), label=f"{name}, finger over the centre")
             if e.turning_point_mm is not None:
                 ax.axvline(max(e.turning_point_mm, 0.05), color=line.get_color(), ls=":", lw=1)
         ax.set_xscale("log")
@@ -134,7 +140,7 @@ def plot_curves(estimates: dict[str, SensorEstimate], path: Path) -> None:
         ax.axhline(0.0, color="0.6", lw=0.8)
         ax.set_xlabel("finger height above the overlay surface (mm; touch plotted at 0.05)")
         ax.set_ylabel("change from baseline (%)")
-        ax.set_title("Finger approach (estimates of a field-solver model; dotted: turnaround)", fontsize=9)
+        ax.set_title("Finger approach (estimates of a field-solver model; dotted: turnaround; dashed: over the centre)", fontsize=9)
         ax.legend(fontsize=8)
         fig.tight_layout()
         fig.savefig(path, format=suffix[1:], metadata={"Date": None} if suffix == ".svg" else None)

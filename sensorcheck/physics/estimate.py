@@ -32,3 +32,7 @@ class SensorEstimate:
     detection_range_mm: float | None = None
     #: the coarse search for the most sensitive point: (x_mm, y_mm, delta_pf at touch)
     search: list[tuple[float, float, float]] = field(default_factory=list)
+    #: approach curve with the finger over the node's centre (where a user presses), when that is
+    #: not the most sensitive point: (height mm, value pF), far to near; and that centre (x, y) mm
+    curve_centre: list[tuple[float, float]] = field(default_factory=list)
+    centre_mm: tuple[float, float] | None = None

@@ -201,6 +201,7 @@ def _dehatch(geom: BaseGeometry, notes: list[str], what: str) -> BaseGeometry:
     opening): cut-outs around electrodes and other copper stay open.
     """
     out = []
+    copper = sheet = 0.0
     for p in shapely.get_parts(geom):
         if isinstance(p, Polygon) and len(p.interiors) >= 12:
             areas = np.array([Polygon(r).area for r in p.interiors])
@@ -208,13 +209,16 @@ def _dehatch(geom: BaseGeometry, notes: list[str], what: str) -> BaseGeometry:
             solid = Polygon(p.exterior, [r for r, keep in zip(p.interiors, ~small) if keep])
             fill = p.area / solid.area if solid.area > 0 else 1.0
             if fill < 0.85:
-                notes.append(
-                    f"{what}: hatched copper (coverage {100 * fill:.0f} %) modelled as a solid sheet "
-                    "(an approximation: it overestimates the coupling to that copper)"
-                )
+                copper += p.area
+                sheet += solid.area
                 out.append(solid)
                 continue
         out.append(p)
+    if sheet > 0:
+        notes.append(
+            f"{what}: hatched copper (coverage {100 * copper / sheet:.0f} %) modelled as a solid sheet "
+            "(an approximation: it overestimates the coupling to that copper)"
+        )
     return shapely.union_all(out) if out else geom
 
 
@@ -584,6 +588,22 @@ def estimate_with(
     touch_pf = curve[-1][1]
     delta = touch_pf - base_pf
     tp = turning_point(curve, base_pf)
+    # the turnaround is worst where the finger couples straight into the receiver: also approach
+    # over the node's centre (where a user presses) when that is not the most sensitive point
+    centre = sensor.outline.centroid
+    curve_c: list[tuple[float, float]] = []
+    extra_notes: list[str] = []
+    if np.hypot(centre.x - bx, centre.y - by) > 1.0:
+        for h in approach_heights(heights, max_height_mm):
+            curve_c.append((h, model.value_f(model.with_finger(centre.x, centre.y, h, max_h_mm=max_height_mm), k) / PF))
+        tp_c = turning_point(curve_c, base_pf)
+        if tp_c is not None and (tp is None or tp_c > tp):
+            tp = tp_c
+            extra_notes.append(
+                f"turning point from the approach over the node centre ({centre.x:.1f}, {centre.y:.1f}) mm; "
+                f"over the most sensitive point ({bx:.1f}, {by:.1f}) mm the signal "
+                + ("turns lower" if turning_point(curve, base_pf) is not None else "does not turn")
+            )
     cross: dict[str, float] = {}
     for name, which in _neighbour_channels(model).items():
         b = model.value_f(model.system.c0, None, which)
@@ -596,7 +616,7 @@ def estimate_with(
             b = model.value_f(model.system.c0, None, w)
             t = model.value_f(c_touch, k, w)
             channels[model.conductors[i].name] = (b / PF, (t - b) / PF)
-    notes = list(model.notes)
+    notes = list(model.notes) + extra_notes
     if model.kind == "self" and model.main.get("shield"):
         notes.append("shield net driven at the electrode's potential")
     if sensor.kind == "matrix":
@@ -632,6 +652,8 @@ def estimate_with(
         channels=channels,
         detection_range_mm=detection,
         search=search,
+        curve_centre=curve_c,
+        centre_mm=(float(centre.x), float(centre.y)) if curve_c else None,
     )
 
 
