@@ -3,13 +3,16 @@
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from collections.abc import Iterable, Iterator, Mapping
 from typing import Any
 
+import numpy as np
 import shapely
 from shapely.geometry import LineString, Point
 from shapely.geometry.base import BaseGeometry
 
+from sensorcheck.board.model import Board, Feature
 from sensorcheck.design.model import Design, Electrode, Sensor
 from sensorcheck.rules.common import (
     REFERENCE_ROLES,
@@ -33,7 +36,7 @@ from sensorcheck.rules.common import (
     union,
 )
 from sensorcheck.rules.engine import Param, Rule
-from sensorcheck.rules.finding import Finding
+from sensorcheck.rules.finding import Finding, Severity
 
 
 def _other_electrodes(design: Design, s: Sensor) -> BaseGeometry:
@@ -76,15 +79,22 @@ class ForeignCopperInZone(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        # trees made once per run: every sensor's electrodes, and each layer's copper by net
+        els = [(o, e.geometry) for o in design.sensors for e in o.electrodes if not e.geometry.is_empty]
+        el_tree = shapely.STRtree([g for _, g in els])
+        layers = []
+        for lay in design.board.copper_layers():
+            names = sorted(n for n, g in lay.by_net.items() if not g.is_empty)
+            layers.append((lay, names, shapely.STRtree([lay.by_net[n] for n in names])))
         for s in design.sensors:
             own = set(s.nets)
             outline = s.outline
-            others_el = _other_electrodes(design, s)
-            for lay in design.board.copper_layers():
-                for net, geom in sorted(lay.by_net.items()):
+            # other sensors' electrodes whose box meets the zone's: the rest cannot touch it
+            others_el = union(els[int(i)][1] for i in sorted(el_tree.query(s.zone)) if els[int(i)][0] is not s)
+            for lay, names, tree in layers:
+                for net in sorted(names[int(i)] for i in tree.query(s.zone)):
+                    geom = lay.by_net[net]
                     if net in own or is_floating_id(net) or role(design, net) in REFERENCE_ROLES | {"aggressor"}:
-                        continue
-                    if not bbox_overlap(geom, s.zone):
                         continue
                     inside = geom.intersection(s.zone)
                     if not others_el.is_empty:
@@ -388,19 +398,47 @@ class AggressorParallel(Rule):
                             )
 
 
+def _net_trace_paths(board: Board, electrodes: list[Electrode]) -> dict[str, BaseGeometry]:
+    """Centre lines of a net's draws outside ALL of its electrodes (a net can be in several sensors), per layer."""
+    out: dict[str, BaseGeometry] = {}
+    by_layer: dict[str, list[BaseGeometry]] = {}
+    for e in electrodes:
+        by_layer.setdefault(e.layer, []).append(e.geometry.buffer(-1e-3))
+    net = electrodes[0].net
+    for lay in board.copper_layers():
+        feats = [f for f in net_features(board, lay.name, [net]) if f.path is not None]
+        for shrunk in by_layer.get(lay.name, []):
+            feats = [f for f in feats if not shrunk.contains(f.path)]
+        p = paths(feats)
+        if not p.is_empty:
+            out[lay.name] = p
+    return out
+
+
 class RxParallelTx(Rule):
-    """Receiver traces running alongside another node's transmitter.
+    """Receiver traces running alongside the transmitter of another node.
 
     What it checks:
-        For every receiver net, the length of its trace centre lines within
-        ``parallel_distance_mm`` of transmitter copper (traces or electrodes) of a different
-        sensor, on the same layer or projected from another layer.  Longer than
-        ``max_parallel_mm`` is a warning.
+        For every receiver net and transmitter net that are not only ever in one and the same
+        sensor, and every layer the receiver's traces run on: the total length of the receiver's
+        trace centre lines (draws outside all of its electrodes) within ``parallel_distance_mm``
+        of the transmitter's copper (traces or electrodes, on the same layer or projected from
+        another layer).  ONE finding per (RX net, TX net, layer) when the total is longer than
+        ``max_parallel_mm``: the total is the value; the message gives the longest single run
+        and the closest approach of the RX centre line to the TX copper; the location is the
+        longest run.  A warning when the two nets form no node anywhere on the board.  A note
+        when they already form a node elsewhere (keys scanned as a matrix of strobed columns
+        and sensed rows, each key its own sensor): the controller measures that pair anyway, so
+        the run does not make a new channel; it adds to that key's baseline and makes a touch
+        over the run read as a press of that key.  The reviewer should know where, but on such
+        a board every row passes many columns by design, and a warning per pair would be noise.
     Why it matters:
         Every place where an RX runs beside a TX is an extra, touchable mutual node: ghost keys
         and baseline shifts when a finger passes over the traces.
     Known limitations:
-        Needs draws with centre lines; ground between the runs is not credited.
+        Needs draws with centre lines; ground between the runs is not credited.  An RX net that
+        is in several sensors is reported under the first of them.  Within a single mutual node
+        (nets in no other sensor) the RX trace leaving through its own TX ring is not reported.
     Example:
         RX1's trace running 15 mm 0.3 mm beside TX2's trace: limit 5 mm.
     Fix:
@@ -417,33 +455,61 @@ class RxParallelTx(Rule):
     needs = ("sensors",)
     params = {
         "parallel_distance_mm": Param(1.0, "mm", "common practice", "runs closer than this count as parallel"),
-        "max_parallel_mm": Param(5.0, "mm", "common practice", "longest accepted parallel run"),
+        "max_parallel_mm": Param(5.0, "mm", "common practice",
+                                 "longest accepted total parallel length per RX net, TX net and layer"),
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
-        for a in design.sensors:
-            for rx in a.electrodes_with("receiver"):
-                tp = _trace_paths(design, rx)
-                if not tp:
-                    continue
-                for b in design.sensors:
-                    if b is a:
+        dist, limit = params["parallel_distance_mm"], params["max_parallel_mm"]
+        rx_in: dict[str, list[Sensor]] = {}  # net -> sensors it is a receiver of (design order)
+        tx_in: dict[str, list[Sensor]] = {}
+        rx_el: dict[str, list[Electrode]] = {}
+        tx_parts: dict[str, list[BaseGeometry]] = {}
+        for s in design.sensors:
+            for e in s.electrodes_with("receiver"):
+                rx_in.setdefault(e.net, []).append(s)
+                rx_el.setdefault(e.net, []).append(e)
+            for e in s.electrodes_with("transmitter"):
+                tx_in.setdefault(e.net, []).append(s)
+                tx_parts.setdefault(e.net, []).extend([e.geometry, *e.trace.values()])
+        if not rx_el or not tx_parts:
+            return
+        tx_nets = sorted(tx_parts)
+        tx_cu = [union(tx_parts[n]) for n in tx_nets]
+        tx_near = shapely.buffer(np.array(tx_cu, dtype=object), dist)
+        tree = shapely.STRtree(tx_near)
+        for rx in sorted(rx_el):
+            for layer, path in sorted(_net_trace_paths(board, rx_el[rx]).items()):
+                for j in sorted(int(k) for k in tree.query(path)):
+                    tx = tx_nets[j]
+                    a_set, b_set = rx_in[rx], tx_in[tx]
+                    if len(a_set) == 1 and len(b_set) == 1 and a_set[0] is b_set[0]:
+                        continue  # one node: its RX leaves through its own TX by design
+                    piece = path.intersection(tx_near[j])  # as _parallel_length, with the buffer made once
+                    length = piece.length
+                    if length <= limit:
                         continue
-                    for tx in b.electrodes_with("transmitter"):
-                        tx_cu = union([tx.geometry, *tx.trace.values()])
-                        for layer, path in sorted(tp.items()):
-                            length, piece = _parallel_length(path, tx_cu, params["parallel_distance_mm"])
-                            if length > params["max_parallel_mm"]:
-                                yield finding(
-                                    "warning",
-                                    f"RX trace {rx.net} ({a.name}) on {layer} runs {fmt(length, 1)} mm within "
-                                    f"{fmt(params['parallel_distance_mm'])} mm of TX {tx.net} of {b.name}; limit "
-                                    f"{fmt(params['max_parallel_mm'], 1)} mm",
-                                    value=length, limit=params["max_parallel_mm"], unit="mm", layer=layer, geom=piece,
-                                    nets=(rx.net, tx.net), sensor=a.name,
-                                    source=source_near(net_features(board, layer, [rx.net]), piece),
-                                )
+                    runs = sorted(shapely.get_parts(shapely.line_merge(piece) if piece.geom_type == "MultiLineString"
+                                                    else piece), key=lambda g: -g.length)
+                    longest = runs[0] if runs else piece
+                    closest = float(shapely.distance(piece, tx_cu[j]))
+                    node = next((s for s in a_set if s in b_set), None)
+                    a = a_set[0]
+                    what = (f"RX trace {rx} ({a.name}) on {layer} runs {fmt(length, 1)} mm in all within "
+                            f"{fmt(dist)} mm of TX {tx} of {b_set[0].name} (longest run {fmt(longest.length, 1)} mm, "
+                            f"centre line {fmt(closest)} mm from the TX copper at the closest); limit {fmt(limit, 1)} mm")
+                    if node is None:
+                        sev: Severity = "warning"
+                    else:
+                        sev = "note"
+                        what += (f"; {rx} and {tx} already form the node {node.name}, so a touch over the run reads "
+                                 f"as a press of {node.name} and the run adds to its baseline")
+                    yield finding(
+                        sev, what, value=length, limit=limit, unit="mm", layer=layer, geom=longest,
+                        nets=(rx, tx), sensor=a.name,
+                        source=source_near(net_features(board, layer, [rx]), longest),
+                    )
 
 
 def _segments(geom: BaseGeometry) -> Iterator[tuple[tuple[float, float], tuple[float, float]]]:
@@ -456,25 +522,50 @@ def _segments(geom: BaseGeometry) -> Iterator[tuple[tuple[float, float], tuple[f
                 yield (p[0], p[1]), (q[0], q[1])
 
 
+@dataclass(slots=True)
+class _Segs:
+    """The straight segments of a set of centre lines, as LineStrings, with a tree made when first asked."""
+
+    ends: list[tuple[tuple[float, float], tuple[float, float]]]
+    lines: np.ndarray
+    _tree: shapely.STRtree | None = None
+
+    @classmethod
+    def of(cls, geom: BaseGeometry) -> _Segs:
+        ends = list(_segments(geom))
+        lines = shapely.linestrings(np.array(ends, dtype=float).reshape(-1, 2, 2)) if ends else np.empty(0, dtype=object)
+        return cls(ends, lines)
+
+    @property
+    def tree(self) -> shapely.STRtree:
+        if self._tree is None:
+            self._tree = shapely.STRtree(self.lines)
+        return self._tree
+
+
+def _crossings(a: _Segs, b: _Segs) -> list[tuple[float, tuple[float, float]]]:
+    """Acute angle and point of every crossing between the segments of ``a`` and ``b`` (all pairs at once)."""
+    out: list[tuple[float, tuple[float, float]]] = []
+    if not a.ends or not b.ends:
+        return out
+    ia, ib = b.tree.query(a.lines, predicate="intersects")
+    if len(ia) == 0:
+        return out
+    xs = shapely.intersection(a.lines[ia], b.lines[ib])
+    is_point = shapely.get_type_id(xs) == 0
+    for k in np.flatnonzero(is_point & ~shapely.is_empty(xs)):
+        (p, q), (r, t) = a.ends[int(ia[k])], b.ends[int(ib[k])]
+        x = xs[k]
+        ang_a = math.atan2(q[1] - p[1], q[0] - p[0])
+        ang_b = math.atan2(t[1] - r[1], t[0] - r[0])
+        d = abs(math.degrees(ang_a - ang_b)) % 180.0
+        out.append((min(d, 180.0 - d), (x.x, x.y)))
+    return out
+
+
 def crossing_angles(a: BaseGeometry, b: BaseGeometry) -> list[tuple[float, tuple[float, float]]]:
     """Acute angle (degrees, 0-90) and point of every crossing between the segments of ``a`` and ``b``."""
-    out: list[tuple[float, tuple[float, float]]] = []
-    segs_b = list(_segments(b))
-    if not segs_b:
-        return out
-    tree = shapely.STRtree([LineString(s) for s in segs_b])
-    for p, q in _segments(a):
-        la = LineString([p, q])
-        for j in tree.query(la, predicate="intersects"):
-            r, t = segs_b[int(j)]
-            x = la.intersection(LineString([r, t]))
-            if x.is_empty or x.geom_type != "Point":
-                continue
-            ang_a = math.atan2(q[1] - p[1], q[0] - p[0])
-            ang_b = math.atan2(t[1] - r[1], t[0] - r[0])
-            d = abs(math.degrees(ang_a - ang_b)) % 180.0
-            out.append((min(d, 180.0 - d), (x.x, x.y)))
-    return out
+    return _crossings(_Segs.of(a), _Segs.of(b))
 
 
 class CrossingAngle(Rule):
@@ -512,16 +603,27 @@ class CrossingAngle(Rule):
         board = design.board
         sensing = {e.net: s for s in design.sensors for e in s.electrodes}
         others: dict[str, dict[str, BaseGeometry]] = {}  # net -> layer -> paths
+        traces: dict[str, dict[str, list[Feature]]] = {}  # sensing net -> its trace features per layer, once
         for lay in board.copper_layers():
             for net in {f.net for f in lay.features if f.net}:
                 if net in sensing or role(design, net) == "aggressor":
-                    feats = net_features(board, lay.name, [net])
                     if net in sensing:
-                        e = next(e for e in sensing[net].electrodes if e.net == net)
-                        feats = trace_features(board, e).get(lay.name, [])
+                        if net not in traces:
+                            e = next(e for e in sensing[net].electrodes if e.net == net)
+                            traces[net] = trace_features(board, e)
+                        feats = traces[net].get(lay.name, [])
+                    else:
+                        feats = net_features(board, lay.name, [net])
                     p = paths(feats)
                     if not p.is_empty:
                         others.setdefault(net, {})[lay.name] = p
+        segs: dict[tuple[str, str], _Segs] = {}  # (net, layer) -> segments, made once per run of the rule
+
+        def seg(net: str, layer: str, geom: BaseGeometry) -> _Segs:
+            if (net, layer) not in segs:
+                segs[net, layer] = _Segs.of(geom)
+            return segs[net, layer]
+
         for s in design.sensors:
             for e in s.electrodes:
                 for layer, path in sorted(others.get(e.net, {}).items()):
@@ -531,7 +633,9 @@ class CrossingAngle(Rule):
                         for olayer, opath in sorted(by_layer.items()):
                             if olayer == layer:
                                 continue
-                            crossings = crossing_angles(path, opath)
+                            if not bbox_overlap(path, opath):
+                                continue  # no crossing possible
+                            crossings = _crossings(seg(e.net, layer, path), seg(net, olayer, opath))
                             if not crossings:
                                 continue
                             ang, pt = min(crossings)

@@ -140,7 +140,81 @@ def test_rx_parallel_to_other_tx() -> None:
     reach = math.sqrt(1.1**2 - 0.5**2)
     assert f.value == pytest.approx(16 + 2 * reach, rel=0.01)
     assert f.sensor == "K1" and set(f.nets) == {"RX0", "TX1"} and f.location.line == 3
+    assert f.severity == "warning"  # RX0 and TX1 form no node anywhere
     assert run_one("routing.rx-parallel-tx", two_nodes(5.0)) == []
+
+
+def scanned_keys():
+    """Four keys scanned as a 2 x 2 matrix but each its own mutual node (K<row><col>: TX column C<col>, RX row
+    R<row>), and a separate node K9 (T9/R9).  On the bottom, R0's trace runs along y = -40 from x = -10 to 40;
+    C1's trace along y = -40.5 from x = 10 to 30 and T9's along y = -39.5 from x = -5 to 5 (all 0.2 mm wide)."""
+    def key(x: float, y: float) -> tuple:
+        return box(x - 2, y - 2, x + 2, y + 2), box(x - 5, y - 5, x + 5, y + 5).difference(box(x - 3, y - 3, x + 3, y + 3))
+
+    shapes, sensors, pads = [], [], {}
+    for r in (0, 1):
+        for c in (0, 1):
+            rx, tx = key(20.0 * c, 20.0 * r)
+            pads[r, c] = (rx, tx)
+            shapes += [region("top-copper", rx, f"R{r}"), region("top-copper", tx, f"C{c}")]
+    rx9, tx9 = key(60.0, 0.0)
+    shapes += [region("top-copper", rx9, "R9"), region("top-copper", tx9, "T9"),
+               draw("bottom-copper", [(-10, -40), (40, -40)], 0.2, "R0", line=5),
+               draw("bottom-copper", [(10, -40.5), (30, -40.5)], 0.2, "C1"),
+               draw("bottom-copper", [(-5, -39.5), (5, -39.5)], 0.2, "T9")]
+    board = make_board(shapes)
+    for (r, c), (rx, tx) in sorted(pads.items()):
+        sensors.append(sensor(f"K{r}{c}", "mutual-node", [with_traces(board, electrode(f"C{c}", "transmitter", tx)),
+                                                          with_traces(board, electrode(f"R{r}", "receiver", rx))]))
+    sensors.append(sensor("K9", "mutual-node", [with_traces(board, electrode("T9", "transmitter", tx9)),
+                                                with_traces(board, electrode("R9", "receiver", rx9))]))
+    roles = {n: "transmitter" for n in ("C0", "C1", "T9")} | {n: "receiver" for n in ("R0", "R1", "R9")}
+    return make_design(board, make_config(1.0), roles, sensors)
+
+
+def test_rx_parallel_tx_one_finding_per_pair_and_matrix_pairs_as_notes() -> None:
+    # R0 is the RX of K00 and K01, C1 the TX of K01 and K11: one finding for (R0, C1, bottom), not one per
+    # pair of sensors (there were three).  R0 and C1 already form the node K01, so it is a note.  By hand:
+    # the RX centre line is 0.5 mm from each TX centre line, i.e. within 1 mm of TX copper (0.1 mm half
+    # width) along the TX run plus sqrt(1.1^2 - 0.5^2) past each round end.
+    found = {tuple(sorted(f.nets)): f for f in run_one("routing.rx-parallel-tx", scanned_keys())}
+    assert set(found) == {("C1", "R0"), ("R0", "T9")}
+    reach = math.sqrt(1.1**2 - 0.5**2)
+    note, warn = found["C1", "R0"], found["R0", "T9"]
+    assert note.severity == "note" and note.sensor == "K00" and "K01" in note.message
+    assert note.value == pytest.approx(20 + 2 * reach, rel=0.01) and note.location.layer == "bottom-copper"
+    assert note.location.line == 5 and "0.50 mm from the TX copper" not in note.message  # centre line to copper: 0.40
+    assert "0.40 mm from the TX copper" in note.message
+    # T9 forms no node with R0: a warning, 10 mm run plus the two ends
+    assert warn.severity == "warning" and warn.value == pytest.approx(10 + 2 * reach, rel=0.01)
+
+
+def test_rx_parallel_tx_total_over_several_runs_located_at_the_longest() -> None:
+    # TX1 passes RX0 twice on its way down: x = 0.5 for y -12..-14 (2 mm) and y -18..-21 (3 mm), stepping
+    # out to x = 5 between.  Each stretch alone is under the 5 mm limit (2 + 2 reach and 3 + 2 reach); the
+    # total is reported once, at the longer run.
+    rx1, tx1 = box(-4, -4, 4, 4), box(-7, -7, 7, 7).difference(box(-5, -5, 5, 5))
+    rx2, tx2 = box(36, -4, 44, 4), box(33, -7, 47, 7).difference(box(35, -5, 45, 5))
+    tx_path = [(40, -7), (40, -12), (0.5, -12), (0.5, -14), (5, -14), (5, -18), (0.5, -18), (0.5, -21), (5, -21)]
+    shapes = [
+        region("top-copper", rx1, "RX0"), region("top-copper", tx1, "TX0"),
+        region("top-copper", rx2, "RX1"), region("top-copper", tx2, "TX1"),
+        draw("bottom-copper", [(0, -4), (0, -30)], 0.2, "RX0", line=3),
+        draw("bottom-copper", tx_path, 0.2, "TX1"),
+    ]
+    board = make_board(shapes)
+    k1 = sensor("K1", "mutual-node", [with_traces(board, electrode("TX0", "transmitter", tx1)),
+                                       with_traces(board, electrode("RX0", "receiver", rx1))])
+    k2 = sensor("K2", "mutual-node", [with_traces(board, electrode("TX1", "transmitter", tx2)),
+                                       with_traces(board, electrode("RX1", "receiver", rx2))])
+    roles = {"TX0": "transmitter", "TX1": "transmitter", "RX0": "receiver", "RX1": "receiver"}
+    (f,) = run_one("routing.rx-parallel-tx", make_design(board, make_config(1.0), roles, [k1, k2]))
+    reach = math.sqrt(1.1**2 - 0.5**2)
+    assert f.value == pytest.approx(5 + 4 * reach, rel=0.01)
+    assert f"longest run {3 + 2 * reach:.1f} mm" in f.message
+    # the location's box is the longer run's: y from -21 - reach to -18 + reach on x = 0
+    x0, y0, x1, y1 = f.location.box_mm
+    assert (x0, x1) == (0.0, 0.0) and y0 == pytest.approx(-21 - reach, abs=0.01) and y1 == pytest.approx(-18 + reach, abs=0.01)
 
 
 @pytest.mark.parametrize("angle_deg, warn", [(30.0, True), (90.0, False), (65.0, False), (45.0, True)])
