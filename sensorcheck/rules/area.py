@@ -51,6 +51,7 @@ class ReceiverVsGround(Rule):
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         if any(s.electrodes_with("receiver") for s in design.sensors):
             require_role(design, "ground")
+        grounds = {lay.name: ground_copper(design, lay.name) for lay in design.board.copper_layers()}  # once per run
         for s in design.sensors:
             rxs = s.electrodes_with("receiver")
             if not rxs:
@@ -63,7 +64,7 @@ class ReceiverVsGround(Rule):
             window = outline.buffer(params["surround_mm"])
             gnd_area = 0.0
             for lay in design.board.copper_layers():
-                g = ground_copper(design, lay.name)
+                g = grounds[lay.name]
                 if not g.is_empty:
                     gnd_area += g.intersection(window).difference(outline if lay.name == s.layer else union([])).area
             footprint = union([e.geometry for e in s.electrodes if e.role in ("transmitter", "receiver")]).convex_hull

@@ -6,6 +6,7 @@ import math
 from collections.abc import Iterable, Sequence
 from typing import Any
 
+import numpy as np
 import shapely
 import shapely.ops
 from shapely.geometry import LineString, MultiLineString, Point
@@ -183,11 +184,35 @@ def paths(features: Iterable[Feature]) -> BaseGeometry:
 
 
 def source_near(features: Sequence[Feature], geom: BaseGeometry) -> Any:
-    """The source (file, line) of the feature nearest to ``geom`` (None if there are none)."""
+    """The source (file, line) of the feature nearest to ``geom`` (None if there are none).
+
+    The first of the nearest in the given order, as ``min`` would pick; exact distances are only
+    computed for features whose bounding box is no farther than the best distance found so far
+    (the box distance is a lower bound), nearest box first.
+    """
     if not features or geom is None or geom.is_empty:
         return None
-    best = min(features, key=lambda f: f.geometry.distance(geom))
-    return best.source
+    if len(features) == 1:
+        return features[0].source
+    gb = np.asarray(geom.bounds, dtype=float)
+    fb = shapely.bounds(np.array([f.geometry for f in features], dtype=object))
+    dx = np.maximum(0.0, np.maximum(fb[:, 0] - gb[2], gb[0] - fb[:, 2]))
+    dy = np.maximum(0.0, np.maximum(fb[:, 1] - gb[3], gb[1] - fb[:, 3]))
+    lower = np.hypot(dx, dy)
+    dist = np.full(len(features), np.inf)
+    best = np.inf
+    for i in np.flatnonzero(np.isnan(lower)):  # empty geometries: whatever distance says, as before
+        dist[i] = features[int(i)].geometry.distance(geom)
+    for i in np.argsort(lower, kind="stable"):
+        if np.isnan(lower[i]):
+            continue
+        if lower[i] > best:
+            break
+        d = features[int(i)].geometry.distance(geom)
+        dist[i] = d
+        if d < best:
+            best = d
+    return features[min(range(len(features)), key=lambda k: dist[k])].source
 
 
 def trace_features(board: Board, electrode: Electrode) -> dict[str, list[Feature]]:

@@ -11,6 +11,7 @@ import numpy as np
 import shapely
 from shapely.geometry.base import BaseGeometry
 
+from sensorcheck.board.model import Feature
 from sensorcheck.design.model import Design
 from sensorcheck.physics.parasitics import parallel_plate_pf
 from sensorcheck.rules.common import (
@@ -124,6 +125,17 @@ def _other_copper(design: Design, layer: str, window: BaseGeometry) -> BaseGeome
     return clipped_union((g for n, g in lay.by_net.items() if n not in skip), window.envelope)
 
 
+def _features_meeting(features: list[Feature], skip: set[str], window: BaseGeometry) -> list[Feature]:
+    """Dark features of nets not in ``skip`` whose box meets the box of ``window`` (boxes compared all at once)."""
+    cand = [f for f in features if f.net not in skip and f.polarity == "dark"]
+    if not cand or window.is_empty:
+        return []
+    x0, y0, x1, y1 = window.bounds
+    b = shapely.bounds(np.array([f.geometry for f in cand], dtype=object))
+    keep = (b[:, 0] <= x1) & (x0 <= b[:, 2]) & (b[:, 1] <= y1) & (y0 <= b[:, 3])
+    return [f for f, k in zip(cand, keep) if k]
+
+
 class FillNearSensor(Rule):
     """Copper fill in a ring around each sensor, per layer, measured from the image.
 
@@ -193,8 +205,7 @@ class FillNearSensor(Rule):
                     "common practice)",
                     value=pct, limit=limit, unit="%", layer=lay.name, geom=ring.intersection(other),
                     nets=(), sensor=s.name,
-                    source=source_near([f for f in lay.features if f.net not in skip and f.polarity == "dark"
-                                        and bbox_overlap(f.geometry, ring)], own),
+                    source=source_near(_features_meeting(lay.features, skip, ring), own),
                 )
 
 
