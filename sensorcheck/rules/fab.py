@@ -5,10 +5,13 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 from typing import Any
 
+import numpy as np
+import shapely
 from shapely.geometry import Point
 
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
+    bbox_overlap,
     finding,
     fmt,
     hole_nets,
@@ -157,12 +160,14 @@ class FloatingCopper(Rule):
                 "the board carries no net names, so unconnected copper cannot be told from unnamed nets",
                 "export Gerber X2 with net attributes (.N) or an IPC-D-356 netlist with the fabrication files",
             )
+        islands = {lay.name: sorted((n, g) for n, g in lay.by_net.items() if is_floating_id(n))
+                   for lay in design.board.copper_layers()}  # once per run, not per sensor
         for s in design.sensors:
             near = s.outline.buffer(params["distance_mm"])
             for lay in design.board.copper_layers():
-                for net, geom in sorted(lay.by_net.items()):
-                    if not is_floating_id(net):
-                        continue
+                for net, geom in islands[lay.name]:
+                    if not bbox_overlap(geom, near):
+                        continue  # boxes apart: nothing in common
                     ov = geom.intersection(near)
                     if ov.is_empty or ov.area < params["min_area_mm2"]:
                         continue
@@ -172,7 +177,8 @@ class FloatingCopper(Rule):
                         f"unconnected copper ({fmt(geom.area, 2)} mm2) on {lay.name} is {fmt(d)} mm from {s.name}; "
                         f"none accepted within {fmt(params['distance_mm'], 1)} mm",
                         value=d, limit=params["distance_mm"], unit="mm", layer=lay.name, geom=geom,
-                        sensor=s.name, source=source_near([f for f in lay.features if f.geometry.intersects(geom)], geom),
+                        sensor=s.name, source=source_near([f for f in lay.features if bbox_overlap(f.geometry, geom)
+                                            and f.geometry.intersects(geom)], geom),
                     )
 
 
@@ -260,13 +266,15 @@ class HoleNearSensor(Rule):
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         nets_of = hole_nets(design)
         holes = [(h, nets_of[i]) for i, h in enumerate(design.board.holes) if not is_via(h, params["max_via_diameter_mm"])]
+        pts = shapely.points(np.array([(h.x_mm, h.y_mm) for h, _ in holes], dtype=float).reshape(-1, 2))
         for s in design.sensors:
             own = set(s.nets)
             outline = s.outline
-            for h, net in holes:
+            centre_d = shapely.distance(outline, pts)  # every hole at once
+            for k, (h, net) in enumerate(holes):
                 if net in own:
                     continue
-                d = max(0.0, outline.distance(Point(h.x_mm, h.y_mm)) - h.diameter_mm / 2.0)
+                d = max(0.0, float(centre_d[k]) - h.diameter_mm / 2.0)
                 if d >= params["min_distance_mm"]:
                     continue
                 yield finding(

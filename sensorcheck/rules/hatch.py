@@ -116,13 +116,33 @@ def _hatch_text(m: HatchMeasure) -> str:
     return f"hatch line {fmt(m.line_mm)} mm, opening {fmt(m.opening_mm)} mm ({m.openings} openings)"
 
 
-def _other_copper(design: Design, layer: str, window: BaseGeometry) -> BaseGeometry:
-    """Copper of every net on ``layer`` except sensing electrodes and traces, clipped to ``window``."""
-    lay = copper(design.board, layer)
-    if lay is None:
+def _other_copper(design: Design, layer: str, window: BaseGeometry,
+                  boxes: dict[str, tuple[list[BaseGeometry], np.ndarray]] | None = None) -> BaseGeometry:
+    """Copper of every net on ``layer`` except sensing electrodes and traces, clipped to ``window``.
+
+    ``boxes`` (layer -> that copper and its bounds, from :func:`_other_boxes`) saves finding them again.
+    """
+    if boxes is None:
+        boxes = _other_boxes(design)
+    if layer not in boxes:
         return union([])
+    geoms, b = boxes[layer]
+    env = window.envelope
+    if env.is_empty or not geoms:
+        return union([])
+    x0, y0, x1, y1 = env.bounds
+    keep = (b[:, 0] <= x1) & (x0 <= b[:, 2]) & (b[:, 1] <= y1) & (y0 <= b[:, 3])  # bbox_overlap, all at once
+    return union(geoms[int(k)].intersection(env) for k in np.flatnonzero(keep))
+
+
+def _other_boxes(design: Design) -> dict[str, tuple[list[BaseGeometry], np.ndarray]]:
+    """Per copper layer: the non-empty copper of nets that do not sense, in net order, and its bounds."""
     skip = sensing_nets(design)
-    return clipped_union((g for n, g in lay.by_net.items() if n not in skip), window.envelope)
+    out: dict[str, tuple[list[BaseGeometry], np.ndarray]] = {}
+    for lay in design.board.copper_layers():
+        geoms = [g for n, g in lay.by_net.items() if n not in skip and not g.is_empty]
+        out[lay.name] = (geoms, shapely.bounds(np.array(geoms, dtype=object)).reshape(-1, 4))
+    return out
 
 
 def _features_meeting(features: list[Feature], skip: set[str], window: BaseGeometry) -> list[Feature]:
@@ -177,6 +197,7 @@ class FillNearSensor(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         outline_board = design.board.outline
+        boxes = _other_boxes(design)  # once per run
         for s in design.sensors:
             own = s.outline
             ring = own.buffer(params["ring_mm"]).difference(own)
@@ -186,7 +207,7 @@ class FillNearSensor(Rule):
             skip = sensing_nets(design)
             windows: list[tuple[float, float, BaseGeometry]] | None = None  # only when something is reported
             for lay in design.board.copper_layers():
-                other = _other_copper(design, lay.name, ring)
+                other = _other_copper(design, lay.name, ring, boxes)
                 if other.is_empty:
                     continue
                 m = measure_hatch(other, ring)

@@ -183,6 +183,15 @@ def _trace_paths(design: Design, e: Electrode) -> dict[str, BaseGeometry]:
     return {layer: paths(feats) for layer, feats in trace_features(design.board, e).items()}
 
 
+def _box_hits(geom: BaseGeometry, boxes: np.ndarray) -> set[int]:
+    """Indices of ``boxes`` (rows x0, y0, x1, y1) that meet the box of ``geom``, edges included."""
+    if geom.is_empty:
+        return set()
+    x0, y0, x1, y1 = geom.bounds
+    ok = (boxes[:, 0] <= x1) & (x0 <= boxes[:, 2]) & (boxes[:, 1] <= y1) & (y0 <= boxes[:, 3])
+    return {int(k) for k in np.flatnonzero(ok)}
+
+
 class TraceUnderElectrode(Rule):
     """A sensor's trace under or over another sensor's electrode.
 
@@ -217,29 +226,40 @@ class TraceUnderElectrode(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        flat = [(b, eb) for b in design.sensors for eb in b.electrodes]  # every electrode, in design order
+        boxes = shapely.bounds(np.array([eb.geometry for _, eb in flat], dtype=object))
         for a in design.sensors:
             for ea in a.electrodes:
-                traces = trace_geometry(ea)
-                for b in design.sensors:
-                    for eb in b.electrodes:
-                        if eb.net == ea.net or (a is b and b.kind not in SELF_KINDS):
-                            # a mutual node's RX trace leaves through its own TX ring by design
+                traces = sorted(trace_geometry(ea).items())
+                # which electrodes each trace layer's box meets (as bbox_overlap, all boxes at once)
+                meets = {layer: _box_hits(tg, boxes) for layer, tg in traces}
+                for layer, tg in traces:  # of those, the ones it really touches (else the overlap is empty)
+                    cand = sorted(meets[layer])
+                    if cand:
+                        shapely.prepare(tg)
+                        touch = shapely.intersects(tg, np.array([flat[k][1].geometry for k in cand], dtype=object))
+                        meets[layer] = {k for k, t in zip(cand, touch) if t}
+                hit = sorted(set().union(*meets.values())) if meets else []
+                for k in hit:
+                    b, eb = flat[k]
+                    if eb.net == ea.net or (a is b and b.kind not in SELF_KINDS):
+                        # a mutual node's RX trace leaves through its own TX ring by design
+                        continue
+                    for layer, tg in traces:
+                        if k not in meets[layer]:
                             continue
-                        for layer, tg in sorted(traces.items()):
-                            if not bbox_overlap(tg, eb.geometry):
-                                continue
-                            ov = tg.intersection(eb.geometry)
-                            if ov.is_empty or ov.area < params["min_area_mm2"]:
-                                continue
-                            sev = "error" if b.kind in SELF_KINDS else "warning"
-                            yield finding(
-                                sev,
-                                f"trace of {ea.net} ({a.name}) on {layer} runs under the electrode {eb.net} of {b.name} "
-                                f"({eb.layer}) over {fmt(ov.area, 2)} mm2 (limit 0 mm2)",
-                                value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov,
-                                nets=(ea.net, eb.net), sensor=b.name,
-                                source=source_near(net_features(design.board, layer, [ea.net]), ov),
-                            )
+                        ov = tg.intersection(eb.geometry)
+                        if ov.is_empty or ov.area < params["min_area_mm2"]:
+                            continue
+                        sev = "error" if b.kind in SELF_KINDS else "warning"
+                        yield finding(
+                            sev,
+                            f"trace of {ea.net} ({a.name}) on {layer} runs under the electrode {eb.net} of {b.name} "
+                            f"({eb.layer}) over {fmt(ov.area, 2)} mm2 (limit 0 mm2)",
+                            value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov,
+                            nets=(ea.net, eb.net), sensor=b.name,
+                            source=source_near(net_features(design.board, layer, [ea.net]), ov),
+                        )
 
 
 def _sensor_copper(design: Design, s: Sensor, layer: str) -> BaseGeometry:
