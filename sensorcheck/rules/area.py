@@ -60,8 +60,8 @@ class ReceiverVsGround(Rule):
             if est is not None and est.turning_point_mm is not None and est.turning_point_mm > 0:
                 continue
             rx_area = sum(e.geometry.area for e in rxs)
-            outline = s.outline
-            window = outline.buffer(params["surround_mm"])
+            outline = self.cache.outline(s)
+            window = self.cache.grown(s, params["surround_mm"])
             gnd_area = 0.0
             for lay in design.board.copper_layers():
                 g = grounds[lay.name]

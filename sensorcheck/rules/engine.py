@@ -123,8 +123,41 @@ class MissingInput(Exception):
         super().__init__(f"{what}: {how}")
 
 
+class RunCache:
+    """Per-sensor geometry several rules need, made once per run of the rules (the engine hands one
+    cache to every rule of a run; a rule made on its own has its own).  Same calls as the rules
+    made before, so the same numbers: only the repetition goes."""
+
+    def __init__(self) -> None:
+        self._outline: dict[int, tuple[Any, Any]] = {}
+        self._grown: dict[tuple[int, float], tuple[Any, Any]] = {}
+
+    def outline(self, sensor: Any) -> Any:
+        """``sensor.outline`` (the union of its electrodes)."""
+        hit = self._outline.get(id(sensor))
+        if hit is None or hit[0] is not sensor:
+            hit = (sensor, sensor.outline)
+            self._outline[id(sensor)] = hit
+        return hit[1]
+
+    def grown(self, sensor: Any, distance_mm: float) -> Any:
+        """``sensor.outline.buffer(distance_mm)``."""
+        key = (id(sensor), float(distance_mm))
+        hit = self._grown.get(key)
+        if hit is None or hit[0] is not sensor:
+            hit = (sensor, self.outline(sensor).buffer(distance_mm))
+            self._grown[key] = hit
+        return hit[1]
+
+
 class Rule:
-    """Base of every rule.  Subclasses set the class attributes and implement :meth:`check`."""
+    """Base of every rule.  Subclasses set the class attributes and implement :meth:`check`.
+
+    ``self.cache`` is the run's :class:`RunCache` (set by the engine; a fresh one otherwise).
+    """
+
+    def __init__(self) -> None:
+        self.cache = RunCache()
 
     id: ClassVar[str]
     title: ClassVar[str]
@@ -533,6 +566,7 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
     run = RuleRun()
     est: Mapping[str, SensorEstimate] = estimates if estimates is not None else {}
     active = [rid for rid, cls in reg.items() if not cls.engine_only]
+    cache = RunCache()  # per-sensor geometry shared by the rules of this run
     for i, rid in enumerate(active):
         cls = reg[rid]
         severity, params = settings[rid]
@@ -547,7 +581,9 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
             run.findings.append(_missing_note(rid, [HOW_TO_GIVE[m] for m in missing]))
             continue
         try:
-            produced = list(cls().check(design, est, params))
+            rule = cls()
+            rule.cache = cache
+            produced = list(rule.check(design, est, params))
         except MissingInput as mi:
             run.findings.append(_missing_note(rid, [(mi.what, mi.how)]))
             continue

@@ -163,7 +163,7 @@ class FloatingCopper(Rule):
         islands = {lay.name: sorted((n, g) for n, g in lay.by_net.items() if is_floating_id(n))
                    for lay in design.board.copper_layers()}  # once per run, not per sensor
         for s in design.sensors:
-            near = s.outline.buffer(params["distance_mm"])
+            near = self.cache.grown(s, params["distance_mm"])
             for lay in design.board.copper_layers():
                 for net, geom in islands[lay.name]:
                     if not bbox_overlap(geom, near):
@@ -171,7 +171,7 @@ class FloatingCopper(Rule):
                     ov = geom.intersection(near)
                     if ov.is_empty or ov.area < params["min_area_mm2"]:
                         continue
-                    d = geom.distance(s.outline)
+                    d = geom.distance(self.cache.outline(s))
                     yield finding(
                         "warning",
                         f"unconnected copper ({fmt(geom.area, 2)} mm2) on {lay.name} is {fmt(d)} mm from {s.name}; "
@@ -269,7 +269,7 @@ class HoleNearSensor(Rule):
         pts = shapely.points(np.array([(h.x_mm, h.y_mm) for h, _ in holes], dtype=float).reshape(-1, 2))
         for s in design.sensors:
             own = set(s.nets)
-            outline = s.outline
+            outline = self.cache.outline(s)
             centre_d = shapely.distance(outline, pts)  # every hole at once
             for k, (h, net) in enumerate(holes):
                 if net in own:
@@ -316,7 +316,7 @@ class BoardEdgeNearSensor(Rule):
         outline = design.board.outline
         edge = outline.boundary if outline.geom_type in ("Polygon", "MultiPolygon") else outline
         for s in design.sensors:
-            d = s.outline.distance(edge)
+            d = self.cache.outline(s).distance(edge)
             if d >= params["min_distance_mm"]:
                 continue
             pa, pb = nearest_points(s.outline, edge)

@@ -199,8 +199,8 @@ class FillNearSensor(Rule):
         outline_board = design.board.outline
         boxes = _other_boxes(design)  # once per run
         for s in design.sensors:
-            own = s.outline
-            ring = own.buffer(params["ring_mm"]).difference(own)
+            own = self.cache.outline(s)
+            ring = self.cache.grown(s, params["ring_mm"]).difference(own)
             if outline_board is not None and outline_board.area > 0:
                 ring = ring.intersection(shapely.Polygon(outline_board.exterior) if outline_board.geom_type == "Polygon" else outline_board)
             self_kind = s.kind in SELF_KINDS

@@ -88,7 +88,7 @@ class ForeignCopperInZone(Rule):
             layers.append((lay, names, shapely.STRtree([lay.by_net[n] for n in names])))
         for s in design.sensors:
             own = set(s.nets)
-            outline = s.outline
+            outline = self.cache.outline(s)
             # other sensors' electrodes whose box meets the zone's: the rest cannot touch it
             others_el = union(els[int(i)][1] for i in sorted(el_tree.query(s.zone)) if els[int(i)][0] is not s)
             for lay, names, tree in layers:
@@ -158,7 +158,7 @@ class ForeignViaInZone(Rule):
         vias = [(h, nets_of[i]) for i, h in enumerate(design.board.holes) if is_via(h, params["max_via_diameter_mm"])]
         for s in design.sensors:
             own = set(s.nets)
-            near = s.outline.buffer(params["clearance_mm"])
+            near = self.cache.grown(s, params["clearance_mm"])
             for h, net in vias:
                 if net in own:
                     continue
@@ -167,7 +167,7 @@ class ForeignViaInZone(Rule):
                 area = near if ref else s.zone
                 if not area.contains(p):
                     continue
-                d = s.outline.distance(p)
+                d = self.cache.outline(s).distance(p)
                 what = "inside the electrode" if d == 0 else f"{fmt(d)} mm from the electrode"
                 where = f"the electrode's {fmt(params['clearance_mm'])} mm clearance" if ref else "the sensing zone"
                 yield finding(
