@@ -86,14 +86,42 @@ def test_nested_block_apertures_past_the_object_limit(worker: Worker) -> None:
 
 
 @pytest.mark.xfail(strict=True, reason="reader bug (sensorcheck/fab/gerber_geometry.py images_by_net -> _union, "
-                   "the STRtree query): objects stacked on one another make the union super-linear: 1000 coincident "
-                   "flashes 0.3 s, 2000 1.9 s, 4000 9.3 s (measured); this 200 kB file of 20 000 (within every "
-                   "limit) runs for minutes")
+                   "the STRtree query): objects stacked on one another make the union super-linear in time AND memory "
+                   "(all pairs): 1000 coincident flashes 0.3 s, 2000 1.9 s, 4000 9.3 s, 8000 (a 72 kB file) 43 s "
+                   "and 2.0 GB peak RSS (measured); this 200 kB file of 20 000, within every limit, makes the "
+                   "worker (RLIMIT_AS 2 GiB) die with SIGSEGV in shapely/GEOS after ~3 s instead of a MemoryError")
 def test_coincident_flashes_within_every_limit(worker: Worker) -> None:
     text = HEAD + "X0Y0D03*\n" * 20_000 + "M02*\n"
     out = worker.run("gerber", text.encode(), "stacked.gbr")
     print(f"\nstacked.gbr: {out.kind} {out.message} ({out.seconds:.2f} s)")
     assert out.kind in ("ok", "ours") and out.seconds < GUARD_S
+
+
+@pytest.mark.xfail(strict=True, reason="reader bug (no size check on apertures after LS; union in "
+                   "sensorcheck/fab/gerber_geometry.py): %LS1000000*% makes a 0.1 mm pen 100 m wide, each draw an "
+                   "8192-vertex stadium overlapping all others: 100 draws 2.4 s, 200 9.6 s, 400 44 s (measured); "
+                   "this 30 kB file of 1000 draws is within every limit and runs for minutes. Found by "
+                   "bench/fuzz_long.py (LS inserted into corpus b07's top copper)")
+def test_aperture_scaled_to_100_m(worker: Worker) -> None:
+    text = HEAD + "%LS1000000*%\n" + "".join(f"X{k * 100000}Y0D02*\nX{k * 100000}Y1000000D01*\n" for k in range(1000))
+    out = worker.run("gerber", (text + "M02*\n").encode(), "scaled.gbr")
+    print(f"\nscaled.gbr: {out.kind} {out.message} ({out.seconds:.2f} s)")
+    assert out.kind in ("ok", "ours") and out.seconds < GUARD_S
+
+
+@pytest.mark.xfail(strict=True, reason="reader bug (sensorcheck/fab/excellon.py line ~326: the repeat pre-check "
+                   "compares the repeat count alone with max_holes, not len(holes) + count): R2000000 (= the default "
+                   "max_holes) after one hole passes it, and 2 000 000 holes are made one by one before the per-hole "
+                   "check refuses: the right LimitError, but after ~12 s (measured, 2-core machine)")
+def test_excellon_repeat_past_the_limit_is_refused_before_making_holes() -> None:
+    # shown with a small override so that the test is fast: one hole, then R1000 against max_holes = 1000
+    from sensorcheck.fab.excellon import read_excellon
+
+    text = "M48\nMETRIC,TZ\nT1C0.8\n%\nT1\nX1.0Y1.0\nR1000X0.01\nM30\n"
+    with pytest.raises(LimitError) as info:
+        read_excellon(text.encode(), "repeat-at-limit.drl", limits=Limits(max_holes=1000))
+    assert info.value.line == 7
+    assert info.value.message.startswith("repeat of"), info.value.message  # refused by the pre-check
 
 
 def test_many_flashes_past_a_small_object_limit(worker: Worker) -> None:
