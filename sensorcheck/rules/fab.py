@@ -123,6 +123,16 @@ class MaskOpeningOnElectrode(Rule):
             )
 
 
+def _touching(lay: Any, geom: Any, boxes: dict[str, np.ndarray]) -> list[Any]:
+    """The features of ``lay`` that intersect ``geom``, in file order (boxes compared first, all at once)."""
+    if lay.name not in boxes:
+        boxes[lay.name] = shapely.bounds(np.array([f.geometry for f in lay.features], dtype=object)).reshape(-1, 4)
+    b = boxes[lay.name]
+    x0, y0, x1, y1 = geom.bounds
+    near = np.flatnonzero((b[:, 0] <= x1) & (x0 <= b[:, 2]) & (b[:, 1] <= y1) & (y0 <= b[:, 3]))
+    return [lay.features[int(k)] for k in near if lay.features[int(k)].geometry.intersects(geom)]
+
+
 class FloatingCopper(Rule):
     """Unconnected copper near sensors.
 
@@ -160,6 +170,7 @@ class FloatingCopper(Rule):
                 "the board carries no net names, so unconnected copper cannot be told from unnamed nets",
                 "export Gerber X2 with net attributes (.N) or an IPC-D-356 netlist with the fabrication files",
             )
+        feature_boxes: dict[str, np.ndarray] = {}  # layer -> bounds of its features, made when first needed
         islands = {lay.name: sorted((n, g) for n, g in lay.by_net.items() if is_floating_id(n))
                    for lay in design.board.copper_layers()}  # once per run, not per sensor
         for s in design.sensors:
@@ -177,8 +188,7 @@ class FloatingCopper(Rule):
                         f"unconnected copper ({fmt(geom.area, 2)} mm2) on {lay.name} is {fmt(d)} mm from {s.name}; "
                         f"none accepted within {fmt(params['distance_mm'], 1)} mm",
                         value=d, limit=params["distance_mm"], unit="mm", layer=lay.name, geom=geom,
-                        sensor=s.name, source=source_near([f for f in lay.features if bbox_overlap(f.geometry, geom)
-                                            and f.geometry.intersects(geom)], geom),
+                        sensor=s.name, source=source_near(_touching(lay, geom, feature_boxes), geom),
                     )
 
 

@@ -485,18 +485,19 @@ class RxParallelTx(Rule):
         rx_in: dict[str, list[Sensor]] = {}  # net -> sensors it is a receiver of (design order)
         tx_in: dict[str, list[Sensor]] = {}
         rx_el: dict[str, list[Electrode]] = {}
-        tx_parts: dict[str, list[BaseGeometry]] = {}
+        tx_nets_seen: set[str] = set()
         for s in design.sensors:
             for e in s.electrodes_with("receiver"):
                 rx_in.setdefault(e.net, []).append(s)
                 rx_el.setdefault(e.net, []).append(e)
             for e in s.electrodes_with("transmitter"):
                 tx_in.setdefault(e.net, []).append(s)
-                tx_parts.setdefault(e.net, []).extend([e.geometry, *e.trace.values()])
-        if not rx_el or not tx_parts:
+                tx_nets_seen.add(e.net)
+        if not rx_el or not tx_nets_seen:
             return
-        tx_nets = sorted(tx_parts)
-        tx_cu = [union(tx_parts[n]) for n in tx_nets]
+        tx_nets = sorted(tx_nets_seen)
+        # the TX net's copper on every layer (electrodes and traces; a net in several sensors is counted once)
+        tx_cu = [union(lay.by_net.get(n) for lay in board.copper_layers()) for n in tx_nets]
         tx_near = shapely.buffer(np.array(tx_cu, dtype=object), dist)
         tree = shapely.STRtree(tx_near)
         for rx in sorted(rx_el):
