@@ -133,3 +133,21 @@ def test_reports_are_byte_identical_across_processes_and_hash_seeds(tmp_path: Pa
         outputs.append({f: (d / f"out.{f}").read_bytes() for f in fmts})
     for f in fmts:
         assert outputs[0][f] == outputs[1][f], f"{f} differs between runs"
+
+
+@pytest.mark.slow
+def test_field_solver_decides_the_turnaround_on_the_demo(tmp_path: Path) -> None:
+    """Fault (a) of the flawed revision (boards/README.md): a 20 mm receiver with no ground within
+    10 mm, in a battery product (device ground 10 pF to earth, the config's own scenario). The
+    field knowledge: a large receiver against its ground turns the signal around above the
+    overlay, a small one in its ground pour does not."""
+    rc, flawed = _json_report(tmp_path, str(FLAWED))
+    assert rc == 1
+    turn = [f for f in flawed["boards"][0]["findings"] if f["rule_id"] == "signal.turnaround"]
+    assert [(f["severity"], f["sensor"]) for f in turn] == [("error", "K1")]
+    assert turn[0]["value"] > 0.0 and turn[0]["unit"] == "mm"
+    rc, clean = _json_report(tmp_path, str(CLEAN))
+    assert rc == 0, _rule_ids(clean)
+    k1 = next(s for s in clean["boards"][0]["sensors"] if s["name"] == "K1")
+    assert k1["estimate"]["turning_point_mm"] is None
+    assert k1["estimate"]["touch_delta_pf"] < 0  # mutual: a touch lowers Cm
