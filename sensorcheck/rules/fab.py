@@ -7,7 +7,6 @@ from typing import Any
 
 import numpy as np
 import shapely
-from shapely.geometry import Point
 
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
