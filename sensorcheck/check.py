@@ -243,9 +243,21 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     want_estimates = options.estimate if options.estimate is not None else bool(config.estimate.get("enabled", True))
     if want_estimates and design.sensors:
         try:
-            from sensorcheck.physics.sensors import estimate_design
+            from sensorcheck.physics.sensors import INTERNAL_PREFIX, estimate_design
 
-            estimates = estimate_design(design, progress=progress)
+            failed: list[str] = []
+            estimates = estimate_design(design, progress=progress, errors=failed)
+            for text in failed:
+                name = text.split(": ", 1)[0]
+                if INTERNAL_PREFIX in text:
+                    result.findings.append(Finding(rule_id="internal.estimate", severity="error", sensor=name,
+                                                   message=f"estimate of {text}", kind="internal-error"))
+                else:
+                    result.findings.append(Finding(
+                        rule_id="estimate.unavailable", severity="warning", sensor=name,
+                        message=f"no field-solver estimate for {text}; the rules that need one fall back to "
+                                "geometry for this sensor",
+                        review="Measure this sensor's touch signal on the prototype: the model could not estimate it."))
         except SensorcheckError as err:
             result.findings.append(_input_error_finding(err))
         except Exception as exc:  # noqa: BLE001

@@ -661,6 +661,10 @@ def estimate_with(
 # many sensors, sweeps
 
 
+#: messages of sensors whose estimate failed through a bug of ours (not through their input) start with this
+INTERNAL_PREFIX = "internal error: "
+
+
 def _one(args: tuple[Design, str, int, float]) -> tuple[str, SensorEstimate | str]:
     design, name, heights, max_h = args
     sensor = next(s for s in design.sensors if s.name == name)
@@ -668,6 +672,8 @@ def _one(args: tuple[Design, str, int, float]) -> tuple[str, SensorEstimate | st
         return name, estimate_sensor(design, sensor, heights=heights, max_height_mm=max_h)
     except (InputError, ConfigError) as exc:
         return name, exc.describe()
+    except Exception as exc:  # noqa: BLE001 - one sensor's bug must not lose the other sensors' estimates
+        return name, f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
 
 
 def estimate_design(
@@ -714,8 +720,11 @@ def estimate_design(
                         os.environ.pop(k, None)
                     else:
                         os.environ[k] = v
-                for fut in futures:
-                    name, res = fut.result()
+                for job, fut in zip(jobs, futures):
+                    try:
+                        name, res = fut.result()
+                    except Exception as exc:  # noqa: BLE001 - a dead worker loses only its own sensor
+                        name, res = job[1], f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
                     _collect(name, res, results, failed, progress)
         finally:
             for k, v in saved.items():
