@@ -632,7 +632,7 @@ def estimate_with(
     f = model.finger
     ground = "earthed device" if f.device_ground_coupling_pf is None else f"device ground {f.device_ground_coupling_pf:g} pF to earth"
     model_text = (
-        f"estimate: 3-D boundary elements (collocation, layered-media images); finger {f.contact_diameter_mm:g} mm x "
+        f"3-D boundary elements (collocation, layered-media images); finger {f.contact_diameter_mm:g} mm x "
         f"{f.length_mm:g} mm cylinder, body {f.body_capacitance_pf:g} pF, {ground}; overlay {model.overlay.thickness_mm:g} mm"
     )
     return SensorEstimate(
