@@ -15,7 +15,10 @@ for the connectivity step; ``GerberRead.by_net`` holds it already computed for t
 
 from __future__ import annotations
 
+import gc
 import re
+from collections.abc import Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -111,6 +114,28 @@ def read_gerber(
         raise ValueError("arc_tolerance_mm must be > 0")
     if len(data) > limits.max_file_bytes:
         raise LimitError(name, None, f"file of {len(data)} bytes", f"at most limits.max_file_bytes = {limits.max_file_bytes}")
+    with _gc_paused():
+        return _read(data, name, arc_tolerance_mm, limits)
+
+
+@contextmanager
+def _gc_paused() -> Iterator[None]:
+    """Python's cyclic garbage collector off while one file is read, as it was afterwards.
+
+    Reading makes millions of objects that live on (features, geometries) and few cycles; the
+    collector's full passes over that growing heap cost more the larger the layer (0.4 s at 1 MB,
+    4.8 s at 8 MB of panelised demo board). Cycles made meanwhile are collected once it is back on.
+    """
+    was_enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was_enabled:
+            gc.enable()
+
+
+def _read(data: bytes, name: str, arc_tolerance_mm: float, limits: Limits) -> GerberRead:
     text = decode_gerber(data, name)
     if not text.strip():
         raise InputError(name, 1, "empty file", "Gerber commands ending with M02*")
