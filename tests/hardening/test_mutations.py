@@ -290,6 +290,10 @@ KNOWN_BUGS: dict[str, tuple[Reader, str, re.Pattern[bytes]]] = {
     # %LS1000000*% scales a 0.1 mm pen to 100 m: every draw becomes an 8192-vertex stadium
     # overlapping all others and the union goes super-linear (reproducer in test_bombs.py)
     "gerber-huge-aperture-overlap": ("gerber", "hang", re.compile(rb"%LS1000000\*%")),
+    # a circle aperture of diameter 1e300 mm: the segment count divides by zero (acos(1 - tol/r) = 0)
+    "gerber-huge-circle-aperture": ("gerber", "ZeroDivisionError", re.compile(rb"\de[23]\d\d")),
+    # ;FILE_FORMAT=<20 digits>:5 then a coordinate without a point: str.ljust(huge) -> OverflowError
+    "excellon-file-format-huge": ("excellon", "OverflowError", re.compile(rb"FILE_FORMAT=\d{19,}")),
     "excellon-4300-digits": ("excellon", "Exceeds the limit (4300 digits)", re.compile(rb"\d{4300,}")),
     "jobfile-4300-digits": ("jobfile", "Exceeds the limit (4300 digits)", re.compile(rb"\d{4300,}")),
     "config-4300-digits": ("config", "Exceeds the limit (4300 digits)", re.compile(rb"\d{4300,}")),
@@ -362,6 +366,25 @@ def test_bug_gerber_coordinate_overflowing_float_names_its_line() -> None:
 def test_bug_gerber_arc_with_zero_float_radius_names_its_line() -> None:
     err = _gerber_error(HEAD + "X100000000000000000000000Y0D02*\nG75*\nG02X0Y0I1J0D01*\nM02*\n")
     assert err.line == 7 and not err.message.startswith(MASKED_BUG_PREFIX)
+
+
+@pytest.mark.xfail(strict=True, reason="reader bug (sensorcheck/fab/gerber_geometry.py circle_segments: "
+                   "acos(1 - tol/r) is 0 for r = 5e299 mm): %ADD10C,1e300*% flashed gives ZeroDivisionError, hidden by "
+                   "read_gerber's last-resort wrapper as an InputError WITHOUT a line (a draw with it too)")
+def test_bug_gerber_circle_aperture_of_1e300_mm_names_its_line() -> None:
+    err = _gerber_error("%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,1e300*%\nD10*\nX0Y0D03*\nM02*\n")
+    assert err.line is not None and not err.message.startswith(MASKED_BUG_PREFIX)
+
+
+@pytest.mark.xfail(strict=True, raises=OverflowError, reason="reader bug (sensorcheck/fab/excellon.py line 134: "
+                   "digits.ljust(ints + decs) with the integer digits of ';FILE_FORMAT=99999999999999999999:5'): "
+                   "OverflowError 'Python int too large to convert to C ssize_t'; a format of 10**9 digits would "
+                   "instead try to build a 1 GB string")
+def test_bug_excellon_absurd_file_format_is_an_input_error() -> None:
+    text = "M48\n;FILE_FORMAT=99999999999999999999:5\nINCH,LZ\nT1C0.8\n%\nT1\nX1000Y1000\nM30\n"
+    with pytest.raises(InputError) as info:
+        read_excellon(text.encode(), "bug.drl")
+    assert info.value.line in (2, 7)
 
 
 @pytest.mark.xfail(strict=True, raises=ValueError, reason="reader bug (sensorcheck/fab/excellon.py lines 141, 136, "
