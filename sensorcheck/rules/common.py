@@ -187,18 +187,19 @@ def source_near(features: Sequence[Feature], geom: BaseGeometry) -> Any:
     """The source (file, line) of the feature nearest to ``geom`` (None if there are none).
 
     The first of the nearest in the given order, as ``min`` would pick; exact distances are only
-    computed for features whose bounding box is no farther than the best distance found so far
-    (the box distance is a lower bound), nearest box first.
+    computed for features whose bounding box is no farther from the box of some part of ``geom``
+    than the best distance found so far (that box distance is a lower bound), nearest box first.
     """
     if not features or geom is None or geom.is_empty:
         return None
     if len(features) == 1:
         return features[0].source
-    gb = np.asarray(geom.bounds, dtype=float)
-    fb = shapely.bounds(np.array([f.geometry for f in features], dtype=object))
-    dx = np.maximum(0.0, np.maximum(fb[:, 0] - gb[2], gb[0] - fb[:, 2]))
-    dy = np.maximum(0.0, np.maximum(fb[:, 1] - gb[3], gb[1] - fb[:, 3]))
-    lower = np.hypot(dx, dy)
+    # box of every feature against the box of every part of ``geom`` (a slider's segments apart)
+    gb = shapely.bounds(shapely.get_parts(geom)).reshape(1, -1, 4)
+    fb = shapely.bounds(np.array([f.geometry for f in features], dtype=object)).reshape(-1, 1, 4)
+    dx = np.maximum(0.0, np.maximum(fb[..., 0] - gb[..., 2], gb[..., 0] - fb[..., 2]))
+    dy = np.maximum(0.0, np.maximum(fb[..., 1] - gb[..., 3], gb[..., 1] - fb[..., 3]))
+    lower = np.hypot(dx, dy).min(axis=1)
     dist = np.full(len(features), np.inf)
     best = np.inf
     for i in np.flatnonzero(np.isnan(lower)):  # empty geometries: whatever distance says, as before
