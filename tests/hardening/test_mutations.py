@@ -294,6 +294,10 @@ KNOWN_BUGS: dict[str, tuple[Reader, str, re.Pattern[bytes]]] = {
     "gerber-huge-circle-aperture": ("gerber", "ZeroDivisionError", re.compile(rb"\de[23]\d\d")),
     # ;FILE_FORMAT=<20 digits>:5 then a coordinate without a point: str.ljust(huge) -> OverflowError
     "excellon-file-format-huge": ("excellon", "OverflowError", re.compile(rb"FILE_FORMAT=\d{19,}")),
+    # ;FILE_FORMAT=4294967297:5: ljust builds a 4 GB string (MemoryError under the worker's bound)
+    "excellon-file-format-memory": ("excellon", "MemoryError", re.compile(rb"FILE_FORMAT=\d{7,}")),
+    # a coordinate of 309..4300 digits without a decimal point: int(digits) / 10**decs overflows a float
+    "excellon-coordinate-overflow": ("excellon", "int too large to convert to float", re.compile(rb"\d{300,}")),
     "excellon-4300-digits": ("excellon", "Exceeds the limit (4300 digits)", re.compile(rb"\d{4300,}")),
     "jobfile-4300-digits": ("jobfile", "Exceeds the limit (4300 digits)", re.compile(rb"\d{4300,}")),
     "config-4300-digits": ("config", "Exceeds the limit (4300 digits)", re.compile(rb"\d{4300,}")),
@@ -378,13 +382,24 @@ def test_bug_gerber_circle_aperture_of_1e300_mm_names_its_line() -> None:
 
 @pytest.mark.xfail(strict=True, raises=OverflowError, reason="reader bug (sensorcheck/fab/excellon.py line 134: "
                    "digits.ljust(ints + decs) with the integer digits of ';FILE_FORMAT=99999999999999999999:5'): "
-                   "OverflowError 'Python int too large to convert to C ssize_t'; a format of 10**9 digits would "
-                   "instead try to build a 1 GB string")
+                   "OverflowError 'Python int too large to convert to C ssize_t'; with ';FILE_FORMAT=4294967297:5' "
+                   "(a 60-byte file) it builds a 4 GB string first (MemoryError in the fuzz worker, 4 GB resident "
+                   "without a memory bound)")
 def test_bug_excellon_absurd_file_format_is_an_input_error() -> None:
     text = "M48\n;FILE_FORMAT=99999999999999999999:5\nINCH,LZ\nT1C0.8\n%\nT1\nX1000Y1000\nM30\n"
     with pytest.raises(InputError) as info:
         read_excellon(text.encode(), "bug.drl")
     assert info.value.line in (2, 7)
+
+
+@pytest.mark.xfail(strict=True, raises=OverflowError, reason="reader bug (sensorcheck/fab/excellon.py line 136: "
+                   "sign * int(digits) / 10**decs): a coordinate of 401 digits without a decimal point raises "
+                   "OverflowError 'int too large to convert to float' (with a point it is read as inf, silently)")
+def test_bug_excellon_coordinate_of_401_digits_is_an_input_error() -> None:
+    text = "M48\nMETRIC\nT1C0.8\n%\nT1\nX1Y8" + "0" * 400 + "\nM30\n"
+    with pytest.raises(InputError) as info:
+        read_excellon(text.encode(), "bug.drl")
+    assert info.value.line == 6
 
 
 @pytest.mark.xfail(strict=True, raises=ValueError, reason="reader bug (sensorcheck/fab/excellon.py lines 141, 136, "
