@@ -290,8 +290,11 @@ KNOWN_BUGS: dict[str, tuple[Reader, str, re.Pattern[bytes]]] = {
     # %LS1000000*% scales a 0.1 mm pen to 100 m: every draw becomes an 8192-vertex stadium
     # overlapping all others and the union goes super-linear (reproducer in test_bombs.py)
     "gerber-huge-aperture-overlap": ("gerber", "hang", re.compile(rb"%LS1000000\*%")),
-    # a circle aperture of diameter 1e300 mm: the segment count divides by zero (acos(1 - tol/r) = 0)
-    "gerber-huge-circle-aperture": ("gerber", "ZeroDivisionError", re.compile(rb"\de[23]\d\d")),
+    # aperture parameters nan / inf / 1e300 are accepted by %AD; the geometry fails later (a circle of
+    # 1e300 mm: acos(1 - tol/r) = 0, division by zero; nan: "cannot convert float NaN to integer";
+    # a polygon rotated by nan: GEOSException), hidden by the last-resort wrapper without a line
+    "gerber-absurd-aperture-parameter": ("gerber", MASKED_BUG_PREFIX,
+                                         re.compile(rb"%ADD\d+[^*]*(?:nan|inf|\de[23]\d\d)", re.IGNORECASE)),
     # ;FILE_FORMAT=<20 digits>:5 then a coordinate without a point: str.ljust(huge) -> OverflowError
     "excellon-file-format-huge": ("excellon", "OverflowError", re.compile(rb"FILE_FORMAT=\d{19,}")),
     # ;FILE_FORMAT=4294967297:5: ljust builds a 4 GB string (MemoryError under the worker's bound)
@@ -372,11 +375,13 @@ def test_bug_gerber_arc_with_zero_float_radius_names_its_line() -> None:
     assert err.line == 7 and not err.message.startswith(MASKED_BUG_PREFIX)
 
 
-@pytest.mark.xfail(strict=True, reason="reader bug (sensorcheck/fab/gerber_geometry.py circle_segments: "
-                   "acos(1 - tol/r) is 0 for r = 5e299 mm): %ADD10C,1e300*% flashed gives ZeroDivisionError, hidden by "
-                   "read_gerber's last-resort wrapper as an InputError WITHOUT a line (a draw with it too)")
-def test_bug_gerber_circle_aperture_of_1e300_mm_names_its_line() -> None:
-    err = _gerber_error("%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,1e300*%\nD10*\nX0Y0D03*\nM02*\n")
+@pytest.mark.xfail(strict=True, reason="reader bug (sensorcheck/fab/gerber_parser.py accepts any float at %AD; "
+                   "sensorcheck/fab/gerber_geometry.py then fails): C,1e300 -> ZeroDivisionError in circle_segments "
+                   "(acos(1 - tol/r) = 0); C,nan -> ValueError 'cannot convert float NaN to integer'; P,...Xnan -> "
+                   "GEOSException; each hidden by read_gerber's last-resort wrapper as an InputError WITHOUT a line")
+@pytest.mark.parametrize("aperture", ["C,1e300", "C,nan", "P,0.560X11Xnan"])
+def test_bug_gerber_absurd_aperture_parameter_names_its_line(aperture: str) -> None:
+    err = _gerber_error(f"%FSLAX46Y46*%\n%MOMM*%\n%ADD10{aperture}*%\nD10*\nX0Y0D03*\nM02*\n")
     assert err.line is not None and not err.message.startswith(MASKED_BUG_PREFIX)
 
 
