@@ -630,6 +630,8 @@ def _read_toml(ctx: _Ctx, path: Path) -> dict[str, Any]:
         raise ctx.err(key, f"TOML syntax error: {msg}{col}") from None
     except RecursionError:
         raise ctx.err(None, "TOML nesting too deep") from None
+    except ValueError as exc:  # tomllib lets int() refuse integers of more than 4300 digits
+        raise ctx.err(None, f"TOML value cannot be read: {exc}") from None
 
 
 def _load_profile(

@@ -73,6 +73,10 @@ _NUM = r"[+-]?(?:\d+\.?\d*|\.\d+)"
 _COORD_RE = re.compile(rf"^(?:X({_NUM}))?(?:Y({_NUM}))?$")
 _TOOL_DEF_RE = re.compile(r"^T(\d+)((?:[A-Z][+-]?[\d.]+)+)$")
 _TOOL_SEL_RE = re.compile(r"^T(\d+)$")
+#: longest number token read (a coordinate in any Excellon dialect has far fewer characters)
+_MAX_NUMBER_CHARS = 24
+#: largest coordinate accepted, in mm (10 m: no board is larger; anything beyond is a broken file)
+_MAX_COORD_MM = 10_000.0
 _FILE_FORMAT_RE = re.compile(r"FILE_FORMAT\s*=\s*(\d+)\s*:\s*(\d+)", re.I)
 _APERFUNCTION_RE = re.compile(r"#@!\s*TA\.AperFunction\s*,\s*([^,\s]+)\s*(?:,\s*([^,\s]+))?(?:\s*,\s*([^,\s]+))?", re.I)
 _UNITS_RE = re.compile(r"^(INCH|METRIC)(?:,(LZ|TZ))?(?:,(0+)\.(0+))?(?:,(LZ|TZ))?$")
@@ -115,6 +119,9 @@ def read_excellon(
     holes: list[Hole] = []
 
     def number(raw: str, line: int, axis: str) -> float:
+        if len(raw) > _MAX_NUMBER_CHARS:
+            raise InputError(name, line, f"a number of {len(raw)} characters for {axis}",
+                             f"at most {_MAX_NUMBER_CHARS} characters")
         if "." in raw:
             try:
                 value = float(raw)
@@ -134,10 +141,16 @@ def read_excellon(
                 value = sign * int(digits.ljust(ints + decs, "0")) / 10**decs
             else:
                 value = sign * int(digits) / 10**decs
-        return value * (MM_PER_INCH if st.inch else 1.0)
+        value *= MM_PER_INCH if st.inch else 1.0
+        if not math.isfinite(value) or abs(value) > _MAX_COORD_MM:
+            raise InputError(name, line, f"{axis} {raw!r} is {value:g} mm, far outside any board",
+                             f"a coordinate within {_MAX_COORD_MM:g} mm")
+        return value
 
     def define_tool(m: re.Match[str], line: int) -> None:
         nonlocal pending_ta
+        if len(m.group(1)) > 6:
+            raise InputError(name, line, f"tool number of {len(m.group(1))} digits", "a tool number of at most 6 digits")
         num = int(m.group(1))
         params = dict(re.findall(r"([A-Z])([+-]?[\d.]+)", m.group(2)))
         if "C" not in params:
@@ -200,7 +213,10 @@ def read_excellon(
                 pending_plated = False
             m = _FILE_FORMAT_RE.search(body)
             if m:
-                st.int_digits, st.dec_digits = int(m.group(1)), int(m.group(2))
+                ints, decs = m.group(1), m.group(2)
+                if len(ints) > 2 or len(decs) > 2 or not (0 < int(ints) <= 9 and 0 < int(decs) <= 9):
+                    raise InputError(name, idx, f"number format {ints}:{decs}", "digits per part between 1 and 9")
+                st.int_digits, st.dec_digits = int(ints), int(decs)
             m = _APERFUNCTION_RE.search(body)
             if m:
                 kind = m.group(1).lower()
@@ -320,11 +336,14 @@ def read_excellon(
             continue
         m = re.match(rf"^R(\d+)(?:X({_NUM}))?(?:Y({_NUM}))?$", ln)
         if m:
+            if len(m.group(1)) > 9:
+                raise LimitError(name, idx, f"repeat count of {len(m.group(1))} digits", "fewer holes (limits.max_holes)")
             count = int(m.group(1))
             dx = number(m.group(2), idx, "X") if m.group(2) else 0.0
             dy = number(m.group(3), idx, "Y") if m.group(3) else 0.0
-            if count > limits.max_holes:
-                raise LimitError(name, idx, f"repeat of {count} holes", "fewer holes (limits.max_holes)")
+            if len(holes) + count > limits.max_holes:
+                raise LimitError(name, idx, f"repeat of {count} holes after {len(holes)}",
+                                 f"at most {limits.max_holes} holes in all (limits.max_holes)")
             for _ in range(count):
                 st.x += dx
                 st.y += dy

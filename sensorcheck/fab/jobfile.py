@@ -61,6 +61,8 @@ def read_jobfile(data: bytes, name: str) -> JobFile:
         raise InputError(name, exc.lineno, f"not valid JSON: {exc.msg}", "a Gerber job file (JSON)") from None
     except RecursionError:
         raise InputError(name, None, "JSON nested too deeply", "a Gerber job file (JSON)") from None
+    except ValueError as exc:  # json lets int() refuse integers of more than 4300 digits
+        raise InputError(name, None, f"a JSON value cannot be read: {exc}", "a Gerber job file (JSON)") from None
     if not isinstance(doc, dict):
         raise InputError(name, 1, "the job file is not a JSON object", "a JSON object with Header, GeneralSpecs, ...")
     job = JobFile(name=name)
