@@ -19,3 +19,14 @@ def shared_dir() -> Path:
     if not path.is_dir():
         pytest.skip("../shared (corpus and peer suites) is not present")
     return path
+
+
+# CI runs the property tests with a fixed seed, so a merge request is never failed by a new random
+# example; the long, random runs are bench/fuzz_long.py's job (and a developer's plain pytest).
+import os as _os
+
+from hypothesis import settings as _settings
+
+_settings.register_profile("ci", derandomize=True, database=None)
+if _os.environ.get("CI"):
+    _settings.load_profile("ci")
