@@ -111,6 +111,11 @@ def main(argv: list[str] | None = None) -> int:
             print(f"{kind}: time exponent {t_exp:.2f} (CPU; wall clock {t_exp_wall:.2f}), "
                   f"peak-memory exponent {m_exp:.2f} (targets <= 1.2)")
             ok &= t_exp <= 1.2 and m_exp_net <= 1.2
+            if len(fit_rows) < len(rows):  # the 50 MB point too: the growth over the whole range
+                xs_all = [r[0] for r in rows]
+                print(f"{kind}: with the 50 MB point: time exponent "
+                      f"{_fit(xs_all, [r[1]['cpu_seconds'] for r in rows]):.2f} (CPU), peak memory above "
+                      f"an empty read {_fit(xs_all, [max(r[1]['peak_mb'] - base, 1.0) for r in rows]):.2f}")
             for size_mb, m in rows:
                 if size_mb >= 45:
                     good = m["seconds"] < 600 and m["peak_mb"] < 8192
