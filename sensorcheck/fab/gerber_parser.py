@@ -138,6 +138,12 @@ def _argument(text: str) -> float | Callable[[dict[int, float]], float]:
         return _compile_expression(text)
 
 
+#: most significant digits in a coordinate: the coordinate format has at most 6 + 6 digits
+_MAX_COORD_DIGITS = 13
+#: largest aperture parameter (size in mm or inch, angle, vertex count): 10 m is no board's aperture
+_MAX_APERTURE_PARAM = 10_000.0
+
+
 @dataclass(frozen=True, slots=True)
 class MacroStatement:
     #: "primitive" (code + args) or "assign" (variable number + one expression)
@@ -469,6 +475,12 @@ class SensorcheckGerberParser(GerberParser):
         if op == "3" or op == "1":
             if self.file_settings.unit is None:
                 raise self.error("graphical object before the unit", "%MOMM*% or %MOIN*% before any object")
+        for axis, raw in zip("XYIJ", (groups[2], groups[4], groups[6], groups[8])):
+            # the format allows at most 6 integer and 6 decimal digits (spec 4.2.2): more significant
+            # digits than that are a broken file, and would overflow or lose precision later
+            if raw and len(raw.lstrip("+-").lstrip("0")) > _MAX_COORD_DIGITS:
+                raise self.error(f"{axis} coordinate of {len(raw.lstrip('+-'))} digits",
+                                 f"at most {_MAX_COORD_DIGITS} significant digits (format 6.6 at most)")
         region = self.current_region
         super()._parse_coord(match)
         if self.current_region is not region and self.current_region is not None:
@@ -562,6 +574,10 @@ class SensorcheckGerberParser(GerberParser):
             raise self.error("aperture defined before the unit", "%MOMM*% or %MOIN*% before any aperture")
         params = tuple(float(v) for v in match["modifiers"].strip(" ,").split("X")) if match["modifiers"] else ()
         number = int(match["number"])
+        for p in params:
+            if not math.isfinite(p) or abs(p) > _MAX_APERTURE_PARAM:
+                raise self.error(f"aperture D{number} has the parameter {p:g}",
+                                 f"finite parameters of at most {_MAX_APERTURE_PARAM:g} (no aperture is larger than a board)")
         if shape in ("C", "R", "O", "P"):
             counts = {"C": (1, 3), "R": (2, 4), "O": (2, 4), "P": (2, 5)}[shape]
             if not counts[0] <= len(params) <= counts[1]:

@@ -292,8 +292,15 @@ def test_malformed_macros_are_refused(macro: str, what: str) -> None:
 
 
 def test_huge_circle_stays_bounded() -> None:
-    got = read_gerber(gbr("%ADD10C,100000*%\nD10*\nX0Y0D03*\n"), "big.gbr")
+    # a 9 m circle at a 0.01 um chord tolerance would need ~47 000 segments: capped at 8192
+    got = read_gerber(gbr("%ADD10C,9000*%\nD10*\nX0Y0D03*\n"), "big.gbr", arc_tolerance_mm=1e-5)
     assert len(got.features[0].geometry.exterior.coords) <= 8192 + 1
+
+
+def test_aperture_larger_than_any_board_is_refused_with_its_line() -> None:
+    with pytest.raises(InputError) as info:
+        read_gerber(gbr("%ADD10C,100000*%\nD10*\nX0Y0D03*\n"), "big.gbr")
+    assert info.value.line is not None and "D10" in info.value.message
 
 
 def test_degenerate_region_leaves_no_lines_in_the_image() -> None:
