@@ -142,6 +142,9 @@ def _argument(text: str) -> float | Callable[[dict[int, float]], float]:
 _MAX_COORD_DIGITS = 13
 #: largest aperture parameter (size in mm or inch, angle, vertex count): 10 m is no board's aperture
 _MAX_APERTURE_PARAM = 10_000.0
+#: largest LS aperture scale factor accepted (spec 4.9.5 allows any positive factor; a factor over
+#: 1000 turns a 0.1 mm pen into one wider than 10 cm: a broken or hostile file, never a board)
+_MAX_APERTURE_SCALE = 1000.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -561,8 +564,10 @@ class SensorcheckGerberParser(GerberParser):
     def _parse_aperture_scaling(self, match: re.Match[str]) -> None:
         mx, my, rot, _ = self.sc_xform
         scale = float(match["scale"])
-        if scale <= 0:
-            raise self.error(f"aperture scale LS{match['scale']}", "a scale factor > 0")
+        if not 0 < scale <= _MAX_APERTURE_SCALE:
+            raise self.error(f"aperture scale LS{match['scale']}",
+                             f"a scale factor > 0 and at most {_MAX_APERTURE_SCALE:g} (larger ones make apertures "
+                             "bigger than any board)")
         self.sc_xform = (mx, my, rot, scale)
 
     def _parse_aperture_macro(self, match: re.Match[str]) -> None:

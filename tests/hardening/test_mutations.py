@@ -274,21 +274,8 @@ def worker() -> Iterator[Worker]:
 #: (when the owner fixes one, its reproducer XPASSes and fails: then delete the entry here).
 #: The properties tolerate a known bug's signature so that they keep looking for new ones.
 KNOWN_BUGS: dict[str, tuple[Reader, str, re.Pattern[bytes]]] = {
-    # a coordinate too long for a float (more than ~308 digits) becomes inf; a flash or a draw
-    # there makes GEOS fail and read_gerber's last-resort wrapper hides the line
-    # (GEOSException "Points of LinearRing do not form a closed linestring", or, with inf - inf,
-    # ValueError "cannot convert float NaN to integer")
-    # an arc whose start lies so far out (>~1e16 mm) that start + I == start in floating point:
-    # start radius 0, and a division by it escapes as ZeroDivisionError (hidden, without a line)
-    # %LS1000000*% scales a 0.1 mm pen to 100 m: every draw becomes an 8192-vertex stadium
-    # overlapping all others and the union goes super-linear (reproducer in test_bombs.py)
-    "gerber-huge-aperture-overlap": ("gerber", "hang", re.compile(rb"%LS1000000\*%")),
-    # aperture parameters nan / inf / 1e300 are accepted by %AD; the geometry fails later (a circle of
-    # 1e300 mm: acos(1 - tol/r) = 0, division by zero; nan: "cannot convert float NaN to integer";
-    # a polygon rotated by nan: GEOSException), hidden by the last-resort wrapper without a line
-    # ;FILE_FORMAT=<20 digits>:5 then a coordinate without a point: str.ljust(huge) -> OverflowError
-    # ;FILE_FORMAT=4294967297:5: ljust builds a 4 GB string (MemoryError under the worker's bound)
-    # a coordinate of 309..4300 digits without a decimal point: int(digits) / 10**decs overflows a float
+    # reader bugs found by these properties and not yet fixed: key -> (reader, text of the problem,
+    # pattern of the input). Empty: every bug found so far is fixed, its reproducer below a plain test.
 }
 
 
