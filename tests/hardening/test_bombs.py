@@ -90,11 +90,6 @@ def test_nested_block_apertures_past_the_object_limit(worker: Worker) -> None:
     assert out.error_type == "LimitError" and out.line == 206
 
 
-@pytest.mark.xfail(strict=True, reason="reader bug (sensorcheck/fab/gerber_geometry.py images_by_net -> _union, "
-                   "the STRtree query): objects stacked on one another make the union super-linear in time AND memory "
-                   "(all pairs): 1000 coincident flashes 0.3 s, 2000 1.9 s, 4000 9.3 s, 8000 (a 72 kB file) 43 s "
-                   "and 2.0 GB peak RSS (measured); this 200 kB file of 20 000, within every limit, makes the "
-                   "worker (RLIMIT_AS 2 GiB) die with SIGSEGV in shapely/GEOS after ~3 s instead of a MemoryError")
 def test_coincident_flashes_within_every_limit(worker: Worker) -> None:
     text = HEAD + "X0Y0D03*\n" * 20_000 + "M02*\n"
     out = worker.run("gerber", text.encode(), "stacked.gbr")
