@@ -15,6 +15,7 @@ from shapely.geometry.base import BaseGeometry
 from sensorcheck.board.model import Board, Feature, Hole, Layer
 from sensorcheck.design.model import Design, Electrode, Sensor
 from sensorcheck.errors import ConfigError
+from sensorcheck.rules.engine import Param
 from sensorcheck.rules.finding import Finding, Location, Severity
 
 SELF_KINDS = frozenset({"self-button", "slider", "wheel", "proximity"})
@@ -292,6 +293,10 @@ def hole_net(design: Design, hole: Hole) -> str | None:
             if geom.intersects(p):
                 return net
     return None
+
+
+#: the parameter every rule that tells vias from other holes shares (one default, one source class)
+VIA_DIAMETER_PARAM = Param(0.6, "mm", "derived", "plated holes up to this size count as vias when the drill file does not say")
 
 
 def is_via(hole: Hole, max_via_diameter_mm: float) -> bool:

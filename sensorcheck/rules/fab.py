@@ -10,6 +10,7 @@ import shapely
 
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
+    VIA_DIAMETER_PARAM,
     bbox_overlap,
     finding,
     fmt,
@@ -269,7 +270,7 @@ class HoleNearSensor(Rule):
     needs = ("sensors",)
     params = {
         "min_distance_mm": Param(5.0, "mm", "common practice", "closest accepted hole edge"),
-        "max_via_diameter_mm": Param(0.6, "mm", "derived", "plated holes up to this size count as vias when the drill file does not say"),
+        "max_via_diameter_mm": VIA_DIAMETER_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:

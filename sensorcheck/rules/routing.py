@@ -15,6 +15,7 @@ from shapely.geometry.base import BaseGeometry
 from sensorcheck.board.model import Board, Feature
 from sensorcheck.design.model import Design, Electrode, Sensor
 from sensorcheck.rules.common import (
+    VIA_DIAMETER_PARAM,
     REFERENCE_ROLES,
     SELF_KINDS,
     aggressor_kind,
@@ -149,7 +150,7 @@ class ForeignViaInZone(Rule):
     default_severity = "error"
     needs = ("sensors",)
     params = {
-        "max_via_diameter_mm": Param(0.6, "mm", "derived", "plated holes up to this size count as vias when the drill file does not say"),
+        "max_via_diameter_mm": VIA_DIAMETER_PARAM,
         "clearance_mm": Param(0.5, "mm", "common practice", "ground/shield vias must stay this far out of the electrode"),
     }
 

@@ -9,6 +9,7 @@ from typing import Any
 from sensorcheck.design.model import Design, Electrode
 from sensorcheck.physics.parasitics import microstrip_pf_per_mm, parallel_plate_pf, via_capacitance_pf
 from sensorcheck.rules.common import (
+    VIA_DIAMETER_PARAM,
     finding,
     fmt,
     hole_nets,
@@ -168,7 +169,7 @@ class ViaCount(Rule):
     needs = ("sensors",)
     params = {
         "max_vias": Param(2, "vias", "common practice", "most vias accepted on one sensing net"),
-        "max_via_diameter_mm": Param(0.6, "mm", "derived", "plated holes up to this size count as vias when the drill file does not say"),
+        "max_via_diameter_mm": VIA_DIAMETER_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
@@ -306,7 +307,7 @@ class ParasiticBudget(Rule):
     params = {
         "warn_fraction": Param(0.8, "1", "derived", "warn above this fraction of the controller limit"),
         "default_epsilon_r": Param(4.5, "1", "handbook", "permittivity of dielectrics the stackup leaves blank (FR-4 4.2-4.8, IPC-4101, from memory)"),
-        "max_via_diameter_mm": Param(0.6, "mm", "derived", "plated holes up to this size count as vias when the drill file does not say"),
+        "max_via_diameter_mm": VIA_DIAMETER_PARAM,
         "via_pad_extra_mm": Param(0.3, "mm", "common practice", "via pad diameter = drill + this"),
         "via_antipad_clearance_mm": Param(0.25, "mm", "common practice", "plane clearance around a via pad"),
     }
