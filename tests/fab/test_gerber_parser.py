@@ -19,8 +19,9 @@ from gerbonara.apertures import RectangleAperture
 from gerbonara.rs274x import GerberFile
 from gerbonara.utils import MM
 
-from sensorcheck.errors import InputError
+from sensorcheck.errors import InputError, LimitError
 from sensorcheck.fab.gerber import read_gerber
+from sensorcheck.limits import Limits
 
 HEAD = "%FSLAX46Y46*%\n%MOMM*%\n"
 
@@ -176,6 +177,104 @@ def test_block_apertures_are_placed_at_each_flash() -> None:
 def test_gerbonara_alone_still_fails_on_block_apertures() -> None:
     with pytest.raises(SyntaxError):
         plain(gbr(BLOCK))
+
+
+def nested_blocks(top_flashes: int = 1, levels: int = 3, fan: int = 4) -> tuple[str, list[int]]:
+    """``levels`` nested blocks, each flashing the one below ``fan`` times, then the outer block
+    flashed ``top_flashes`` times, at (100 + 100 t, 5) mm for t = 0, 1, ...
+
+    Level k (k = 0, 1, ...) places its flashes at x = j * fan**k mm (j = 0 .. fan - 1), so the
+    leaves of one outer flash land on the integers 0 .. fan**levels - 1 (plus the flash point),
+    each once. Returns the text and the 1-based line of every flash, in file order.
+    """
+    lines = ["%FSLAX46Y46*%", "%MOMM*%", "%ADD10C,0.5*%"]
+    flash_lines: list[int] = []
+    for k in range(levels):
+        lines += [f"%ABD{20 + k}*%", "D10*" if k == 0 else f"D{19 + k}*"]
+        for j in range(fan):
+            lines.append(f"X{mm(j * fan**k)}Y0D03*")
+            flash_lines.append(len(lines))
+        lines.append("%AB*%")
+    lines.append(f"D{19 + levels}*")
+    for t in range(top_flashes):
+        lines.append(f"X{mm(100 + 100 * t)}Y{mm(5)}D03*")
+        flash_lines.append(len(lines))
+    lines.append("M02*")
+    return "\n".join(lines) + "\n", flash_lines
+
+
+@pytest.mark.parametrize("top_flashes", [1, 2])
+def test_nested_blocks_just_under_the_object_limit_are_placed(top_flashes: int) -> None:
+    # spec section 4.11.2 (AB): a block may flash blocks defined before it; each flash places the
+    # flashed block's objects at the flash point. Worked out by hand: 3 levels of 4 flashes place
+    # 4 x 4 x 4 = 64 flashes of D10 per outer flash, at x = X + a + 4 b + 16 c mm for a, b, c in
+    # 0..3, i.e. X .. X + 63 mm, all at y = 5 mm. A limit of exactly 64 objects per outer flash
+    # lets them through.
+    text, _ = nested_blocks(top_flashes)
+    limits = Limits(max_gerber_objects=64 * top_flashes)
+    got = read_gerber(text.encode(), "t.gbr", arc_tolerance_mm=1e-3, limits=limits)
+    assert got.object_count == 64 * top_flashes
+    centres = sorted((round(f.geometry.centroid.x, 3), round(f.geometry.centroid.y, 3)) for f in got.features)
+    assert centres == [(100.0 + 100 * t + k, 5.0) for t in range(top_flashes) for k in range(64)]
+
+
+@pytest.mark.parametrize(("top_flashes", "limit", "flash"), [
+    # 2 x 64 objects against 127: the second flash outside the blocks (the last flash line)
+    (2, 127, -1),
+    # the objects of the block being defined count too (as they always have): against 63, the
+    # fourth flash of D21 (16 objects each) inside D22 makes 64. Flashes are listed level by
+    # level, 4 per level, so that is flash 4 + 4 + 4 (index 11); against 40, the third (index 10)
+    (1, 63, 11),
+    (1, 40, 10),
+])
+def test_nested_blocks_past_the_object_limit_are_refused_at_the_flash(top_flashes: int, limit: int,
+                                                                        flash: int) -> None:
+    text, flash_lines = nested_blocks(top_flashes)
+    with pytest.raises(LimitError) as info:
+        read_gerber(text.encode(), "t.gbr", limits=Limits(max_gerber_objects=limit))
+    assert info.value.file == "t.gbr"
+    assert info.value.line == flash_lines[flash]
+    assert info.value.message == f"more than {limit} graphical objects"
+    assert "max_gerber_objects" in (info.value.expected or "")
+
+
+def test_regions_in_a_block_flashed_twice_are_two_regions() -> None:
+    # spec section 4.11.2 (AB): each flash places its own copy of the block. A 1 mm square region
+    # flashed at x = 10 and x = 20 mm: two squares with their lower-left corners there (a copy that
+    # shared its outline with the block, or with the other copy, would be moved twice).
+    square = "G36*\nX0Y0D02*\nX1000000Y0D01*\nX1000000Y1000000D01*\nX0Y1000000D01*\nX0Y0D01*\nG37*\n"
+    body = f"%ABD20*%\n{square}%AB*%\nD20*\nX{mm(10)}Y0D03*\nX{mm(20)}Y0D03*\n"
+    got = read(gbr(body))
+    assert sorted(tuple(round(v, 6) for v in f.geometry.bounds) for f in got.features) == [
+        (10.0, 0.0, 11.0, 1.0), (20.0, 0.0, 21.0, 1.0)]
+
+
+def test_nested_clear_flashes_toggle_polarity_at_each_level() -> None:
+    # spec section 4.11.2 (AB, from memory): a block flashed with clear polarity (LPC) has the
+    # polarity of each of its objects toggled. Flashed clear inside a block that is itself flashed
+    # clear, a dark object toggles twice: dark again. One more clear level above the dark top
+    # flash of D21 makes it clear.
+    body = ("%ADD10C,1*%\n%ABD20*%\nD10*\nX0Y0D03*\n%AB*%\n"
+            "%ABD21*%\n%LPC*%\nD20*\nX0Y0D03*\n%LPD*%\n%AB*%\n"
+            "%ABD22*%\n%LPC*%\nD21*\nX0Y0D03*\n%LPD*%\n%AB*%\n"
+            f"D21*\nX{mm(10)}Y0D03*\nD22*\nX{mm(20)}Y0D03*\n")
+    got = read(gbr(body))
+    assert [(f.polarity, round(f.geometry.centroid.x, 3)) for f in got.features] == [("clear", 10.0), ("dark", 20.0)]
+
+
+def test_step_and_repeat_inside_a_block_counts_the_blocks_it_flashes() -> None:
+    # spec section 4.11 (from memory): SR and AB may be nested. D21 repeats a flash of D20 (2 flashes)
+    # 3 times along x: 6 objects, at x = {0, 0.5} + {0, 5, 10} mm, placed at (0, 0). A limit of 5
+    # refuses it at the SR line (the step-and-repeat check, before any copy is made).
+    body = ("%ADD10C,0.2*%\n%ABD20*%\nD10*\nX0Y0D03*\nX500000Y0D03*\n%AB*%\n"
+            "%ABD21*%\n%SRX3Y1I5J0*%\nD20*\nX0Y0D03*\n%SR*%\n%AB*%\nD21*\nX0Y0D03*\n")
+    got = read_gerber(gbr(body).encode(), "t.gbr", limits=Limits(max_gerber_objects=6))
+    assert got.object_count == 6
+    assert sorted(round(f.geometry.centroid.x, 3) for f in got.features) == [0.0, 0.5, 5.0, 5.5, 10.0, 10.5]
+    with pytest.raises(LimitError) as info:
+        read_gerber(gbr(body).encode(), "t.gbr", limits=Limits(max_gerber_objects=5))
+    assert info.value.line == 2 + 8  # the %SRX3Y1I5J0*% line
+    assert "step-and-repeat expands to 6 objects" in info.value.message
 
 
 # --------------------------------------------------------------------------- rectangle sweeps
