@@ -409,8 +409,10 @@ def node_electrodes(board: Board, node_tx: Sequence[tuple[str, str]], node_rx: S
         geom = _area_only(la.by_net[net].intersection(footprint))
         if geom.is_empty:
             continue
+        # the rest of the net is its copper outside the footprint: the same set as its copper
+        # minus the electrode, at the cost of a difference with a simple outline
         out.append(Electrode(net=net, role=role, layer=layer_name, geometry=geom,  # type: ignore[arg-type]
-                             trace=_net_copper(board, net, layer_name, geom)))
+                             trace=_net_copper(board, net, layer_name, footprint)))
     return out
 
 

@@ -219,14 +219,17 @@ class FillNearSensor(Rule):
                     continue
                 sev = "warning" if self_kind else "note"
                 windows = windows or _sub_windows(own, params["ring_mm"], ring)
+                dense = ring.intersection(other)
                 yield finding(
                     sev,
                     f"copper fill {fmt(pct, 1)} % within {fmt(params['ring_mm'], 1)} mm of the electrodes on {lay.name} "
                     f"is above {fmt(limit, 1)} % ({_hatch_text(m)}; {_sub_rings(windows, other)}; "
                     "common practice)",
-                    value=pct, limit=limit, unit="%", layer=lay.name, geom=ring.intersection(other),
+                    value=pct, limit=limit, unit="%", layer=lay.name, geom=dense,
                     nets=(), sensor=s.name,
-                    source=source_near(_features_meeting(lay.features, skip, ring), own),
+                    # the feature that drew the copper at the finding's own point (a hatch drawn as
+                    # lines has thousands; the nearest to the whole electrode cost a distance each)
+                    source=source_near(_features_meeting(lay.features, skip, ring), dense.representative_point()),
                 )
 
 
