@@ -146,6 +146,167 @@ def mesh_polygon(geom: BaseGeometry, spec: MeshSpec, h_max_at: Callable[[np.ndar
     return panels
 
 
+#: :func:`estimate_panels` over the real panel count stays within these factors (low, high): checked
+#: on a disk, a square, a ring and an interdigitated comb (tests/physics/test_mesh.py) and on the demo
+#: boards (tests/physics/test_sensors.py); on every sensor of the eight corpus boards, all four mesh
+#: coarsenings of sensors.build_model (388 meshes, up to 30 000 panels), it ranged 0.76 to 1.63
+ESTIMATE_FACTORS = (0.6, 2.0)
+#: panel-size samples per polygon in :func:`estimate_panels` (bounds its cost whatever the area)
+ESTIMATE_SAMPLES = 4000
+#: panels per band width of edge length for the three rows of edge panels together: each row's
+#: pieces meet one or two grid cells per band width along an axis-parallel edge, more along a
+#: slanted one (the rows are 0.08, 0.22 and 0.7 band widths thick)
+BAND_PANELS_PER_WIDTH = 5.0
+#: panels per leaf size of boundary length for the quadtree cells the boundary cuts (the area
+#: term counts such a cell by its covered fraction, the mesher as at least one panel)
+CUT_PANELS_PER_SIZE = 0.7
+#: a cut piece with more than 8 corners is split into (corners - 2) triangles: with ``v`` outline
+#: vertices in a cell (about the cell size over the vertex spacing) a piece has about v + 4 corners;
+#: counted as CUT_PANELS_PER_SIZE + VERTEX_PANELS * max(0, v - VERTEX_FREE) panels per cell (a
+#: smooth stand-in for the step at 8 corners, since the vertices per cell vary from cell to cell)
+VERTEX_FREE = 2.5
+VERTEX_PANELS = 1.5
+#: the same for the first row of edge panels, whose pieces have the outline's vertices on both
+#: sides (about 2 v + 4 corners): BAND_VERTEX_PANELS * max(0, v - BAND_VERTEX_FREE) more per band width
+BAND_VERTEX_FREE = 1.5
+BAND_VERTEX_PANELS = 2.4
+
+_SizeFn = Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]
+
+
+def _leaf_sizes(d: np.ndarray, local_min: np.ndarray, local_max: np.ndarray, spec: MeshSpec, s0: float) -> np.ndarray:
+    """Size of the quadtree leaf the mesher settles at, for cells at distance ``d`` from the boundary.
+
+    The split rule of :func:`mesh_polygon`, applied to one point per cell (its own distance
+    standing in for the cell centre's).
+    """
+    s = np.full(d.shape, s0)
+    for _ in range(60):
+        target = np.minimum(np.minimum(spec.h_max, local_max), local_min + spec.grading * np.maximum(d - 0.7072 * s, 0.0))
+        target = np.maximum(target, local_min)
+        split = (s > target * 1.0001) & (s > local_min * 1.5)
+        if not np.any(split):
+            break
+        s = np.where(split, s / 2.0, s)
+    return s
+
+
+def _local_sizes(x: np.ndarray, y: np.ndarray, spec: MeshSpec, h_max_at: _SizeFn | None) -> tuple[np.ndarray, np.ndarray]:
+    if h_max_at is None:
+        return np.full(x.shape, spec.h_min), np.full(x.shape, spec.h_max)
+    lo, hi = h_max_at(x, y)
+    return np.maximum(np.asarray(lo, dtype=float) + np.zeros(x.shape), spec.h_min), np.asarray(hi, dtype=float) + np.zeros(x.shape)
+
+
+def _boundary_samples(geom: BaseGeometry, ds: float, inward: float = 0.0) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Points along the outline, each standing for a piece of it: (x, y, piece length, length of
+    the outline segment the piece lies on). Segments longer than ``ds`` are cut into pieces; the
+    points lie ``inward`` from the outline, on the polygon's side."""
+    rings = shapely.get_parts(shapely.get_parts(shapely.orient_polygons(geom).boundary))
+    xy, ring = shapely.get_coordinates(rings, return_index=True)
+    if len(xy) < 2:
+        return np.empty(0), np.empty(0), np.empty(0), np.empty(0)
+    a, b = xy[:-1], xy[1:]
+    same = ring[:-1] == ring[1:]
+    a, b = a[same], b[same]
+    seg = np.hypot(b[:, 0] - a[:, 0], b[:, 1] - a[:, 1])
+    keep = seg > 0
+    a, b, seg = a[keep], b[keep], seg[keep]
+    n = np.maximum(1, np.ceil(seg / ds)).astype(int)
+    if n.sum() > 8 * ESTIMATE_SAMPLES:  # an outline of very many long segments: coarser pieces
+        n = np.maximum(1, np.ceil(seg / (ds * n.sum() / (8 * ESTIMATE_SAMPLES)))).astype(int)
+    k = np.repeat(np.arange(len(seg)), n)
+    first = np.repeat(np.cumsum(n) - n, n)
+    t = (np.arange(len(k)) - first + 0.5) / n[k]
+    dx, dy = b[k, 0] - a[k, 0], b[k, 1] - a[k, 1]
+    # exteriors run counter-clockwise and holes clockwise: the polygon lies to the left
+    x = a[k, 0] + t * dx - inward * dy / seg[k]
+    y = a[k, 1] + t * dy + inward * dx / seg[k]
+    return x, y, seg[k] / n[k], seg[k]
+
+
+def _cut_cells(length: np.ndarray, parent: np.ndarray, size: np.ndarray) -> float:
+    """Panels of the cells (of ``size``) along outline pieces: one or more per cell (VERTEX_* above)."""
+    v = size / parent
+    return float(np.sum(length / size * (CUT_PANELS_PER_SIZE + VERTEX_PANELS * np.maximum(v - VERTEX_FREE, 0.0))))
+
+
+def _quadtree_estimate(region: BaseGeometry, spec: MeshSpec, h_max_at: _SizeFn | None) -> float:
+    """Panels of :func:`mesh_polygon` over ``region``: the integral of 1 / leaf size^2 over its area
+    (a grid of about ``ESTIMATE_SAMPLES`` points, or finer than a third of ``h_min``) plus the cells
+    its outline cuts."""
+    if region.is_empty or region.area <= 0:
+        return 0.0
+    x0, y0, x1, y1 = region.bounds
+    area = region.area
+    step = max(spec.h_min / 3.0, np.sqrt(area / ESTIMATE_SAMPLES), np.sqrt(max((x1 - x0) * (y1 - y0), area) / (4 * ESTIMATE_SAMPLES)))
+    s0 = spec.h_min * 2.0 ** int(np.ceil(np.log2(max(spec.h_max / spec.h_min, 1.0))))
+    gx, gy = np.meshgrid(np.arange(x0 + step / 2, x1, step), np.arange(y0 + step / 2, y1, step))
+    px, py = gx.ravel(), gy.ravel()
+    shapely.prepare(region)
+    inside = shapely.contains_xy(region, px, py)
+    px, py = px[inside], py[inside]
+    total = 0.0
+    if px.size:
+        boundary = region.boundary
+        shapely.prepare(boundary)
+        d = shapely.distance(shapely.points(px, py), boundary)
+        lo, hi = _local_sizes(px, py, spec, h_max_at)
+        s = _leaf_sizes(d, lo, hi, spec, s0)
+        total += area / px.size * float(np.sum(1.0 / s**2))  # scaled to the exact area
+    # the mesher simplifies cut pieces by 2e-3 of a half cell: vertices closer than that do not count
+    bx, by, piece, parent = _boundary_samples(region.simplify(1e-3 * spec.h_min, preserve_topology=True), spec.h_min / 2.0)
+    if bx.size:
+        lo, hi = _local_sizes(bx, by, spec, h_max_at)
+        total += _cut_cells(piece, parent, _leaf_sizes(np.zeros(bx.shape), lo, hi, spec, s0))
+    return total
+
+
+def estimate_panels(
+    geom: BaseGeometry,
+    spec: MeshSpec,
+    h_max_at: _SizeFn | None = None,
+    band_zone: BaseGeometry | None = None,
+    banded: bool = True,
+) -> float:
+    """About how many panels :func:`mesh_polygon_banded` (or, not ``banded``, :func:`mesh_polygon`)
+    makes of ``geom``, without meshing: for checking a panel budget before the work. Its cost is
+    bounded by ``ESTIMATE_SAMPLES`` area samples and the outline's vertex count, whatever the
+    area. tests/physics/test_mesh.py states and checks its factors to the real count.
+
+    Edge rows (``banded``, within ``band_zone``): ``BAND_PANELS_PER_WIDTH`` per band width of
+    edge length, and more where the outline's vertices are denser than the cells (the first row
+    is cut like the quadtree's cells, with a band-width cell); quadtree: the area integral of
+    1 / leaf size^2, the leaf sizes by the mesher's own rule (:func:`_leaf_sizes`), plus the
+    cells the outline cuts (:func:`_cut_cells`).
+    """
+    if geom.is_empty or geom.area <= 0:
+        return 0.0
+    if not geom.is_valid:
+        raise ValueError(f"invalid polygon: {shapely.is_valid_reason(geom)}")
+    if not banded:
+        return _quadtree_estimate(geom, spec, h_max_at)
+    w = spec.h_min
+    band = shapely.difference(geom, geom.buffer(-w, quad_segs=8))
+    if band_zone is not None:
+        band = shapely.intersection(band, band_zone)
+    if band.is_empty or band.area <= 0:
+        return _quadtree_estimate(geom, spec, h_max_at)
+    # the first row's pieces are simplified by 0.03 x 0.08 of a band width (mesh_polygon_banded)
+    bx, by, piece, parent = _boundary_samples(geom.simplify(0.0024 * w, preserve_topology=True), w / 2.0, inward=w / 2.0)
+    if band_zone is not None and bx.size:
+        shapely.prepare(band_zone)
+        inside = shapely.contains_xy(band_zone, bx, by)
+        piece, parent = piece[inside], parent[inside]
+    v = w / parent
+    edge = float(np.sum(piece / w * (BAND_PANELS_PER_WIDTH + BAND_VERTEX_PANELS * np.maximum(v - BAND_VERTEX_FREE, 0.0))))
+    rest = shapely.difference(geom, band)
+    rest = shapely.union_all([p for p in shapely.get_parts(rest) if isinstance(p, Polygon) and p.area > 1e-6 * w * w] or [Polygon()])
+    if not rest.is_empty and not rest.is_valid:
+        rest = shapely.make_valid(rest)
+    return edge + _quadtree_estimate(rest, spec, h_max_at)
+
+
 def panels_from_2d(panels_2d: list[np.ndarray], origin: np.ndarray, e1: np.ndarray, e2: np.ndarray) -> np.ndarray:
     """Map 2-D panels into 3-D through a plane ``origin + u e1 + v e2``; returns (n, 8, 3)."""
     out = np.empty((len(panels_2d), 8, 3))
