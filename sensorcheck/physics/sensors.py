@@ -38,7 +38,7 @@ from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
 from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, mutual_f, self_f, turning_point, validate_finger
 from sensorcheck.physics.greens import LayeredMedium
-from sensorcheck.physics.mesh import MeshSpec, cylinder_panels, flat_panels
+from sensorcheck.physics.mesh import ESTIMATE_FACTORS, MeshSpec, cylinder_panels, estimate_panels, flat_panels
 
 MM = 1e-3
 FR4_EPS = 4.4  # handbook: FR-4 at 1 MHz, about 4.3-4.7 (e.g. IPC-4101 slash sheets list 4.2-4.8)
@@ -308,9 +308,10 @@ def _h_near_mm(opts: SolverOptions, overlay: Overlay) -> float:
     return float(np.clip(1.2 * overlay.thickness_mm, 0.8, 2.0))
 
 
-def mesh_conductors(
-    conductors: list[Conductor], stack: Stack, zone: BaseGeometry, opts: SolverOptions, overlay: Overlay, notes: list[str]
-) -> Panels:
+def _mesh_sizes(
+    zone: BaseGeometry, opts: SolverOptions, overlay: Overlay
+) -> tuple[MeshSpec, Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]]:
+    """Panel sizes (mm) of the board's copper: fine near the sensor (``zone``), coarser away from it."""
     h_near = _h_near_mm(opts, overlay) / opts.refine
     h_far = opts.h_far_mm / opts.refine
     h_edge = opts.h_edge_mm / opts.refine
@@ -320,6 +321,24 @@ def mesh_conductors(
         d = shapely.distance(shapely.points(x, y), zone)
         return np.minimum(h_far, h_edge + 0.15 * d), np.minimum(h_far, h_near + 0.3 * d)
 
+    return MeshSpec(h_edge, h_far, 0.35), h_at
+
+
+def estimate_conductor_panels(conductors: list[Conductor], stack: Stack, zone: BaseGeometry, opts: SolverOptions, overlay: Overlay) -> float:
+    """About how many panels :func:`mesh_conductors` makes (:func:`estimate_panels`), without meshing."""
+    spec, h_at = _mesh_sizes(zone, opts, overlay)
+    return sum(
+        estimate_panels(g, spec, h_max_at=h_at, band_zone=zone, banded=opts.edge_band)
+        for c in conductors
+        for layer, g in c.copper.items()
+        if layer in stack.copper_z_m
+    )
+
+
+def mesh_conductors(
+    conductors: list[Conductor], stack: Stack, zone: BaseGeometry, opts: SolverOptions, overlay: Overlay, notes: list[str]
+) -> Panels:
+    spec, h_at = _mesh_sizes(zone, opts, overlay)
     parts = []
     conds = []
     for k, c in enumerate(conductors):
@@ -327,7 +346,6 @@ def mesh_conductors(
             if layer not in stack.copper_z_m:
                 notes.append(f"copper layer {layer} is not in the stackup: left out")
                 continue
-            spec = MeshSpec(h_edge, h_far, 0.35)
             v = flat_panels(g, stack.copper_z_m[layer] / MM, spec, scale=1.0, h_max_at=h_at, band_zone=zone, banded=opts.edge_band)
             v = v * MM
             parts.append(v)
@@ -438,12 +456,21 @@ def build_model(
         ("interior", replace(opts, window_mm=opts.window_mm * 0.6, h_near_mm=h_near * 1.6, h_far_mm=opts.h_far_mm * 1.6)),
         ("edges", replace(opts, window_mm=opts.window_mm * 0.4, h_near_mm=h_near * 2.0, h_far_mm=opts.h_far_mm * 2.0, edge_band=False)),
     ]
+    # each step's panels are estimated first (mesh.estimate_panels, cheap): a step whose estimate
+    # is over ESTIMATE_FACTORS[1] x the limit is surely over the limit and is not meshed, so a huge
+    # sensor is refused before any meshing; the others are meshed and counted exactly
+    last_count = ("no", "")
     for attempt, (what, cur) in enumerate(steps):
         w = cur.window_mm
         window = box(x0 - w, y0 - w, x1 + w, y1 + w)
         trial_notes = list(notes)
         conductors = gather_conductors(design, sensor, window, trial_notes)
+        guess = estimate_conductor_panels(conductors, stack, zone, cur, overlay)
+        if guess > ESTIMATE_FACTORS[1] * limits.max_mesh_panels:
+            last_count = f"about {guess:.0f}", ", estimated before meshing"
+            continue
         panels = mesh_conductors(conductors, stack, zone, cur, overlay, trial_notes)
+        last_count = str(len(panels)), ""
         if len(panels) <= limits.max_mesh_panels:
             notes = trial_notes
             if attempt:
@@ -458,7 +485,8 @@ def build_model(
         raise LimitError(
             design.board.source,
             None,
-            f"sensor {sensor.name}: {len(panels)} boundary-element panels even after coarsening (limit {limits.max_mesh_panels})",
+            f"sensor {sensor.name}: {last_count[0]} boundary-element panels even after coarsening "
+            f"(limit {limits.max_mesh_panels}){last_count[1]}",
             "a smaller sensor or a higher [limits] max_mesh_panels",
         )
     kind, main = _roles_of(sensor, conductors)
