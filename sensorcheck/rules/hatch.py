@@ -116,32 +116,57 @@ def _hatch_text(m: HatchMeasure) -> str:
     return f"hatch line {fmt(m.line_mm)} mm, opening {fmt(m.opening_mm)} mm ({m.openings} openings)"
 
 
-def _other_copper(design: Design, layer: str, window: BaseGeometry,
-                  boxes: dict[str, tuple[list[BaseGeometry], np.ndarray]] | None = None) -> BaseGeometry:
-    """Copper of every net on ``layer`` except sensing electrodes and traces, clipped to ``window``.
+@dataclass(frozen=True, slots=True)
+class _OtherCopper:
+    """One layer's copper of the nets that do not sense, split into its polygons, with their index."""
 
-    ``boxes`` (layer -> that copper and its bounds, from :func:`_other_boxes`) saves finding them again.
+    parts: np.ndarray  # Polygons
+    tree: shapely.STRtree
+    disjoint: bool  # no two polygons meet: any subset is already their union
+
+
+def _other_copper(design: Design, layer: str, window: BaseGeometry,
+                  boxes: dict[str, _OtherCopper] | None = None) -> BaseGeometry:
+    """Copper of every net on ``layer`` except sensing electrodes and traces, where it meets ``window``.
+
+    The polygons whose box meets the window's box, whole: callers intersect with the window
+    themselves.  Copper of two nets that overlap (a bad export) is merged first, clipped to the
+    window's box.  ``boxes`` (from :func:`_other_boxes`) saves splitting the layer again.
     """
     if boxes is None:
         boxes = _other_boxes(design)
-    if layer not in boxes:
+    oc = boxes.get(layer)
+    if oc is None or window.is_empty:
         return union([])
-    geoms, b = boxes[layer]
-    env = window.envelope
-    if env.is_empty or not geoms:
+    hits = oc.tree.query(window.envelope)
+    if len(hits) == 0:
         return union([])
-    x0, y0, x1, y1 = env.bounds
-    keep = (b[:, 0] <= x1) & (x0 <= b[:, 2]) & (b[:, 1] <= y1) & (y0 <= b[:, 3])  # bbox_overlap, all at once
-    return union(geoms[int(k)].intersection(env) for k in np.flatnonzero(keep))
+    hits.sort()
+    if oc.disjoint:
+        return shapely.MultiPolygon(list(oc.parts[hits]))
+    return union(shapely.clip_by_rect(oc.parts[hits], *window.bounds))
 
 
-def _other_boxes(design: Design) -> dict[str, tuple[list[BaseGeometry], np.ndarray]]:
-    """Per copper layer: the non-empty copper of nets that do not sense, in net order, and its bounds."""
+def _other_boxes(design: Design) -> dict[str, _OtherCopper]:
+    """Per copper layer: the polygons of the nets that do not sense, in net order, with an index.
+
+    Whether any two of them meet is tested once here (boxes first, then the exact predicate), so
+    the per-sensor step can skip the union that costs most when they do not (derived: nets on a
+    good board never touch).
+    """
     skip = sensing_nets(design)
-    out: dict[str, tuple[list[BaseGeometry], np.ndarray]] = {}
+    out: dict[str, _OtherCopper] = {}
     for lay in design.board.copper_layers():
         geoms = [g for n, g in lay.by_net.items() if n not in skip and not g.is_empty]
-        out[lay.name] = (geoms, shapely.bounds(np.array(geoms, dtype=object)).reshape(-1, 4))
+        if not geoms:
+            continue
+        parts = shapely.get_parts(np.array(geoms, dtype=object))
+        parts = parts[shapely.get_type_id(parts) == 3]  # polygons: area copper only
+        if len(parts) == 0:
+            continue
+        tree = shapely.STRtree(parts)
+        a, b = tree.query(parts, predicate="intersects")
+        out[lay.name] = _OtherCopper(parts, tree, bool(np.all(a == b)))
     return out
 
 
