@@ -63,7 +63,8 @@ FACING_GAP_MM = 1.5  # widest TX-RX gap looked at on one layer (vendor guidance 
 CROSS_LAYER_GAP_MM = 1.0  # sideways reach for TX on another layer under RX
 NODE_CORE_RADIUS_MM = 1.75  # a node's filled facing region holds a 3.5 mm disc
 CLUSTER_MERGE_MM = 1.0  # facing-region pieces this close belong to one node
-DETECT_TOLERANCE_MM = 0.02  # outline simplification for node detection only (electrodes keep exact copper)
+DETECT_TOLERANCE_MM = 0.05  # outline simplification for node detection only (electrodes keep exact copper;
+#                              a twentieth of the 1 mm cross-layer reach; the buffers cost grows with vertices)
 MIN_NODE_COPPER_MM2 = 4.0  # a node has at least this much TX and this much RX copper in its footprint
 MATRIX_TOUCH_MM = 1.0  # node footprints this close belong to one matrix
 SEGMENT_GAP_MAX_MM = 3.0  # slider/wheel neighbours are at most this far apart edge to edge
