@@ -9,6 +9,9 @@ A small graded mesher of our own on shapely/numpy (no external mesher):
   wholly inside stay squares; cells cut by the boundary become the exact intersection,
   kept as one panel when it has at most eight corners and holds its centroid, otherwise split by a
   constrained Delaunay triangulation (shapely).
+* :func:`estimate_panels` says about how many panels a flat conductor will get, without meshing
+  it (the area integral of the quadtree's own leaf sizes, plus the edge rows and the cells the
+  outline cuts), so that a panel budget can be checked before the work.
 * closed bodies: a flat-ended cylinder (the finger), a sphere (geodesic, from an icosahedron)
   and a box (each face meshed as a flat polygon, graded toward its edges).
 
@@ -303,7 +306,7 @@ def estimate_panels(
     rest = shapely.difference(geom, band)
     rest = shapely.union_all([p for p in shapely.get_parts(rest) if isinstance(p, Polygon) and p.area > 1e-6 * w * w] or [Polygon()])
     if not rest.is_empty and not rest.is_valid:
-        rest = shapely.make_valid(rest)
+        rest = shapely.union_all([p for p in shapely.get_parts(shapely.make_valid(rest)) if isinstance(p, Polygon)] or [Polygon()])
     return edge + _quadtree_estimate(rest, spec, h_max_at)
 
 

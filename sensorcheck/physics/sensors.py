@@ -327,12 +327,12 @@ def _mesh_sizes(
 def estimate_conductor_panels(conductors: list[Conductor], stack: Stack, zone: BaseGeometry, opts: SolverOptions, overlay: Overlay) -> float:
     """About how many panels :func:`mesh_conductors` makes (:func:`estimate_panels`), without meshing."""
     spec, h_at = _mesh_sizes(zone, opts, overlay)
-    return sum(
+    return float(sum(
         estimate_panels(g, spec, h_max_at=h_at, band_zone=zone, banded=opts.edge_band)
         for c in conductors
         for layer, g in c.copper.items()
         if layer in stack.copper_z_m
-    )
+    ))
 
 
 def mesh_conductors(
