@@ -68,16 +68,19 @@ def measure_hatch(copper_geom: BaseGeometry, window: BaseGeometry) -> HatchMeasu
         return HatchMeasure(0.0, 0, None, None)
     c = copper_geom.intersection(window) if not copper_geom.is_empty else copper_geom
     fill = min(1.0, c.area / window.area) if not c.is_empty else 0.0
+    polys = shapely.get_parts(c) if not c.is_empty else np.empty(0, dtype=object)
+    polys = polys[shapely.get_type_id(polys) == 3]
+    counts = shapely.get_num_interior_rings(polys)
+    rings = [shapely.get_interior_ring(p, i) for p, n in zip(polys, counts) for i in range(int(n))]
     openings: list[BaseGeometry] = []
-    for poly in getattr(c, "geoms", [c]):
-        if poly.geom_type != "Polygon":
-            continue
-        for ring in poly.interiors:
-            opening = shapely.Polygon(ring)
+    if rings:
+        cand = shapely.polygons(np.array(rings, dtype=object))
+        cand = cand[shapely.area(cand) > 1e-4]
+        if len(cand):
             # an opening that covers part of the window's own hole (the cut-out around the sensor)
             # is a clearance, not a hatch opening
-            if opening.area > 1e-4 and window.covers(opening):
-                openings.append(opening)
+            shapely.prepare(window)
+            openings = list(cand[shapely.covers(window, cand)])
     if not openings:
         return HatchMeasure(fill, 0, None, None)
     g = math.sqrt(_typical_area([o.area for o in openings]))
@@ -129,8 +132,8 @@ def _other_copper(design: Design, layer: str, window: BaseGeometry,
                   boxes: dict[str, _OtherCopper] | None = None) -> BaseGeometry:
     """Copper of every net on ``layer`` except sensing electrodes and traces, where it meets ``window``.
 
-    The polygons whose box meets the window's box, whole: callers intersect with the window
-    themselves.  Copper of two nets that overlap (a bad export) is merged first, clipped to the
+    The polygons whose box meets the window's box, clipped to that box: callers intersect with
+    the window themselves.  Copper of two nets that overlap (a bad export) is merged first, clipped to the
     window's box.  ``boxes`` (from :func:`_other_boxes`) saves splitting the layer again.
     """
     if boxes is None:
@@ -143,7 +146,11 @@ def _other_copper(design: Design, layer: str, window: BaseGeometry,
         return union([])
     hits.sort()
     if oc.disjoint:
-        return shapely.MultiPolygon(list(oc.parts[hits]))
+        whole = shapely.MultiPolygon(list(oc.parts[hits]))
+        # GEOS's rectangle clip is fast but may leave an invalid polygon: keep it only when valid
+        # (it halves the intersections with the window that follow; a pour is thousands of vertices)
+        clipped = shapely.clip_by_rect(whole, *window.bounds)
+        return clipped if clipped.is_valid else whole
     return union(shapely.clip_by_rect(oc.parts[hits], *window.bounds))
 
 
