@@ -11,7 +11,6 @@ import shapely
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
     VIA_DIAMETER_PARAM,
-    bbox_overlap,
     finding,
     fmt,
     hole_nets,
@@ -173,12 +172,19 @@ class FloatingCopper(Rule):
         feature_boxes: dict[str, np.ndarray] = {}  # layer -> bounds of its features, made when first needed
         islands = {lay.name: sorted((n, g) for n, g in lay.by_net.items() if is_floating_id(n))
                    for lay in design.board.copper_layers()}  # once per run, not per sensor
+        # the islands' boxes, as arrays, once per run (empty islands get NaN boxes, which meet nothing)
+        island_boxes = {name: shapely.bounds(np.array([g for _, g in isl], dtype=object)).reshape(-1, 4)
+                        for name, isl in islands.items()}
         for s in design.sensors:
             near = self.cache.grown(s, params["distance_mm"])
+            if near.is_empty:
+                continue
+            x0, y0, x1, y1 = near.bounds
             for lay in design.board.copper_layers():
-                for net, geom in islands[lay.name]:
-                    if not bbox_overlap(geom, near):
-                        continue  # boxes apart: nothing in common
+                b = island_boxes[lay.name]
+                meets = (b[:, 0] <= x1) & (x0 <= b[:, 2]) & (b[:, 1] <= y1) & (y0 <= b[:, 3])  # bbox_overlap, all at once
+                for k in np.flatnonzero(meets):
+                    net, geom = islands[lay.name][int(k)]
                     ov = geom.intersection(near)
                     if ov.is_empty or ov.area < params["min_area_mm2"]:
                         continue

@@ -18,7 +18,6 @@ from sensorcheck.rules.common import (
     SELF_KINDS,
     bbox_overlap,
     clipped_union,
-    copper,
     finding,
     fmt,
     layer_separation,
