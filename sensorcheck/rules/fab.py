@@ -282,12 +282,24 @@ class HoleNearSensor(Rule):
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         nets_of = hole_nets(design)
         holes = [(h, nets_of[i]) for i, h in enumerate(design.board.holes) if not is_via(h, params["max_via_diameter_mm"])]
-        pts = shapely.points(np.array([(h.x_mm, h.y_mm) for h, _ in holes], dtype=float).reshape(-1, 2))
+        xy = np.array([(h.x_mm, h.y_mm) for h, _ in holes], dtype=float).reshape(-1, 2)
+        radius = np.array([h.diameter_mm / 2.0 for h, _ in holes], dtype=float)
+        pts = shapely.points(xy)
         for s in design.sensors:
             own = set(s.nets)
             outline = self.cache.outline(s)
-            centre_d = shapely.distance(outline, pts)  # every hole at once
-            for k, (h, net) in enumerate(holes):
+            if outline.is_empty:
+                continue
+            # the distance to the outline's box is a lower bound: holes whose edge is the limit or
+            # more from the box need no exact distance
+            x0, y0, x1, y1 = outline.bounds
+            box_d = np.hypot(np.maximum(0.0, np.maximum(x0 - xy[:, 0], xy[:, 0] - x1)),
+                             np.maximum(0.0, np.maximum(y0 - xy[:, 1], xy[:, 1] - y1)))
+            near = np.flatnonzero(box_d - radius < params["min_distance_mm"])
+            centre_d = np.full(len(holes), np.inf)
+            centre_d[near] = shapely.distance(outline, pts[near])  # the candidates at once
+            for k in near:
+                h, net = holes[int(k)]
                 if net in own:
                     continue
                 d = max(0.0, float(centre_d[k]) - h.diameter_mm / 2.0)
