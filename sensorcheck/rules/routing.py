@@ -156,21 +156,43 @@ class ForeignViaInZone(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         nets_of = hole_nets(design)
+        clear = float(params["clearance_mm"])
         vias = [(h, nets_of[i]) for i, h in enumerate(design.board.holes) if is_via(h, params["max_via_diameter_mm"])]
+        if not vias or not design.sensors:
+            return
+        # every via's point, net and net role once per run; per sensor only a box test, then the exact
+        # containment test for the vias inside the box (a point inside an area lies inside its box)
+        xs = np.array([h.x_mm for h, _ in vias], dtype=float)
+        ys = np.array([h.y_mm for h, _ in vias], dtype=float)
+        pts = shapely.points(xs, ys)
+        net_ids = {net: k for k, net in enumerate(dict.fromkeys(net for _, net in vias))}
+        via_net = np.array([net_ids[net] for _, net in vias], dtype=np.intp)
+        ref_net = np.array([net is not None and role(design, net) in REFERENCE_ROLES for net in net_ids], dtype=bool)
+        is_ref = ref_net[via_net]
         for s in design.sensors:
-            own = set(s.nets)
-            near = self.cache.grown(s, params["clearance_mm"])
-            for h, net in vias:
-                if net in own:
-                    continue
+            own_net = np.zeros(len(net_ids), dtype=bool)
+            for net in s.nets:
+                if net in net_ids:
+                    own_net[net_ids[net]] = True
+            foreign = ~own_net[via_net]
+            hits = np.zeros(len(vias), dtype=bool)
+            # signal vias: inside the sensing zone
+            cand = foreign & ~is_ref & _in_box(xs, ys, s.zone.bounds if not s.zone.is_empty else None, 0.0)
+            if cand.any():
+                hits[cand] = shapely.contains(s.zone, pts[cand])
+            # ground/shield/guard vias: inside the electrodes grown by the clearance, whose box lies within the
+            # electrodes' box grown by the clearance (plus the zone's tolerance, see grow_outline): the
+            # grown outline is only made when a via lies inside that box
+            cand = foreign & is_ref & _in_box(xs, ys, _electrodes_box(s), clear + 0.02 * max(clear, s.zone_margin_mm) + 1e-3)
+            if cand.any():
+                hits[cand] = shapely.contains(self.cache.grown(s, clear), pts[cand])
+            for k in np.flatnonzero(hits):
+                h, net = vias[int(k)]
+                ref = bool(is_ref[k])
                 p = Point(h.x_mm, h.y_mm)
-                ref = net is not None and role(design, net) in REFERENCE_ROLES
-                area = near if ref else s.zone
-                if not area.contains(p):
-                    continue
                 d = self.cache.outline(s).distance(p)
                 what = "inside the electrode" if d == 0 else f"{fmt(d)} mm from the electrode"
-                where = f"the electrode's {fmt(params['clearance_mm'])} mm clearance" if ref else "the sensing zone"
+                where = f"the electrode's {fmt(clear)} mm clearance" if ref else "the sensing zone"
                 yield finding(
                     "error",
                     f"via of net {net or '(unknown)'} ({fmt(h.diameter_mm)} mm) is {what}, inside {where} of {s.name}",
@@ -178,6 +200,23 @@ class ForeignViaInZone(Rule):
                     layer=s.layer, point=(h.x_mm, h.y_mm), nets=(net,) if net else (), sensor=s.name,
                     source=h.source,
                 )
+
+
+def _electrodes_box(s: Sensor) -> tuple[float, float, float, float] | None:
+    """The box of a sensor's electrodes together (that of its outline), None when they are empty."""
+    b = shapely.bounds(np.array([e.geometry for e in s.electrodes], dtype=object)).reshape(-1, 4)
+    b = b[~np.isnan(b).any(axis=1)]
+    if len(b) == 0:
+        return None
+    return float(b[:, 0].min()), float(b[:, 1].min()), float(b[:, 2].max()), float(b[:, 3].max())
+
+
+def _in_box(xs: np.ndarray, ys: np.ndarray, box: tuple[float, float, float, float] | None, grow_mm: float) -> np.ndarray:
+    """Which points (``xs``, ``ys``) lie inside ``box`` grown by ``grow_mm``, edges included."""
+    if box is None:
+        return np.zeros(len(xs), dtype=bool)
+    x0, y0, x1, y1 = box
+    return (xs >= x0 - grow_mm) & (xs <= x1 + grow_mm) & (ys >= y0 - grow_mm) & (ys <= y1 + grow_mm)
 
 
 def _trace_paths(design: Design, e: Electrode) -> dict[str, BaseGeometry]:
