@@ -15,6 +15,7 @@ from sensorcheck.board.model import Feature
 from sensorcheck.design.model import Design
 from sensorcheck.physics.parasitics import parallel_plate_pf
 from sensorcheck.rules.common import (
+    EMPTY,
     SELF_KINDS,
     bbox_overlap,
     clipped_union,
@@ -135,22 +136,32 @@ def _other_copper(design: Design, layer: str, window: BaseGeometry,
     the window themselves.  Copper of two nets that overlap (a bad export) is merged first, clipped to the
     window's box.  ``boxes`` (from :func:`_other_boxes`) saves splitting the layer again.
     """
+    clipped, whole = _other_near(design, layer, window, boxes)
+    return clipped if clipped is whole or clipped.is_valid else whole
+
+
+def _other_near(design: Design, layer: str, window: BaseGeometry,
+                boxes: dict[str, _OtherCopper] | None = None) -> tuple[BaseGeometry, BaseGeometry]:
+    """(clipped, whole): that copper cut to the window's box by GEOS's fast rectangle clip, and uncut.
+
+    The fast clip may leave an invalid polygon (its area is still the copper's area in the box);
+    :func:`_other_copper` keeps it only when valid.  Both are the same object when no clip was made.
+    """
     if boxes is None:
         boxes = _other_boxes(design)
     oc = boxes.get(layer)
     if oc is None or window.is_empty:
-        return union([])
+        return EMPTY, EMPTY
     hits = oc.tree.query(window.envelope)
     if len(hits) == 0:
-        return union([])
+        return EMPTY, EMPTY
     hits.sort()
     if oc.disjoint:
         whole = shapely.MultiPolygon(list(oc.parts[hits]))
-        # GEOS's rectangle clip is fast but may leave an invalid polygon: keep it only when valid
-        # (it halves the intersections with the window that follow; a pour is thousands of vertices)
-        clipped = shapely.clip_by_rect(whole, *window.bounds)
-        return clipped if clipped.is_valid else whole
-    return union(shapely.clip_by_rect(oc.parts[hits], *window.bounds))
+        # the clip halves the intersections with the window that follow (a pour is thousands of vertices)
+        return shapely.clip_by_rect(whole, *window.bounds), whole
+    merged = union(shapely.clip_by_rect(oc.parts[hits], *window.bounds))
+    return merged, merged
 
 
 def _other_boxes(design: Design) -> dict[str, _OtherCopper]:
@@ -228,23 +239,30 @@ class FillNearSensor(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         outline_board = design.board.outline
+        board_shape = None
+        if outline_board is not None and outline_board.area > 0:
+            board_shape = shapely.Polygon(outline_board.exterior) if outline_board.geom_type == "Polygon" else outline_board
+            shapely.prepare(board_shape)  # most rings lie inside the board: a prepared test says so cheaply
         boxes = _other_boxes(design)  # once per run
         for s in design.sensors:
             own = self.cache.outline(s)
             ring = self.cache.grown(s, params["ring_mm"]).difference(own)
-            if outline_board is not None and outline_board.area > 0:
-                ring = ring.intersection(shapely.Polygon(outline_board.exterior) if outline_board.geom_type == "Polygon" else outline_board)
+            if board_shape is not None and not board_shape.covers(ring):
+                ring = ring.intersection(board_shape)
             self_kind = s.kind in SELF_KINDS
             skip = sensing_nets(design)
             windows: list[tuple[float, float, BaseGeometry]] | None = None  # only when something is reported
             for lay in design.board.copper_layers():
-                other = _other_copper(design, lay.name, ring, boxes)
-                if other.is_empty:
+                clipped, whole = _other_near(design, lay.name, ring, boxes)
+                if clipped.is_empty:
                     continue
+                limit = params["max_fill_sensor_layer_percent"] if lay.name == s.layer else params["max_fill_other_layers_percent"]
+                if 100 * clipped.area <= limit * ring.area:
+                    continue  # even all the copper in the ring's box is within the limit: so is the ring's
+                other = clipped if clipped is whole or clipped.is_valid else whole
                 m = measure_hatch(other, ring)
                 if m.fill <= 0:
                     continue
-                limit = params["max_fill_sensor_layer_percent"] if lay.name == s.layer else params["max_fill_other_layers_percent"]
                 pct = 100 * m.fill
                 if pct <= limit:
                     continue
