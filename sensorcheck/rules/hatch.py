@@ -123,54 +123,67 @@ def _hatch_text(m: HatchMeasure) -> str:
 class _OtherCopper:
     """One layer's copper of the nets that do not sense, split into its polygons, with their index."""
 
-    parts: np.ndarray  # Polygons
+    parts: np.ndarray  # Polygons, in net order
     tree: shapely.STRtree
-    disjoint: bool  # no two polygons meet: any subset is already their union
+
+
+@dataclass(frozen=True, slots=True)
+class _Near:
+    """The polygons of one layer's other copper whose box meets a window's box."""
+
+    parts: np.ndarray  # Polygons, whole
+    box: tuple[float, float, float, float]  # the window's box
+
+    def box_area_bound(self) -> float:
+        """Area of those polygons cut to the box: at least the area of that copper inside the window.
+
+        GEOS's fast rectangle clip may leave invalid polygons, and polygons of two nets that
+        overlap are counted twice; both only make the bound larger, never smaller.
+        """
+        return float(shapely.area(shapely.clip_by_rect(self.parts, *self.box)).sum())
+
+    def copper(self) -> BaseGeometry:
+        """Their union cut to the box, exact: what the window's intersection is taken from.
+
+        Polygons of different nets do not meet on a good board (so they already are their union:
+        no union is made); when some do (a bad export), they are merged.  The fast clip is kept
+        only when it gives a valid geometry.
+        """
+        parts = self.parts
+        if len(parts) > 1:
+            a, b = shapely.STRtree(parts).query(parts, predicate="intersects")
+            if np.any(a != b):
+                return union(shapely.clip_by_rect(parts, *self.box))
+        whole = shapely.MultiPolygon(list(parts))
+        clipped = shapely.clip_by_rect(whole, *self.box)
+        return clipped if clipped.is_valid else whole
+
+
+def _other_near(layer: str, window: BaseGeometry, boxes: dict[str, _OtherCopper]) -> _Near | None:
+    """The other copper on ``layer`` whose box meets ``window``'s box (None when there is none)."""
+    oc = boxes.get(layer)
+    if oc is None or window.is_empty:
+        return None
+    hits = oc.tree.query(window.envelope)
+    if len(hits) == 0:
+        return None
+    hits.sort()
+    return _Near(oc.parts[hits], window.bounds)
 
 
 def _other_copper(design: Design, layer: str, window: BaseGeometry,
                   boxes: dict[str, _OtherCopper] | None = None) -> BaseGeometry:
-    """Copper of every net on ``layer`` except sensing electrodes and traces, where it meets ``window``.
+    """Copper of every net on ``layer`` except sensing electrodes and traces, near ``window``.
 
-    The polygons whose box meets the window's box, clipped to that box: callers intersect with
-    the window themselves.  Copper of two nets that overlap (a bad export) is merged first, clipped to the
-    window's box.  ``boxes`` (from :func:`_other_boxes`) saves splitting the layer again.
+    The polygons whose box meets the window's box, merged and cut to that box: callers intersect
+    with the window themselves.  ``boxes`` (from :func:`_other_boxes`) saves splitting the layer again.
     """
-    clipped, whole = _other_near(design, layer, window, boxes)
-    return clipped if clipped is whole or clipped.is_valid else whole
-
-
-def _other_near(design: Design, layer: str, window: BaseGeometry,
-                boxes: dict[str, _OtherCopper] | None = None) -> tuple[BaseGeometry, BaseGeometry]:
-    """(clipped, whole): that copper cut to the window's box by GEOS's fast rectangle clip, and uncut.
-
-    The fast clip may leave an invalid polygon (its area is still the copper's area in the box);
-    :func:`_other_copper` keeps it only when valid.  Both are the same object when no clip was made.
-    """
-    if boxes is None:
-        boxes = _other_boxes(design)
-    oc = boxes.get(layer)
-    if oc is None or window.is_empty:
-        return EMPTY, EMPTY
-    hits = oc.tree.query(window.envelope)
-    if len(hits) == 0:
-        return EMPTY, EMPTY
-    hits.sort()
-    if oc.disjoint:
-        whole = shapely.MultiPolygon(list(oc.parts[hits]))
-        # the clip halves the intersections with the window that follow (a pour is thousands of vertices)
-        return shapely.clip_by_rect(whole, *window.bounds), whole
-    merged = union(shapely.clip_by_rect(oc.parts[hits], *window.bounds))
-    return merged, merged
+    near = _other_near(layer, window, boxes if boxes is not None else _other_boxes(design))
+    return near.copper() if near is not None else EMPTY
 
 
 def _other_boxes(design: Design) -> dict[str, _OtherCopper]:
-    """Per copper layer: the polygons of the nets that do not sense, in net order, with an index.
-
-    Whether any two of them meet is tested once here (boxes first, then the exact predicate), so
-    the per-sensor step can skip the union that costs most when they do not (derived: nets on a
-    good board never touch).
-    """
+    """Per copper layer: the polygons of the nets that do not sense, in net order, with an index."""
     skip = sensing_nets(design)
     out: dict[str, _OtherCopper] = {}
     for lay in design.board.copper_layers():
@@ -179,11 +192,8 @@ def _other_boxes(design: Design) -> dict[str, _OtherCopper]:
             continue
         parts = shapely.get_parts(np.array(geoms, dtype=object))
         parts = parts[shapely.get_type_id(parts) == 3]  # polygons: area copper only
-        if len(parts) == 0:
-            continue
-        tree = shapely.STRtree(parts)
-        a, b = tree.query(parts, predicate="intersects")
-        out[lay.name] = _OtherCopper(parts, tree, bool(np.all(a == b)))
+        if len(parts):
+            out[lay.name] = _OtherCopper(parts, shapely.STRtree(parts))
     return out
 
 
@@ -253,13 +263,13 @@ class FillNearSensor(Rule):
             skip = sensing_nets(design)
             windows: list[tuple[float, float, BaseGeometry]] | None = None  # only when something is reported
             for lay in design.board.copper_layers():
-                clipped, whole = _other_near(design, lay.name, ring, boxes)
-                if clipped.is_empty:
+                near = _other_near(lay.name, ring, boxes)
+                if near is None:
                     continue
                 limit = params["max_fill_sensor_layer_percent"] if lay.name == s.layer else params["max_fill_other_layers_percent"]
-                if 100 * clipped.area <= limit * ring.area:
+                if 100 * near.box_area_bound() <= limit * ring.area:
                     continue  # even all the copper in the ring's box is within the limit: so is the ring's
-                other = clipped if clipped is whole or clipped.is_valid else whole
+                other = near.copper()
                 m = measure_hatch(other, ring)
                 if m.fill <= 0:
                     continue

@@ -130,3 +130,43 @@ def test_opening_is_not_pulled_down_by_cut_openings() -> None:
     m = measure_hatch(hatch.union(pads), box(0, 0, 40, 40))
     assert m.opening_mm == pytest.approx(1.5, rel=1e-9)
     assert m.line_mm == pytest.approx(0.5, rel=1e-9)
+
+
+def test_overlapping_nets_are_merged_not_counted_twice() -> None:
+    """Two nets drawn over each other (a bad export): the fill counts their copper once.
+
+    The ground pour fills the ring but the 1 mm mitred gap band (hand value as above); a second net
+    covers the same 60 x 60 mm square again.  Summing the two would pass 100 % of the ring.
+    """
+    pad = box(-6, -6, 6, 6)
+    copper = box(-30, -30, 30, 30).difference(pad.buffer(1.0, join_style="mitre"))
+    board = make_board([region("top-copper", pad, "TOUCH1"), region("top-copper", copper, "GND"),
+                        region("top-copper", copper, "SHIELD_COPY")])
+    s = sensor("B1", "self-button", [electrode("TOUCH1", "self", pad)])
+    design = make_design(board, make_config(1.0), {"TOUCH1": "self", "GND": "ground"}, [s])
+    (f,) = run_one("hatch.fill-near-sensor", design)
+    assert f.value == pytest.approx(100 * (RING - GAP_MITRE) / RING, rel=0.005)
+
+
+def test_copper_beyond_the_ring_in_its_box_decides_nothing() -> None:
+    """The box bound only skips work: copper in the box's corners outside the ring must not count.
+
+    A light hatch (0.25 mm lines, 1.14 mm openings) fills the 10 mm ring at about 31 %; solid
+    copper of another net fills the box's four rounded-off corners, 32^2 - (12^2 + 4 x 12 x 10 +
+    pi 10^2) = 85.8 mm2 (hand value), which lifts the box's copper above 40 % of the ring's area,
+    so the exact measure runs, and finds the ring itself under the limit: no finding.
+    """
+    pad = box(-6, -6, 6, 6)
+    reach = pad.buffer(10.0, quad_segs=64)
+    light = square_hatch(-17, -17, 17, 17, 0.25, 1.14).intersection(reach).difference(
+        pad.buffer(1.0, join_style="mitre"))
+    corners = box(-16, -16, 16, 16).difference(reach)
+    assert corners.area == pytest.approx(32**2 - (144 + 480 + math.pi * 100), rel=1e-3)
+    board = make_board([region("top-copper", pad, "TOUCH1"), region("top-copper", light, "GND"),
+                        region("top-copper", corners, "LED")])
+    s = sensor("B1", "self-button", [electrode("TOUCH1", "self", pad)])
+    design = make_design(board, make_config(1.0), {"TOUCH1": "self", "GND": "ground"}, [s])
+    ring = reach.difference(pad)
+    assert 100 * (light.area + corners.area) / ring.area > 40.0  # the bound cannot decide
+    assert 100 * light.area / ring.area < 40.0  # the ring can
+    assert run_one("hatch.fill-near-sensor", design) == []
