@@ -33,7 +33,6 @@ from sensorcheck.rules.common import (
     role,
     source_near,
     trace_features,
-    trace_geometry,
     union,
 )
 from sensorcheck.rules.engine import Param, Rule
@@ -223,15 +222,6 @@ def _trace_paths(design: Design, e: Electrode) -> dict[str, BaseGeometry]:
     return {layer: paths(feats) for layer, feats in trace_features(design.board, e).items()}
 
 
-def _box_hits(geom: BaseGeometry, boxes: np.ndarray) -> set[int]:
-    """Indices of ``boxes`` (rows x0, y0, x1, y1) that meet the box of ``geom``, edges included."""
-    if geom.is_empty:
-        return set()
-    x0, y0, x1, y1 = geom.bounds
-    ok = (boxes[:, 0] <= x1) & (x0 <= boxes[:, 2]) & (boxes[:, 1] <= y1) & (y0 <= boxes[:, 3])
-    return {int(k) for k in np.flatnonzero(ok)}
-
-
 class TraceUnderElectrode(Rule):
     """A sensor's trace under or over another sensor's electrode.
 
@@ -267,24 +257,48 @@ class TraceUnderElectrode(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         flat = [(b, eb) for b in design.sensors for eb in b.electrodes]  # every electrode, in design order
+        if not flat:
+            return
         boxes = shapely.bounds(np.array([eb.geometry for _, eb in flat], dtype=object))
-        for a in design.sensors:
+        net_ids = {n: i for i, n in enumerate(dict.fromkeys(eb.net for _, eb in flat))}
+        flat_net = np.array([net_ids[eb.net] for _, eb in flat], dtype=np.intp)
+        flat_sensor = np.array([i for i, b in enumerate(design.sensors) for _ in b.electrodes], dtype=np.intp)
+        raw = _trace_hits([eb for _, eb in flat])  # which electrodes each whole trace touches
+        raw_by: dict[tuple[int, str], list[int]] = {}
+        for i, layer, k in raw:
+            raw_by.setdefault((i, layer), []).append(k)
+        ia_flat = -1
+        for ia, a in enumerate(design.sensors):
             for ea in a.electrodes:
-                traces = sorted(trace_geometry(ea).items())
-                # which electrodes each trace layer's box meets (as bbox_overlap, all boxes at once)
-                meets = {layer: _box_hits(tg, boxes) for layer, tg in traces}
-                for layer, tg in traces:  # of those, the ones it really touches (else the overlap is empty)
-                    cand = sorted(meets[layer])
-                    if cand:
+                ia_flat += 1
+                # the electrodes that can be reported at all: other nets, and not the own mutual node (its RX
+                # trace leaves through its own TX ring by design); the others are never looked at
+                judged = flat_net != net_ids[ea.net]
+                if a.kind not in SELF_KINDS:
+                    judged &= flat_sensor != ia
+                traces: list[tuple[str, BaseGeometry]] = []
+                meets: dict[str, set[int]] = {}
+                for layer, geom in sorted(ea.trace.items()):
+                    # the trace without the electrode is part of the trace: where the whole trace meets no
+                    # judged electrode, neither does the part, and the difference is not made
+                    if not any(judged[k] for k in raw_by.get((ia_flat, layer), ())):
+                        continue
+                    tg = _trace_without_electrode(ea, layer, geom)
+                    if tg is None:
+                        continue
+                    traces.append((layer, tg))
+                    # which judged electrodes the trace's box meets (as bbox_overlap), and of those the ones
+                    # it really touches (else the overlap is empty)
+                    cand = np.flatnonzero(_box_mask(tg, boxes) & judged)
+                    if len(cand):
                         shapely.prepare(tg)
                         touch = shapely.intersects(tg, np.array([flat[k][1].geometry for k in cand], dtype=object))
-                        meets[layer] = {k for k, t in zip(cand, touch) if t}
+                        meets[layer] = {int(k) for k, t in zip(cand, touch) if t}
+                    else:
+                        meets[layer] = set()
                 hit = sorted(set().union(*meets.values())) if meets else []
                 for k in hit:
                     b, eb = flat[k]
-                    if eb.net == ea.net or (a is b and b.kind not in SELF_KINDS):
-                        # a mutual node's RX trace leaves through its own TX ring by design
-                        continue
                     for layer, tg in traces:
                         if k not in meets[layer]:
                             continue
@@ -300,6 +314,64 @@ class TraceUnderElectrode(Rule):
                             nets=(ea.net, eb.net), sensor=b.name,
                             source=source_near(net_features(design.board, layer, [ea.net]), ov),
                         )
+
+
+def _trace_hits(electrodes: list[Electrode]) -> set[tuple[int, str, int]]:
+    """(i, layer, k) for every electrode i whose whole trace on ``layer`` touches electrode k of another net.
+
+    The electrodes of one net in several sensors (a matrix column in every key) carry equal traces as
+    separate objects: each distinct trace (same layer, box, size and ``equals_identical``) is tested
+    once, its polygons queried against a tree of the electrodes' polygons all at once (a geometry meets
+    another exactly when one of its parts meets one of the other's).
+    """
+    firsts: list[BaseGeometry] = []  # one of each distinct trace
+    users: list[list[tuple[int, str]]] = []  # the (electrode, layer) carrying it
+    seen: dict[tuple[Any, ...], list[int]] = {}
+    for i, e in enumerate(electrodes):
+        for layer, g in e.trace.items():
+            if g.is_empty:
+                continue
+            key = (layer, g.geom_type, int(shapely.get_num_coordinates(g)), g.bounds)
+            for u in seen.get(key, ()):
+                if shapely.equals_identical(firsts[u], g):
+                    users[u].append((i, layer))
+                    break
+            else:
+                seen.setdefault(key, []).append(len(firsts))
+                firsts.append(g)
+                users.append([(i, layer)])
+    if not firsts:
+        return set()
+    parts, part_of = shapely.get_parts(np.array(firsts, dtype=object), return_index=True)
+    eparts, epart_of = shapely.get_parts(np.array([e.geometry for e in electrodes], dtype=object), return_index=True)
+    if len(parts) == 0 or len(eparts) == 0:
+        return set()
+    qi, ti = shapely.STRtree(eparts).query(parts)  # boxes that meet
+    # an electrode of the trace's own net is never reported: not tested
+    net_id = {n: j for j, n in enumerate(dict.fromkeys(e.net for e in electrodes))}
+    enet = np.array([net_id[e.net] for e in electrodes], dtype=np.intp)
+    tnet = np.array([enet[u[0][0]] for u in users], dtype=np.intp)
+    other = tnet[part_of[qi]] != enet[epart_of[ti]]
+    qi, ti = qi[other], ti[other]
+    touch = shapely.intersects(parts[qi], eparts[ti])
+    pairs = {(int(part_of[q]), int(epart_of[t])) for q, t in zip(qi[touch], ti[touch])}
+    return {(i, layer, k) for u, k in pairs for i, layer in users[u]}
+
+
+def _trace_without_electrode(e: Electrode, layer: str, geom: BaseGeometry) -> BaseGeometry | None:
+    """``trace_geometry(e)[layer]`` (same operations), made for one layer; None where it has none."""
+    g = geom.difference(e.geometry) if layer == e.layer else geom
+    if not g.is_empty and g.area > 1e-6:
+        return g
+    return None
+
+
+def _box_mask(geom: BaseGeometry, boxes: np.ndarray) -> np.ndarray:
+    """Which of ``boxes`` (rows x0, y0, x1, y1) meet the box of ``geom``, edges included (as ``bbox_overlap``)."""
+    if geom.is_empty:
+        return np.zeros(len(boxes), dtype=bool)
+    x0, y0, x1, y1 = geom.bounds
+    return (boxes[:, 0] <= x1) & (x0 <= boxes[:, 2]) & (boxes[:, 1] <= y1) & (y0 <= boxes[:, 3])
 
 
 def _sensor_copper(design: Design, s: Sensor, layer: str) -> BaseGeometry:
