@@ -311,15 +311,15 @@ def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
         return []
     pieces = _polys(region)
     out: list[BaseGeometry] = []
-    copper: BaseGeometry | None = None
     for members in _cluster_pieces(pieces, CLUSTER_MERGE_MM):
-        mine = _union(pieces[i] for i in members)
-        hull = mine.convex_hull
+        # the pieces of one overlay result never overlap: their hull needs no union first
+        mine = [pieces[i] for i in members]
+        hull = (mine[0] if len(mine) == 1 else MultiPolygon(mine)).convex_hull
         if _short_side(hull) < 2 * NODE_CORE_RADIUS_MM:
             continue  # the filled region lies inside the hull: no room for the core disc
-        if copper is None:
-            copper = _union([tx_c, rx_c])
-        fill = _union([mine, _area_only(copper.intersection(hull))])
+        # the copper inside the hull, net by net (each clipped to the small hull first): the same
+        # set as the union of both nets' copper cut by the hull, without that large union
+        fill = _union([*mine, _area_only(tx_c.intersection(hull)), _area_only(rx_c.intersection(hull))])
         if not _short_core(fill):
             continue
         footprint = hull.buffer(gap_mm, quad_segs=4)
