@@ -19,7 +19,6 @@ from sensorcheck.rules.common import (
     REFERENCE_ROLES,
     SELF_KINDS,
     aggressor_kind,
-    bbox_overlap,
     finding,
     fmt,
     hole_nets,
@@ -37,6 +36,66 @@ from sensorcheck.rules.common import (
 )
 from sensorcheck.rules.engine import Param, Rule
 from sensorcheck.rules.finding import Finding, Severity
+
+
+class FeatureIndex:
+    """A board's dark copper features by layer and net, made once per rule run.
+
+    ``net(layer, net)`` is ``net_features(board, layer, [net])`` and ``trace(electrode)`` is
+    ``trace_features(board, electrode)`` (same features, same order), without a pass over the
+    whole layer per call; the electrode is shrunk for the containment test only when one of its
+    net's draws lies inside the electrode's box (a path inside the shrunk electrode lies inside
+    that box), and only those draws are tested.
+    """
+
+    def __init__(self, board: Board) -> None:
+        self.board = board
+        self._by: dict[str, dict[str | None, list[Feature]]] = {}
+        self._traces: dict[int, tuple[Electrode, dict[str, list[Feature]]]] = {}
+
+    def _layer(self, layer: str) -> dict[str | None, list[Feature]]:
+        got = self._by.get(layer)
+        if got is None:
+            got = {}
+            lay = self.board.layer(layer)
+            for f in lay.features if lay is not None else ():
+                if f.polarity == "dark":
+                    got.setdefault(f.net, []).append(f)
+            self._by[layer] = got
+        return got
+
+    def net(self, layer: str, net: str) -> list[Feature]:
+        return list(self._layer(layer).get(net, ()))
+
+    def trace(self, electrode: Electrode) -> dict[str, list[Feature]]:
+        hit = self._traces.get(id(electrode))
+        if hit is not None and hit[0] is electrode:
+            return hit[1]
+        out: dict[str, list[Feature]] = {}
+        for lay in self.board.copper_layers():
+            feats = [f for f in self._layer(lay.name).get(electrode.net, ()) if f.path is not None]
+            if lay.name == electrode.layer and feats:
+                inside = _paths_inside_box(feats, electrode.geometry)
+                if inside.any():
+                    shrunk = electrode.geometry.buffer(-1e-3)
+                    held = np.zeros(len(feats), dtype=bool)
+                    k = np.flatnonzero(inside)
+                    held[k] = shapely.contains(shrunk, np.array([feats[int(i)].path for i in k], dtype=object))
+                    feats = [f for f, h in zip(feats, held) if not h]
+            if feats:
+                out[lay.name] = feats
+        self._traces[id(electrode)] = (electrode, out)
+        return out
+
+
+def _paths_inside_box(feats: list[Feature], geom: BaseGeometry) -> np.ndarray:
+    """Which features' paths have a box inside the box of ``geom`` (edges included, 1e-9 mm slack)."""
+    if geom.is_empty:
+        return np.zeros(len(feats), dtype=bool)
+    x0, y0, x1, y1 = geom.bounds
+    b = shapely.bounds(np.array([f.path for f in feats], dtype=object)).reshape(-1, 4)
+    tol = 1e-9
+    return (b[:, 0] >= x0 - tol) & (b[:, 1] >= y0 - tol) & (b[:, 2] <= x1 + tol) & (b[:, 3] <= y1 + tol)
 
 
 def _other_electrodes(design: Design, s: Sensor) -> BaseGeometry:
@@ -734,6 +793,7 @@ class CrossingAngle(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
+        index = FeatureIndex(board)
         sensing = {e.net: s for s in design.sensors for e in s.electrodes}
         others: dict[str, dict[str, BaseGeometry]] = {}  # net -> layer -> paths
         traces: dict[str, dict[str, list[Feature]]] = {}  # sensing net -> its trace features per layer, once
@@ -743,45 +803,91 @@ class CrossingAngle(Rule):
                     if net in sensing:
                         if net not in traces:
                             e = next(e for e in sensing[net].electrodes if e.net == net)
-                            traces[net] = trace_features(board, e)
+                            traces[net] = index.trace(e)
                         feats = traces[net].get(lay.name, [])
                     else:
-                        feats = net_features(board, lay.name, [net])
+                        feats = index.net(lay.name, net)
                     p = paths(feats)
                     if not p.is_empty:
                         others.setdefault(net, {})[lay.name] = p
-        segs: dict[tuple[str, str], _Segs] = {}  # (net, layer) -> segments, made once per run of the rule
-
-        def seg(net: str, layer: str, geom: BaseGeometry) -> _Segs:
-            if (net, layer) not in segs:
-                segs[net, layer] = _Segs.of(geom)
-            return segs[net, layer]
-
+        # the shallowest crossing of every (sensing net, layer) with every (net, other layer), all at once
+        shallowest = _shallowest_crossings(others, set(sensing))
         for s in design.sensors:
             for e in s.electrodes:
-                for layer, path in sorted(others.get(e.net, {}).items()):
-                    for net, by_layer in sorted(others.items()):
+                for layer in sorted(others.get(e.net, {})):
+                    for (net, olayer), (ang, pt) in sorted(shallowest.get((e.net, layer), {}).items()):
                         if net == e.net or (net in sensing and sensing[net] is s):
                             continue
-                        for olayer, opath in sorted(by_layer.items()):
-                            if olayer == layer:
-                                continue
-                            if not bbox_overlap(path, opath):
-                                continue  # no crossing possible
-                            crossings = _crossings(seg(e.net, layer, path), seg(net, olayer, opath))
-                            if not crossings:
-                                continue
-                            ang, pt = min(crossings)
-                            if ang >= params["min_angle_deg"]:
-                                continue
-                            yield finding(
-                                "warning",
-                                f"trace of {e.net} on {layer} crosses {net} on {olayer} at {fmt(ang, 1)} deg; "
-                                f"limit {fmt(params['min_angle_deg'], 0)} deg",
-                                value=ang, limit=params["min_angle_deg"], unit="deg", layer=layer, point=pt,
-                                nets=(e.net, net), sensor=s.name,
-                                source=source_near(net_features(board, layer, [e.net]), Point(pt)),
-                            )
+                        if ang >= params["min_angle_deg"]:
+                            continue
+                        yield finding(
+                            "warning",
+                            f"trace of {e.net} on {layer} crosses {net} on {olayer} at {fmt(ang, 1)} deg; "
+                            f"limit {fmt(params['min_angle_deg'], 0)} deg",
+                            value=ang, limit=params["min_angle_deg"], unit="deg", layer=layer, point=pt,
+                            nets=(e.net, net), sensor=s.name,
+                            source=source_near(index.net(layer, e.net), Point(pt)),
+                        )
+
+
+def _all_segments(geoms: list[BaseGeometry]) -> tuple[np.ndarray, np.ndarray]:
+    """The straight segments of every geometry's lines, as ``_segments`` gives them (zero-length ones left out).
+
+    Returns the end points (n x 2 x 2) and the index of the geometry each segment belongs to.
+    """
+    if not geoms:
+        return np.empty((0, 2, 2)), np.empty(0, dtype=np.intp)
+    parts, part_of = shapely.get_parts(np.array(geoms, dtype=object), return_index=True)
+    lines = shapely.get_type_id(parts) == 1  # LineString parts only (as _segments)
+    parts, part_of = parts[lines], part_of[lines]
+    xy, line_of = shapely.get_coordinates(parts, return_index=True)
+    same = line_of[:-1] == line_of[1:]  # consecutive points of one line
+    moves = (xy[:-1] != xy[1:]).any(axis=1)
+    k = np.flatnonzero(same & moves)
+    ends = np.stack([xy[k], xy[k + 1]], axis=1)
+    return ends, part_of[line_of[k]]
+
+
+def _shallowest_crossings(
+    paths_of: Mapping[str, Mapping[str, BaseGeometry]], sensing: set[str],
+) -> dict[tuple[str, str], dict[tuple[str, str], tuple[float, tuple[float, float]]]]:
+    """For every sensing (net, layer) and every (other net, other layer) whose centre lines cross, the crossing
+    ``min`` picks from ``crossing_angles`` of the two (smallest angle, then point)."""
+    keys = [(net, layer) for net in sorted(paths_of) for layer in sorted(paths_of[net])]
+    ends, key_of = _all_segments([paths_of[n][la] for n, la in keys])
+    out: dict[tuple[str, str], dict[tuple[str, str], tuple[float, tuple[float, float]]]] = {}
+    if len(ends) == 0:
+        return out
+    lines = shapely.linestrings(ends)
+    layer_ids = {la: i for i, la in enumerate(sorted({la for _, la in keys}))}
+    net_ids = {n: i for i, n in enumerate(sorted(paths_of))}
+    seg_layer = np.array([layer_ids[la] for _, la in keys], dtype=np.intp)[key_of]
+    seg_net = np.array([net_ids[n] for n, _ in keys], dtype=np.intp)[key_of]
+    seg_sensing = np.array([n in sensing for n, _ in keys], dtype=bool)[key_of]
+    for lb, jb in layer_ids.items():
+        on_b = np.flatnonzero(seg_layer == jb)
+        from_a = np.flatnonzero(seg_sensing & (seg_layer != jb))
+        if len(on_b) == 0 or len(from_a) == 0:
+            continue
+        qa, tb = shapely.STRtree(lines[on_b]).query(lines[from_a], predicate="intersects")
+        ia, ib = from_a[qa], on_b[tb]
+        keep = seg_net[ia] != seg_net[ib]
+        ia, ib = ia[keep], ib[keep]
+        if len(ia) == 0:
+            continue
+        xs = shapely.intersection(lines[ia], lines[ib])
+        ok = (shapely.get_type_id(xs) == 0) & ~shapely.is_empty(xs)
+        pts = shapely.get_coordinates(xs[ok])
+        for (i, j), (x, y) in zip(zip(ia[ok].tolist(), ib[ok].tolist()), pts.tolist()):
+            (px, py), (qx, qy) = ends[i].tolist()
+            (rx, ry), (tx, ty) = ends[j].tolist()
+            d = abs(math.degrees(math.atan2(qy - py, qx - px) - math.atan2(ty - ry, tx - rx))) % 180.0
+            c = (min(d, 180.0 - d), (x, y))
+            by = out.setdefault(keys[key_of[i]], {})
+            kb = keys[key_of[j]]
+            if kb not in by or c < by[kb]:
+                by[kb] = c
+    return out
 
 
 RULES: tuple[type[Rule], ...] = (
