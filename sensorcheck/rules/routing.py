@@ -145,22 +145,34 @@ class ForeignCopperInZone(Rule):
         for lay in design.board.copper_layers():
             names = sorted(n for n, g in lay.by_net.items() if not g.is_empty)
             layers.append((lay, names, shapely.STRtree([lay.by_net[n] for n in names])))
+        skip = REFERENCE_ROLES | {"aggressor"}
+        judged = {n: not (is_floating_id(n) or role(design, n) in skip) for _, names, _ in layers for n in names}
         for s in design.sensors:
             own = set(s.nets)
-            outline = self.cache.outline(s)
-            # other sensors' electrodes whose box meets the zone's: the rest cannot touch it
-            others_el = union(els[int(i)][1] for i in sorted(el_tree.query(s.zone)) if els[int(i)][0] is not s)
+            others_el: BaseGeometry | None = None
+            zone_ready = False
             for lay, names, tree in layers:
-                for net in sorted(names[int(i)] for i in tree.query(s.zone)):
+                nets = [n for n in sorted(names[int(i)] for i in tree.query(s.zone)) if n not in own and judged[n]]
+                if not nets:
+                    continue
+                if not zone_ready:
+                    shapely.prepare(s.zone)
+                    zone_ready = True
+                # copper that does not touch the zone has nothing inside it: only the rest is clipped
+                meets = shapely.intersects(s.zone, np.array([lay.by_net[n] for n in nets], dtype=object))
+                for net in (n for n, m in zip(nets, meets) if m):
                     geom = lay.by_net[net]
-                    if net in own or is_floating_id(net) or role(design, net) in REFERENCE_ROLES | {"aggressor"}:
-                        continue
                     inside = geom.intersection(s.zone)
+                    if inside.is_empty:
+                        continue
+                    if others_el is None:
+                        # other sensors' electrodes whose box meets the zone's: the rest cannot touch it
+                        others_el = union(els[int(i)][1] for i in sorted(el_tree.query(s.zone)) if els[int(i)][0] is not s)
                     if not others_el.is_empty:
                         inside = inside.difference(others_el)
                     if inside.is_empty or inside.area < params["min_area_mm2"]:
                         continue
-                    under = inside.intersection(outline)
+                    under = inside.intersection(self.cache.outline(s))
                     src = source_near(net_features(design.board, lay.name, [net]), inside)
                     if not under.is_empty and under.area >= params["min_area_mm2"]:
                         yield finding(
