@@ -183,16 +183,38 @@ def split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry]
 
 
 def _net_copper(board: Board, net: str, except_layer: str | None = None,
-                minus: BaseGeometry | None = None) -> dict[str, BaseGeometry]:
-    """The net's copper per layer, optionally without ``minus`` on ``except_layer``."""
+                minus: BaseGeometry | None = None, by_part: bool = False) -> dict[str, BaseGeometry]:
+    """The net's copper per layer, optionally without ``minus`` on ``except_layer``.
+
+    ``by_part``: only the net's polygons whose box meets the box of ``minus`` are cut, the others
+    are kept as they are (the same set, without noding all of the net's copper against ``minus``).
+    """
     out: dict[str, BaseGeometry] = {}
     for la in net_layers(board, net):
         g = la.by_net[net]
         if la.name == except_layer and minus is not None:
-            g = _area_only(g.difference(minus))
+            g = _minus_by_part(g, minus) if by_part else _area_only(g.difference(minus))
         if not g.is_empty:
             out[la.name] = g
     return out
+
+
+def _minus_by_part(geom: BaseGeometry, minus: BaseGeometry) -> BaseGeometry:
+    """``geom`` without ``minus``, cutting only the polygons of ``geom`` whose box meets that of ``minus``."""
+    parts = _polys(geom)
+    if len(parts) < 2 or minus.is_empty:
+        return _area_only(geom.difference(minus))
+    mx0, my0, mx1, my1 = minus.bounds
+    b = shapely.bounds(parts)
+    meets = (b[:, 0] <= mx1) & (mx0 <= b[:, 2]) & (b[:, 1] <= my1) & (my0 <= b[:, 3])
+    if meets.all():
+        return _area_only(geom.difference(minus))
+    keep: list[Polygon] = []
+    for p, m in zip(parts, meets.tolist()):
+        keep.extend(_polys(p.difference(minus)) if m else [p])
+    if not keep:
+        return _empty()
+    return keep[0] if len(keep) == 1 else MultiPolygon(keep)
 
 
 def self_electrode(board: Board, net: str, role: Role, face: str, notes: list[str]) -> Electrode | None:
@@ -310,8 +332,16 @@ def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
     if region.is_empty:
         return []
     pieces = _polys(region)
+    boxes = shapely.bounds(pieces)
     out: list[BaseGeometry] = []
     for members in _cluster_pieces(pieces, CLUSTER_MERGE_MM):
+        # the shorter side of the smallest rectangle around the cluster is at most the square root
+        # of its area, which is at most the area of the cluster's box: a box under 12 mm2 (the core
+        # needs 3.5 x 3.5 = 12.25) decides without the hull (a crossing of two traces on two layers)
+        bx = boxes[members]
+        box_area = (bx[:, 2].max() - bx[:, 0].min()) * (bx[:, 3].max() - bx[:, 1].min())
+        if box_area < 0.98 * (2 * NODE_CORE_RADIUS_MM) ** 2:
+            continue
         # the pieces of one overlay result never overlap: their hull needs no union first
         mine = [pieces[i] for i in members]
         hull = (mine[0] if len(mine) == 1 else MultiPolygon(mine)).convex_hull
@@ -319,12 +349,14 @@ def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
             continue  # the filled region lies inside the hull: no room for the core disc
         # the copper inside the hull, net by net (each clipped to the small hull first): the same
         # set as the union of both nets' copper cut by the hull, without that large union
-        fill = _union([*mine, _area_only(tx_c.intersection(hull)), _area_only(rx_c.intersection(hull))])
+        tx_in, rx_in = _area_only(tx_c.intersection(hull)), _area_only(rx_c.intersection(hull))
+        fill = _union([*mine, tx_in, rx_in])
         if not _short_core(fill):
             continue
         footprint = hull.buffer(gap_mm, quad_segs=4)
-        if (tx_c.intersection(footprint).area < MIN_NODE_COPPER_MM2
-                or rx_c.intersection(footprint).area < MIN_NODE_COPPER_MM2):
+        # the footprint holds the hull: copper enough in the hull is copper enough in the footprint
+        if ((tx_in.area < MIN_NODE_COPPER_MM2 and tx_c.intersection(footprint).area < MIN_NODE_COPPER_MM2)
+                or (rx_in.area < MIN_NODE_COPPER_MM2 and rx_c.intersection(footprint).area < MIN_NODE_COPPER_MM2)):
             continue
         out.append(footprint)
     return out
@@ -413,7 +445,7 @@ def node_electrodes(board: Board, node_tx: Sequence[tuple[str, str]], node_rx: S
         # the rest of the net is its copper outside the footprint: the same set as its copper
         # minus the electrode, at the cost of a difference with a simple outline
         out.append(Electrode(net=net, role=role, layer=layer_name, geometry=geom,  # type: ignore[arg-type]
-                             trace=_net_copper(board, net, layer_name, footprint)))
+                             trace=_net_copper(board, net, layer_name, footprint, by_part=True)))
     return out
 
 
