@@ -601,17 +601,29 @@ class AggressorParallel(Rule):
                             )
 
 
-def _net_trace_paths(board: Board, electrodes: list[Electrode]) -> dict[str, BaseGeometry]:
-    """Centre lines of a net's draws outside ALL of its electrodes (a net can be in several sensors), per layer."""
+def _net_trace_paths(index: FeatureIndex, electrodes: list[Electrode]) -> dict[str, BaseGeometry]:
+    """Centre lines of a net's draws outside ALL of its electrodes (a net can be in several sensors), per layer.
+
+    A draw is left out when it lies inside an electrode shrunk by 1 um; an electrode is only shrunk
+    when some draw lies inside its box (as it must to lie inside the shrunk electrode).
+    """
     out: dict[str, BaseGeometry] = {}
     by_layer: dict[str, list[BaseGeometry]] = {}
     for e in electrodes:
-        by_layer.setdefault(e.layer, []).append(e.geometry.buffer(-1e-3))
+        by_layer.setdefault(e.layer, []).append(e.geometry)
     net = electrodes[0].net
-    for lay in board.copper_layers():
-        feats = [f for f in net_features(board, lay.name, [net]) if f.path is not None]
-        for shrunk in by_layer.get(lay.name, []):
-            feats = [f for f in feats if not shrunk.contains(f.path)]
+    for lay in index.board.copper_layers():
+        feats = [f for f in index.net(lay.name, net) if f.path is not None]
+        for geom in by_layer.get(lay.name, []):
+            if not feats:
+                break
+            inside = _paths_inside_box(feats, geom)
+            if inside.any():
+                shrunk = geom.buffer(-1e-3)
+                held = np.zeros(len(feats), dtype=bool)
+                k = np.flatnonzero(inside)
+                held[k] = shapely.contains(shrunk, np.array([feats[int(i)].path for i in k], dtype=object))
+                feats = [f for f, h in zip(feats, held) if not h]
         p = paths(feats)
         if not p.is_empty:
             out[lay.name] = p
@@ -664,6 +676,7 @@ class RxParallelTx(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
+        index = FeatureIndex(board)
         dist, limit = params["parallel_distance_mm"], params["max_parallel_mm"]
         rx_in: dict[str, list[Sensor]] = {}  # net -> sensors it is a receiver of (design order)
         tx_in: dict[str, list[Sensor]] = {}
@@ -684,7 +697,7 @@ class RxParallelTx(Rule):
         tx_near = shapely.buffer(np.array(tx_cu, dtype=object), dist)
         tree = shapely.STRtree(tx_near)
         for rx in sorted(rx_el):
-            for layer, path in sorted(_net_trace_paths(board, rx_el[rx]).items()):
+            for layer, path in sorted(_net_trace_paths(index, rx_el[rx]).items()):
                 for j in sorted(int(k) for k in tree.query(path)):
                     tx = tx_nets[j]
                     a_set, b_set = rx_in[rx], tx_in[tx]
@@ -712,7 +725,7 @@ class RxParallelTx(Rule):
                     yield finding(
                         sev, what, value=length, limit=limit, unit="mm", layer=layer, geom=longest,
                         nets=(rx, tx), sensor=a.name,
-                        source=source_near(net_features(board, layer, [rx]), longest),
+                        source=source_near(index.net(layer, rx), longest),
                     )
 
 
