@@ -199,6 +199,22 @@ def _net_copper(board: Board, net: str, except_layer: str | None = None,
     return out
 
 
+def _and_by_part(geom: BaseGeometry, other: BaseGeometry) -> BaseGeometry:
+    """``geom`` cut by ``other``, taking only the polygons of ``geom`` whose box meets that of ``other``."""
+    parts = _polys(geom)
+    if len(parts) < 2 or other.is_empty:
+        return _area_only(geom.intersection(other))
+    ox0, oy0, ox1, oy1 = other.bounds
+    b = shapely.bounds(parts)
+    meets = (b[:, 0] <= ox1) & (ox0 <= b[:, 2]) & (b[:, 1] <= oy1) & (oy0 <= b[:, 3])
+    if meets.all():
+        return _area_only(geom.intersection(other))
+    hit = [p for p, m in zip(parts, meets.tolist()) if m]
+    if not hit:
+        return _empty()
+    return _area_only((hit[0] if len(hit) == 1 else MultiPolygon(hit)).intersection(other))
+
+
 def _minus_by_part(geom: BaseGeometry, minus: BaseGeometry) -> BaseGeometry:
     """``geom`` without ``minus``, cutting only the polygons of ``geom`` whose box meets that of ``minus``."""
     parts = _polys(geom)
@@ -307,12 +323,13 @@ def _window(a: BaseGeometry, b: BaseGeometry, grow: float) -> tuple[float, float
 
 
 def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
-                 tx_buffer: BaseGeometry | None = None, rx_buffer: BaseGeometry | None = None) -> list[BaseGeometry]:
+                 tx_buffer: BaseGeometry | None = None, rx_buffer: BaseGeometry | None = None,
+                 near: bool = False) -> list[BaseGeometry]:
     """Footprints where ``tx_geom`` and ``rx_geom`` (projected onto one plane) form a node.
 
     Both (and their buffers by the gap, when the caller has them) are clipped to where their
     boxes overlap before anything else, so a long TX line crossing many RX lines costs only
-    its crossings.
+    its crossings.  ``near``: the caller knows the two are within the gap of each other.
     """
     if tx_geom.is_empty or rx_geom.is_empty:
         return []
@@ -324,7 +341,9 @@ def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
     box_ = (x0 - big, y0 - big, x1 + big, y1 + big)
     tx_c = _area_only(shapely.clip_by_rect(tx_geom, *box_))
     rx_c = _area_only(shapely.clip_by_rect(rx_geom, *box_))
-    if tx_c.is_empty or rx_c.is_empty or not shapely.dwithin(tx_c, rx_c, gap_mm):
+    # the points where the two come within the gap lie in the window, so the clipped copper is
+    # as near as the whole copper
+    if tx_c.is_empty or rx_c.is_empty or not (near or shapely.dwithin(tx_c, rx_c, gap_mm)):
         return []
     tb = shapely.clip_by_rect(tx_buffer, *box_) if tx_buffer is not None else tx_c.buffer(gap_mm, quad_segs=4)
     rb = shapely.clip_by_rect(rx_buffer, *box_) if rx_buffer is not None else rx_c.buffer(gap_mm, quad_segs=4)
@@ -369,6 +388,7 @@ class NodeCache:
     pairs: dict[tuple[str, str], list[Node]] = field(default_factory=dict)
     geo: dict[tuple[str, str], BaseGeometry | None] = field(default_factory=dict)
     buffers: dict[tuple[str, str, float], BaseGeometry] = field(default_factory=dict)
+    boxes: dict[tuple[str, str], tuple[float, float, float, float]] = field(default_factory=dict)
 
 
 def find_nodes(board: Board, tx_nets: Sequence[str], rx_nets: Sequence[str],
@@ -396,6 +416,12 @@ def find_nodes(board: Board, tx_nets: Sequence[str], rx_nets: Sequence[str],
             c.buffers[key] = g.buffer(gap, quad_segs=2)
         return c.buffers[key]
 
+    def box(net: str, layer: str) -> tuple[float, float, float, float]:
+        key = (net, layer)
+        if key not in c.boxes:
+            c.boxes[key] = c.geo[key].bounds  # type: ignore[union-attr]
+        return c.boxes[key]
+
     for rx in rx_nets:
         for tx in tx_nets:
             if (tx, rx) in c.pairs:
@@ -405,14 +431,18 @@ def find_nodes(board: Board, tx_nets: Sequence[str], rx_nets: Sequence[str],
                 rg = geo(rx, rl)
                 if rg is None:
                     continue
+                rx0, ry0, rx1, ry1 = box(rx, rl.name)
                 for tl in layers:
                     tg = geo(tx, tl)
                     if tg is None:
                         continue
                     gap = FACING_GAP_MM if tl is rl else CROSS_LAYER_GAP_MM
-                    if _window(tg, rg, gap) is None or not shapely.dwithin(tg, rg, gap):
+                    tx0, ty0, tx1, ty1 = box(tx, tl.name)
+                    # the boxes grown by the gap must meet (as _window), then the copper itself
+                    if (max(tx0, rx0) - min(tx1, rx1) > 2 * gap or max(ty0, ry0) - min(ty1, ry1) > 2 * gap
+                            or not shapely.dwithin(tg, rg, gap)):
                         continue
-                    for fp in facing_nodes(tg, rg, gap, buf(tx, tl.name, gap), buf(rx, rl.name, gap)):
+                    for fp in facing_nodes(tg, rg, gap, buf(tx, tl.name, gap), buf(rx, rl.name, gap), near=True):
                         found.append(Node(tx=tx, rx=rx, tx_layer=tl.name, rx_layer=rl.name, footprint=fp))
             c.pairs[(tx, rx)] = _merge_same_pair(found)
     return [n for rx in rx_nets for tx in tx_nets for n in c.pairs[(tx, rx)]]
@@ -439,7 +469,7 @@ def node_electrodes(board: Board, node_tx: Sequence[tuple[str, str]], node_rx: S
         la = board.layer(layer_name)
         if la is None or net not in la.by_net:
             continue
-        geom = _area_only(la.by_net[net].intersection(footprint))
+        geom = _and_by_part(la.by_net[net], footprint)
         if geom.is_empty:
             continue
         # the rest of the net is its copper outside the footprint: the same set as its copper
