@@ -8,7 +8,7 @@ from typing import Any
 import shapely
 
 from sensorcheck.design.model import Design
-from sensorcheck.rules.common import finding, fmt, ground_copper, require_role
+from sensorcheck.rules.common import finding, fmt, require_role, union
 from sensorcheck.rules.engine import Param, Rule
 from sensorcheck.rules.finding import Finding
 
@@ -53,7 +53,12 @@ class ReceiverVsGround(Rule):
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         if any(s.electrodes_with("receiver") for s in design.sensors):
             require_role(design, "ground")
-        grounds = {lay.name: ground_copper(design, lay.name) for lay in design.board.copper_layers()}  # once per run
+        # every ground net's copper per layer, with its box, once per run; no layer-wide union: a
+        # window's pieces are merged only when two ground nets reach into it
+        ground_nets = design.ground_nets()
+        grounds = {lay.name: [(g, g.bounds) for n in ground_nets
+                              if (g := lay.by_net.get(n)) is not None and not g.is_empty]
+                   for lay in design.board.copper_layers()}
         for s in design.sensors:
             rxs = s.electrodes_with("receiver")
             if not rxs:
@@ -65,11 +70,13 @@ class ReceiverVsGround(Rule):
             outline = self.cache.outline(s)
             window = self.cache.grown(s, params["surround_mm"])
             gnd_area = 0.0
+            x0, y0, x1, y1 = box = window.bounds
             for lay in design.board.copper_layers():
-                g = grounds[lay.name]
-                if g.is_empty:
+                pieces = [_clip_to_box(g, box) for g, (a0, b0, a1, b1) in grounds[lay.name]
+                          if a0 <= x1 and x0 <= a1 and b0 <= y1 and y0 <= b1]
+                if not pieces:
                     continue
-                near = _clip_to_box(g, window.bounds).intersection(window)
+                near = (pieces[0] if len(pieces) == 1 else union(pieces)).intersection(window)
                 gnd_area += (near.difference(outline) if lay.name == s.layer else near).area
             # the hull of the pieces is the hull of their union (no union needed)
             footprint = shapely.GeometryCollection(
