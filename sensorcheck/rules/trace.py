@@ -12,7 +12,6 @@ from sensorcheck.rules.common import (
     VIA_DIAMETER_PARAM,
     finding,
     fmt,
-    hole_nets,
     is_via,
     layer_separation,
     net_features,
@@ -24,6 +23,7 @@ from sensorcheck.rules.common import (
 )
 from sensorcheck.rules.engine import Param, Rule
 from sensorcheck.rules.finding import Finding
+from sensorcheck.rules.routing import FeatureIndex, board_hole_nets
 
 
 def _channels(design: Design) -> Iterable[tuple[Any, Electrode]]:
@@ -69,8 +69,9 @@ class TraceWidth(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         fab_min = design.config.fabrication.get("min_width_mm")
+        index = FeatureIndex(design.board)
         for s, e in _channels(design):
-            for layer, feats in sorted(trace_features(design.board, e).items()):
+            for layer, feats in sorted(index.trace(e).items()):
                 widths = [f for f in feats if f.width_mm is not None]
                 if not widths:
                     continue
@@ -124,8 +125,9 @@ class TraceLength(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        index = FeatureIndex(design.board)
         for s, e in _channels(design):
-            feats = trace_features(design.board, e)
+            feats = index.trace(e)
             total = sum(paths(fs).length for fs in feats.values())
             if total > params["max_length_mm"]:
                 layer = max(feats, key=lambda k: paths(feats[k]).length)
@@ -139,7 +141,7 @@ class TraceLength(Rule):
 
 
 def _net_vias(design: Design, net: str, max_via_diameter_mm: float, nets_of: dict[int, str | None] | None = None) -> list[Any]:
-    nets_of = nets_of if nets_of is not None else hole_nets(design)
+    nets_of = nets_of if nets_of is not None else board_hole_nets(design)
     return [h for i, h in enumerate(design.board.holes) if nets_of[i] == net and is_via(h, max_via_diameter_mm)]
 
 
@@ -173,9 +175,13 @@ class ViaCount(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
-        nets_of = hole_nets(design)
+        nets_of = board_hole_nets(design)
+        by_net: dict[str | None, list[Any]] = {}  # every via by net, in hole order, once per run
+        for i, h in enumerate(design.board.holes):
+            if is_via(h, params["max_via_diameter_mm"]):
+                by_net.setdefault(nets_of[i], []).append(h)
         for s, e in _channels(design):
-            vias = _net_vias(design, e.net, params["max_via_diameter_mm"], nets_of)
+            vias = by_net.get(e.net, [])
             if len(vias) > params["max_vias"]:
                 v = vias[0]
                 yield finding(
@@ -314,7 +320,7 @@ class ParasiticBudget(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         limit = float(design.config.controller["max_parasitic_pf"])
-        nets_of = hole_nets(design)
+        nets_of = board_hole_nets(design)
         for s, e in _channels(design):
             est = estimates.get(s.name)
             if est is not None and est.parasitic_pf is not None:
