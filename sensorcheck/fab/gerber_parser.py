@@ -12,6 +12,9 @@ What this subclass changes, each pinned by a test in tests/fab/test_gerber_parse
 * AB (block apertures) are implemented: a block is captured and every flash of it places copies;
   blocks flashed inside a block stay flashes until the outer block is placed, and each block
   knows how many objects it places, so a nested-block bomb is refused before anything is copied;
+* the objects made by copying (block flashes, step-and-repeat) are counted against
+  ``limits.max_expanded_objects`` before they are made: a file of a few bytes cannot place
+  millions of objects whose geometry would take minutes (``ParseResult.expanded_objects``);
 * a file without M02 is refused as truncated; incremental notation, conflicting units, a missing
   unit or coordinate format, unknown statements and binary data are refused with the line;
 * aperture macros are parsed by our own small parser (gerbonara's goes through ``ast`` for every
@@ -316,6 +319,8 @@ class ParseResult:
     file_attributes: dict[str, list[str]]
     warnings: list[str] = field(default_factory=list)
     comments: list[str] = field(default_factory=list)
+    #: objects made by copying (block flashes, step-and-repeat), held to limits.max_expanded_objects
+    expanded_objects: int = 0
 
 
 class SensorcheckGraphicsState(GraphicsState):
@@ -392,6 +397,9 @@ class SensorcheckGerberParser(GerberParser):
         # for aperture.expanded_count objects: this is the sum of (count - 1) over them, so that
         # len(target.objects) + sc_extra is the object count after expansion
         self.sc_extra = 0
+        # objects made by copying so far (block flashes placed, step-and-repeat copies), held to
+        # limits.max_expanded_objects before each copy is made
+        self.sc_expanded = 0
         self.sc_region_line: int | None = None
 
     # ---- errors and warnings -------------------------------------------------------------
@@ -463,6 +471,22 @@ class SensorcheckGerberParser(GerberParser):
         return LimitError(self.sc_name, self.lineno, f"more than {limit} graphical objects",
                           "at most limits.max_gerber_objects objects")
 
+    def _count_expanded(self, made: int, what: str, line: int) -> None:
+        """Add ``made`` copies to the file's expansion count, or refuse before they are made.
+
+        Amplification is what makes a bomb: a few bytes of AB/SR placing many objects, whose
+        geometry then takes minutes. An honest layer written out object by object is not counted.
+        """
+        limit = self.sc_limits.max_expanded_objects
+        if self.sc_expanded + made > limit:
+            raise LimitError(
+                self.sc_name, line,
+                f"{what}: {self.sc_expanded + made} objects made by block flashes and step-and-repeat, "
+                f"more than limits.max_expanded_objects = {limit}",
+                f"at most {limit} objects made by AB flashes and SR copies (a genuine file: raise "
+                f"max_expanded_objects in the [limits] table of sensorcheck.toml)")
+        self.sc_expanded += made
+
     def _tag_new(self, start: int) -> None:
         """Give objects made by the last command their line, transformation and block expansion."""
         objects = self.target.objects
@@ -487,6 +511,10 @@ class SensorcheckGerberParser(GerberParser):
                             self.sc_extra += count - 1
                             i += 1
                             continue
+                        # the flash statement is one object of the file; the other count - 1 are made
+                        self._count_expanded(max(count - 1, 0), f"flash of block aperture "
+                                             f"D{obj.aperture.original_number} placing {count} objects",
+                                             self.lineno)
                         copies = self._place_block(obj)
                         objects[i:i + 1] = copies
                         i += len(copies)
@@ -587,6 +615,10 @@ class SensorcheckGerberParser(GerberParser):
         if len(objects) + self.sc_extra - weight + total > self.sc_limits.max_gerber_objects:
             raise LimitError(self.sc_name, line, f"step-and-repeat expands to {total} objects",
                              "at most limits.max_gerber_objects objects in the file")
+        # the copies made here, also inside a block definition (they are made now, and a block
+        # flashed inside it stays one object until the block is placed, counted then)
+        self._count_expanded((x * y - 1) * len(block), f"step-and-repeat of {x * y} copies of "
+                             f"{len(block)} object{'' if len(block) == 1 else 's'}", line)
         self.sc_extra += (x * y - 1) * (weight - len(block))
         del objects[start:]
         for nx in range(x):
@@ -789,4 +821,5 @@ def parse_gerber_text(text: str, name: str, limits: Limits = DEFAULT_LIMITS) -> 
     attrs = {k: list(v) for k, v in parser.file_attrs.items()}
     decimals = parser.file_settings.number_format[1] or 6
     resolution_mm = 10.0**-decimals * (25.4 if units == "inch" else 1.0)
-    return ParseResult(target, units, resolution_mm, attrs, parser.sc_warnings, list(target.comments))
+    return ParseResult(target, units, resolution_mm, attrs, parser.sc_warnings, list(target.comments),
+                       expanded_objects=parser.sc_expanded)
