@@ -481,10 +481,10 @@ class SensorcheckGerberParser(GerberParser):
         if self.sc_expanded + made > limit:
             raise LimitError(
                 self.sc_name, line,
-                f"{what}: {self.sc_expanded + made} objects made by block flashes and step-and-repeat, "
-                f"more than limits.max_expanded_objects = {limit}",
-                f"at most {limit} objects made by AB flashes and SR copies (a genuine file: raise "
-                f"max_expanded_objects in the [limits] table of sensorcheck.toml)")
+                f"{what} would bring the objects made by copying (AB flashes, SR repeats) to "
+                f"{self.sc_expanded + made}, more than limits.max_expanded_objects = {limit}",
+                f"at most {limit} objects made by copying; for a genuine file, raise "
+                f"max_expanded_objects in the [limits] table of sensorcheck.toml")
         self.sc_expanded += made
 
     def _tag_new(self, start: int) -> None:

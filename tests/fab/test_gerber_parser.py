@@ -277,6 +277,101 @@ def test_step_and_repeat_inside_a_block_counts_the_blocks_it_flashes() -> None:
     assert "step-and-repeat expands to 6 objects" in info.value.message
 
 
+# --------------------------------------------------------------------------- objects made by copying
+
+# limits.max_expanded_objects counts the objects the reader makes by copying: a flash of a block
+# aperture placing N objects makes N - 1 (the flash statement itself is one object of the file), a
+# step-and-repeat of X x Y copies of a block of N objects makes (X*Y - 1) * N. Checked before the
+# copies are made, refused at the line of the flash or SR that would pass the limit.
+
+#: spec section 4.11.2 (AB) and 4.11.1 (SR). Line numbers, 1-based (HEAD is lines 1-2):
+#: 3 %ADD10C,0.2*%, 4-9 block D20 (three flashes at x = 0, 1, 2 mm), 10 D20*, 11 and 12 its flashes
+#: at (10, 0) and (20, 0) mm, 13 D10*, 14 %SRX2Y2I5J7*%, 15 the flash at (30, 0), 16 %SR*%.
+MIXED = ("%ADD10C,0.2*%\n%ABD20*%\nD10*\nX0Y0D03*\nX1000000Y0D03*\nX2000000Y0D03*\n%AB*%\n"
+         "D20*\nX10000000Y0D03*\nX20000000Y0D03*\nD10*\n%SRX2Y2I5J7*%\nX30000000Y0D03*\n%SR*%\n")
+
+
+def _expanded(text: str, limits: Limits) -> int:
+    from sensorcheck.fab.gerber_parser import parse_gerber_text
+
+    return parse_gerber_text(text, "t.gbr", limits).expanded_objects
+
+
+def test_objects_made_by_copying_just_under_the_limit_are_read() -> None:
+    # counted by hand: each D20 flash places 3 objects (makes 2): 4; the SR places 2 x 2 copies of
+    # one flash (makes 3): 7 in all. The image: the block at x = 10 + {0, 1, 2} and 20 + {0, 1, 2},
+    # and the SR flash at (30 + 5 i, 7 j) for i, j in {0, 1} (spec 4.11.1: I and J are the steps).
+    limits = Limits(max_expanded_objects=7)
+    assert _expanded(gbr(MIXED), limits) == 7
+    got = read_gerber(gbr(MIXED).encode(), "t.gbr", limits=limits)
+    assert got.object_count == 10
+    centres = sorted((round(f.geometry.centroid.x, 3), round(f.geometry.centroid.y, 3)) for f in got.features)
+    assert centres == sorted([(10.0, 0.0), (11.0, 0.0), (12.0, 0.0), (20.0, 0.0), (21.0, 0.0), (22.0, 0.0),
+                              (30.0, 0.0), (35.0, 0.0), (30.0, 7.0), (35.0, 7.0)])
+
+
+@pytest.mark.parametrize(("limit", "line", "what"), [
+    # 6: the two block flashes make 4, the SR's 3 more would make 7: refused at the SR line (14)
+    (6, 14, "step-and-repeat of 4 copies of 1 object would bring the objects made by copying (AB flashes, "
+            "SR repeats) to 7"),
+    # 3: the first D20 flash makes 2, the second 2 more: refused at the second flash (line 12)
+    (3, 12, "flash of block aperture D20 placing 3 objects would bring the objects made by copying "
+            "(AB flashes, SR repeats) to 4"),
+    # 1: the first flash already makes 2 (line 11)
+    (1, 11, "flash of block aperture D20 placing 3 objects would bring the objects made by copying "
+            "(AB flashes, SR repeats) to 2"),
+])
+def test_objects_made_by_copying_past_the_limit_are_refused_at_the_line(limit: int, line: int, what: str) -> None:
+    with pytest.raises(LimitError) as info:
+        read_gerber(gbr(MIXED).encode(), "t.gbr", limits=Limits(max_expanded_objects=limit))
+    err = info.value
+    assert (err.file, err.line) == ("t.gbr", line)
+    assert err.message == f"{what}, more than limits.max_expanded_objects = {limit}"
+    assert "max_expanded_objects" in (err.expected or "") and "[limits]" in (err.expected or "")
+    assert "sensorcheck.toml" in (err.expected or "")
+
+
+@pytest.mark.parametrize("top_flashes", [1, 2])
+def test_nested_blocks_count_what_each_outer_flash_places(top_flashes: int) -> None:
+    # the nested blocks above place 4 x 4 x 4 = 64 objects per outer flash (worked out by hand
+    # there): 63 made per outer flash. Exactly that is read; one less refuses the last outer flash.
+    text, flash_lines = nested_blocks(top_flashes)
+    made = 63 * top_flashes
+    assert _expanded(text, Limits(max_expanded_objects=made)) == made
+    assert read_gerber(text.encode(), "t.gbr", limits=Limits(max_expanded_objects=made)).object_count == 64 * top_flashes
+    with pytest.raises(LimitError) as info:
+        read_gerber(text.encode(), "t.gbr", limits=Limits(max_expanded_objects=made - 1))
+    assert info.value.line == flash_lines[-1]
+    assert "placing 64 objects" in info.value.message
+
+
+def test_step_and_repeat_inside_a_block_counts_its_copies_when_made_and_when_placed() -> None:
+    # D21 holds 3 copies of one flash, made when its SR (line 5) closes: 2 made; each flash of D21
+    # places those 3 (2 made each). One flash: 4 in all, read with a limit of 4; against 3 the
+    # flash of D21 (line 11) is refused; against 1 the SR inside the block (named by its line, 5).
+    body = "%ADD10C,0.2*%\n%ABD21*%\n%SRX3Y1I5J0*%\nD10*\nX0Y0D03*\n%SR*%\n%AB*%\nD21*\nX0Y0D03*\n"
+    text = gbr(body)
+    assert _expanded(text, Limits(max_expanded_objects=4)) == 4
+    got = read_gerber(text.encode(), "t.gbr", limits=Limits(max_expanded_objects=4))
+    assert sorted(round(f.geometry.centroid.x, 3) for f in got.features) == [0.0, 5.0, 10.0]
+    with pytest.raises(LimitError) as info:
+        read_gerber(text.encode(), "t.gbr", limits=Limits(max_expanded_objects=3))
+    assert info.value.line == 11
+    with pytest.raises(LimitError) as info:
+        read_gerber(text.encode(), "t.gbr", limits=Limits(max_expanded_objects=1))
+    assert info.value.line == 5 and info.value.message.startswith("step-and-repeat of 3 copies")
+
+
+def test_objects_written_out_one_by_one_are_not_counted() -> None:
+    # an honest file writes its objects out: 200 flashes and a region, none made by copying, are
+    # read under a limit of 1 (max_gerber_objects bounds such a file, not this limit)
+    body = "%ADD10C,0.2*%\nD10*\n" + "".join(f"X{mm(k)}Y0D03*\n" for k in range(200))
+    body += "G36*\nX0Y5000000D02*\nX1000000Y5000000D01*\nX1000000Y6000000D01*\nX0Y5000000D01*\nG37*\n"
+    limits = Limits(max_expanded_objects=1)
+    assert _expanded(gbr(body), limits) == 0
+    assert read_gerber(gbr(body).encode(), "t.gbr", limits=limits).object_count == 201
+
+
 # --------------------------------------------------------------------------- rectangle sweeps
 
 
