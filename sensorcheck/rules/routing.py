@@ -526,29 +526,35 @@ class AggressorNearSensor(Rule):
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
         aggressors = require_role(design, "aggressor")
+        index = FeatureIndex(board)
+        layers = board.copper_layers()
         for s in design.sensors:
-            outline = s.outline
+            sensor_layers = {e.layer for e in s.electrodes} | {k for e in s.electrodes for k in e.trace}
+            targets: dict[str, BaseGeometry] = {}  # layer -> the sensor's copper there (else its outline), once
+
+            def target(layer: str) -> BaseGeometry:
+                if layer not in targets:
+                    own = _sensor_copper(design, s, layer) if layer in sensor_layers else union([])
+                    targets[layer] = own if not own.is_empty else self.cache.outline(s)
+                return targets[layer]
+
             for net in aggressors:
                 kind = aggressor_kind(design, net) or "other"
                 limit = params["min_distance_led_mm"] if kind == "led" else params["min_distance_mm"]
-                worst: tuple[float, str, BaseGeometry, tuple[float, float]] | None = None
+                cu = [(lay.name, lay.by_net.get(net)) for lay in layers]
+                cu = [(name, ag) for name, ag in cu if ag is not None and not ag.is_empty]
+                # the first (layer, electrode) in order where the aggressor lies under an electrode of another
+                # layer; copper that does not touch the electrode has no overlap, so only the rest is cut
                 under_hit = None
-                for lay in board.copper_layers():
-                    ag = lay.by_net.get(net)
-                    if ag is None or ag.is_empty:
-                        continue
+                for name, ag in cu:
                     for e in s.electrodes:
-                        if e.layer != lay.name:
+                        if e.layer != name and _boxes_within(ag, e.geometry, 0.0) and ag.intersects(e.geometry):
                             ov = ag.intersection(e.geometry)
-                            if not ov.is_empty and ov.area > 1e-3 and under_hit is None:
-                                under_hit = (lay.name, ov, e)
-                    own = _sensor_copper(design, s, lay.name) if lay.name in {e.layer for e in s.electrodes} | {
-                        k for e in s.electrodes for k in e.trace} else union([])
-                    target = own if not own.is_empty else outline
-                    d = ag.distance(target)
-                    if worst is None or d < worst[0]:
-                        pa, pb = nearest_points(ag, target)
-                        worst = (d, lay.name, ag, midpoint(pa, pb))
+                            if not ov.is_empty and ov.area > 1e-3:
+                                under_hit = (name, ov, e)
+                                break
+                    if under_hit is not None:
+                        break
                 if under_hit is not None:
                     layer, ov, e = under_hit
                     yield finding(
@@ -556,9 +562,21 @@ class AggressorNearSensor(Rule):
                         f"{kind} net {net} has {fmt(ov.area, 2)} mm2 of copper on {layer} under the electrode {e.net} of "
                         f"{s.name} (limit: none under, {fmt(limit, 1)} mm away)",
                         value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov, nets=(net, e.net), sensor=s.name,
-                        source=source_near(net_features(board, layer, [net]), ov),
+                        source=source_near(index.net(layer, net), ov),
                     )
                     continue
+                # the closest layer (the first of the closest): a layer whose box is at least the limit away, or
+                # farther than the closest so far, cannot be it or be reported, and is not measured
+                worst: tuple[float, str, BaseGeometry, tuple[float, float]] | None = None
+                for name, ag in cu:
+                    tgt = target(name)
+                    gap = _box_gap(ag, tgt)
+                    if gap > limit + 1e-6 or (worst is not None and gap > worst[0] + 1e-6):
+                        continue
+                    d = ag.distance(tgt)
+                    if worst is None or d < worst[0]:
+                        pa, pb = nearest_points(ag, tgt)
+                        worst = (d, name, ag, midpoint(pa, pb))
                 if worst is not None and worst[0] < limit:
                     d, layer, ag, pt = worst
                     yield finding(
@@ -566,8 +584,17 @@ class AggressorNearSensor(Rule):
                         f"{kind} net {net} on {layer} is {fmt(d)} mm from {s.name}; keep at least {fmt(limit, 1)} mm "
                         "or put ground between (common practice)",
                         value=d, limit=limit, unit="mm", layer=layer, point=pt, geom=None, nets=(net, *s.nets),
-                        sensor=s.name, source=source_near(net_features(board, layer, [net]), Point(pt)),
+                        sensor=s.name, source=source_near(index.net(layer, net), Point(pt)),
                     )
+
+
+def _box_gap(a: BaseGeometry, b: BaseGeometry) -> float:
+    """Distance between the boxes of ``a`` and ``b``: never more than the distance between the two."""
+    if a.is_empty or b.is_empty:
+        return 0.0
+    ax0, ay0, ax1, ay1 = a.bounds
+    bx0, by0, bx1, by1 = b.bounds
+    return math.hypot(max(0.0, bx0 - ax1, ax0 - bx1), max(0.0, by0 - ay1, ay0 - by1))
 
 
 def _parallel_length(path: BaseGeometry, other: BaseGeometry, distance_mm: float) -> tuple[float, BaseGeometry]:
@@ -613,14 +640,28 @@ class AggressorParallel(Rule):
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
         aggressors = require_role(design, "aggressor")
+        index = FeatureIndex(board)
+        dist, limit = params["parallel_distance_mm"], params["max_parallel_mm"]
+        # each aggressor's copper on every layer and its zone within the distance, made once per run (and the
+        # zone only when a trace's box meets the copper's box grown by the distance, which holds the zone)
+        ag_all = {net: union(lay.by_net.get(net) for lay in board.copper_layers()) for net in aggressors}
+        near: dict[str, BaseGeometry] = {}
         for s in design.sensors:
             for e in s.electrodes:
-                tp = _trace_paths(design, e)
+                tp = {layer: paths(feats) for layer, feats in index.trace(e).items()}
                 for net in aggressors:
-                    ag_all = union(lay.by_net.get(net) for lay in board.copper_layers())
+                    other = ag_all[net]
                     for layer, path in sorted(tp.items()):
-                        length, piece = _parallel_length(path, ag_all, params["parallel_distance_mm"])
-                        if length > params["max_parallel_mm"]:
+                        if path.is_empty or other.is_empty:
+                            length, piece = 0.0, shapely.MultiLineString()  # as _parallel_length
+                        elif limit >= 0 and not _boxes_within(path, other, dist):
+                            continue  # nothing of the path within the distance: length 0, within the limit
+                        else:
+                            if net not in near:
+                                near[net] = other.buffer(dist)
+                            piece = path.intersection(near[net])
+                            length = piece.length
+                        if length > limit:
                             kind = aggressor_kind(design, net)
                             yield finding(
                                 "warning",
@@ -629,8 +670,17 @@ class AggressorParallel(Rule):
                                 f"{fmt(params['max_parallel_mm'], 1)} mm",
                                 value=length, limit=params["max_parallel_mm"], unit="mm", layer=layer, geom=piece,
                                 nets=(e.net, net), sensor=s.name,
-                                source=source_near(net_features(board, layer, [e.net]), piece),
+                                source=source_near(index.net(layer, e.net), piece),
                             )
+
+
+def _boxes_within(a: BaseGeometry, b: BaseGeometry, distance_mm: float) -> bool:
+    """May ``a`` come within ``distance_mm`` of ``b``?  False only when their boxes are farther apart than
+    that (with 1e-6 mm to spare for the buffer's rounding), so a False is a proof."""
+    ax0, ay0, ax1, ay1 = a.bounds
+    bx0, by0, bx1, by1 = b.bounds
+    g = distance_mm + 1e-6
+    return ax0 <= bx1 + g and bx0 - g <= ax1 and ay0 <= by1 + g and by0 - g <= ay1
 
 
 def _net_trace_paths(index: FeatureIndex, electrodes: list[Electrode]) -> dict[str, BaseGeometry]:
