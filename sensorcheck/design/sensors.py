@@ -281,8 +281,8 @@ def _short_side(geom: BaseGeometry) -> float:
     rect = geom.minimum_rotated_rectangle
     if not isinstance(rect, Polygon):
         return 0.0
-    xs, ys = rect.exterior.coords.xy
-    return min(math.hypot(xs[1] - xs[0], ys[1] - ys[0]), math.hypot(xs[2] - xs[1], ys[2] - ys[1]))
+    (x0, y0), (x1, y1), (x2, y2) = shapely.get_coordinates(rect)[:3].tolist()
+    return min(math.hypot(x1 - x0, y1 - y0), math.hypot(x2 - x1, y2 - y1))
 
 
 def _cluster_pieces(pieces: Sequence[BaseGeometry], distance_mm: float) -> list[list[int]]:
@@ -339,14 +339,24 @@ def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
     x0, y0, x1, y1 = win
     big = 4 * gap_mm + 2 * NODE_CORE_RADIUS_MM
     box_ = (x0 - big, y0 - big, x1 + big, y1 + big)
-    tx_c = _area_only(shapely.clip_by_rect(tx_geom, *box_))
-    rx_c = _area_only(shapely.clip_by_rect(rx_geom, *box_))
+    clipped: list[BaseGeometry] = []
+
+    def copper() -> tuple[BaseGeometry, BaseGeometry]:
+        if not clipped:
+            clipped.extend((_area_only(shapely.clip_by_rect(tx_geom, *box_)),
+                            _area_only(shapely.clip_by_rect(rx_geom, *box_))))
+        return clipped[0], clipped[1]
+
     # the points where the two come within the gap lie in the window, so the clipped copper is
-    # as near as the whole copper
-    if tx_c.is_empty or rx_c.is_empty or not (near or shapely.dwithin(tx_c, rx_c, gap_mm)):
-        return []
-    tb = shapely.clip_by_rect(tx_buffer, *box_) if tx_buffer is not None else tx_c.buffer(gap_mm, quad_segs=4)
-    rb = shapely.clip_by_rect(rx_buffer, *box_) if rx_buffer is not None else rx_c.buffer(gap_mm, quad_segs=4)
+    # as near as the whole copper: when the caller knows that, it is clipped only for a candidate
+    if not near:
+        tx_c, rx_c = copper()
+        if tx_c.is_empty or rx_c.is_empty or not shapely.dwithin(tx_c, rx_c, gap_mm):
+            return []
+    tb = (shapely.clip_by_rect(tx_buffer, *box_) if tx_buffer is not None
+          else copper()[0].buffer(gap_mm, quad_segs=4))
+    rb = (shapely.clip_by_rect(rx_buffer, *box_) if rx_buffer is not None
+          else copper()[1].buffer(gap_mm, quad_segs=4))
     region = _area_only(tb.intersection(rb))
     if region.is_empty:
         return []
@@ -368,6 +378,7 @@ def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
             continue  # the filled region lies inside the hull: no room for the core disc
         # the copper inside the hull, net by net (each clipped to the small hull first): the same
         # set as the union of both nets' copper cut by the hull, without that large union
+        tx_c, rx_c = copper()
         tx_in, rx_in = _area_only(tx_c.intersection(hull)), _area_only(rx_c.intersection(hull))
         fill = _union([*mine, tx_in, rx_in])
         if not _short_core(fill):
