@@ -153,6 +153,24 @@ def test_full_contract_example_loads(tmp_path: Path) -> None:
     assert c.waivers[1].box_mm == (1, 2, 3, 4) and c.waivers[1].index == 1
 
 
+def test_expansion_limit_from_the_config_is_honoured(tmp_path: Path) -> None:
+    # [limits] overrides sensorcheck.limits.Limits fields (config contract); the reader then holds a
+    # file to it. Gerber spec 2023.08 s. 4.11.1: SR X2Y2 of a block of one flash makes 3 copies;
+    # X2Y3 makes 5, past a limit of 3, refused at the SR line (5).
+    from sensorcheck.errors import LimitError
+    from sensorcheck.fab.gerber import read_gerber
+
+    assert load_config(None).limits.max_expanded_objects == Limits().max_expanded_objects
+    c = load_config(write(tmp_path, "[limits]\nmax_expanded_objects = 3\n"), profiles_dir=tmp_path)
+    assert c.limits == Limits(max_expanded_objects=3)
+    sr = "%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,0.1*%\nD10*\n%SRX2Y{y}I1J1*%\nX0Y0D03*\n%SR*%\nM02*\n"
+    assert read_gerber(sr.format(y=2).encode(), "ok.gbr", limits=c.limits).object_count == 4
+    with pytest.raises(LimitError) as info:
+        read_gerber(sr.format(y=3).encode(), "over.gbr", limits=c.limits)
+    assert (info.value.file, info.value.line) == ("over.gbr", 5)
+    assert "limits.max_expanded_objects = 3" in info.value.message
+
+
 def test_defaults_without_a_file() -> None:
     c = load_config(None)
     assert c.file is None and c.overlay is None and c.roles == []
@@ -208,6 +226,9 @@ def test_unknown_keys_at_every_level(tmp_path: Path, text: str, key: str) -> Non
         ("[estimate]\nenabled='yes'\n", "estimate.enabled", "true or false"),
         ("[estimate]\nheights=12.5\n", "estimate.heights", "integer"),
         ("[limits]\nmax_holes=1.5\n", "limits.max_holes", "integer"),
+        ("[limits]\nmax_expanded_objects='20000'\n", "limits.max_expanded_objects", "integer"),
+        ("[limits]\nmax_expanded_objects=2e4\n", "limits.max_expanded_objects", "integer"),
+        ("[limits]\nmax_expanded_objects=true\n", "limits.max_expanded_objects", "integer"),
         ("[files]\n'*.gtl'='top copper'\n", 'files."*.gtl"', "layer names"),
         ("[esd]\nmode='hand'\n", "esd.mode", "one of"),
         ("sensors = 3\n", "sensors", "array of tables"),
@@ -245,6 +266,7 @@ def test_wrong_types(tmp_path: Path, text: str, key: str, words: str) -> None:
         ("[esd]\nlevel_kv=-8\n", "esd.level_kv"),
         ("[estimate]\nheights=1\n", "estimate.heights"),
         ("[limits]\nmax_holes=0\n", "limits.max_holes"),
+        ("[limits]\nmax_expanded_objects=-5\n", "limits.max_expanded_objects"),
         ("[[roles.place]]\nlayer='top-copper'\nbox_mm=[5,0,1,4]\nrole='self'\n", "roles.place[0].box_mm"),
         ("[rules.'zone.foreign-net']\ndistance_mm=-2.0\n", 'rules."zone.foreign-net".distance_mm'),
     ],

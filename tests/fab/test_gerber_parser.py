@@ -372,6 +372,35 @@ def test_objects_written_out_one_by_one_are_not_counted() -> None:
     assert read_gerber(gbr(body).encode(), "t.gbr", limits=limits).object_count == 201
 
 
+def test_the_demo_boards_and_a_demo_panel_stay_far_under_the_default() -> None:
+    # what honest files make by copying, against the default: the demo boards (boards/tm1-*/fab)
+    # write every object out (none made); the clean demo's top copper stepped 3 x 2 in one SR block
+    # (bench/make_large_board.py, the panel tests/boards checks) makes 5 copies of each of its
+    # objects, which must stay under half the default.
+    import importlib.util
+    from pathlib import Path
+
+    from sensorcheck.fab.gerber_parser import decode_gerber, parse_gerber_text
+    from sensorcheck.limits import DEFAULT_LIMITS
+
+    repo = Path(__file__).resolve().parents[2]
+    gerbers = [p for p in sorted(repo.glob("boards/tm1-*/fab/*")) if p.is_file() and b"%FS" in p.read_bytes()]
+    assert len(gerbers) >= 10
+    for p in gerbers:
+        assert parse_gerber_text(decode_gerber(p.read_bytes(), p.name), p.name).expanded_objects == 0, p
+    spec = importlib.util.spec_from_file_location("make_large_board", repo / "bench" / "make_large_board.py")
+    assert spec and spec.loader
+    large = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(large)
+    writer = large.demo_top_copper()
+    one = parse_gerber_text(decode_gerber(writer.panel_bytes([(0.0, 0.0)]), "one.gtl"), "one.gtl")
+    panel = parse_gerber_text(decode_gerber(writer.step_repeat_bytes(3, 2, 115.0, 75.0), "sr.gtl"), "sr.gtl")
+    n = len(one.gerber.objects)
+    assert n > 1000 and len(panel.gerber.objects) == 6 * n
+    assert panel.expanded_objects == 5 * n
+    assert 2 * panel.expanded_objects <= DEFAULT_LIMITS.max_expanded_objects
+
+
 # --------------------------------------------------------------------------- rectangle sweeps
 
 

@@ -118,6 +118,50 @@ def test_step_and_repeat_of_nested_block_flashes_past_the_object_limit(worker: W
     assert "expands to 12500000 objects" in (out.message or "")
 
 
+# Under max_gerber_objects is not harmless: a file of a few kilobytes placing 5 000 000 objects was
+# accepted, took about 10 s to copy them (parse alone) and then many minutes in the geometry step.
+# limits.max_expanded_objects (the objects made by copying) refuses it at the placing line, before
+# any copy. Same NESTED_BOUND_S guard as above (the refusal itself measured 4 ms).
+
+
+def test_nested_blocks_just_under_the_object_limit_are_refused_by_the_expansion_limit(worker: Worker) -> None:
+    # Gerber spec 2023.08 s. 4.11.2 (AB): D22 places 50^3 = 125 000 objects; D23 flashes it 40 times:
+    # 5 000 000 objects, exactly max_gerber_objects (allowed by it). The one flash of D23 (line 208)
+    # makes 4 999 999 by copying, past max_expanded_objects.
+    assert 40 * 50**3 == DEFAULT_LIMITS.max_gerber_objects
+    assert 40 * 50**3 - 1 > DEFAULT_LIMITS.max_expanded_objects
+    forty = "".join(f"X{k * 1000}Y0D03*\n" for k in range(40))
+    text = _nested_bomb("%ABD23*%\nD22*\n" + forty + "%AB*%\nD23*\nX0Y0D03*\nM02*\n")
+    assert len(text) < 3000
+    out = _run_bounded(worker, text, "blocks-under.gbr")
+    assert out.error_type == "LimitError" and out.line == 208
+    assert "placing 5000000 objects" in (out.message or "") and "to 4999999" in (out.message or "")
+    assert f"limits.max_expanded_objects = {DEFAULT_LIMITS.max_expanded_objects}" in (out.message or "")
+
+
+def test_step_and_repeat_just_under_the_object_limit_is_refused_by_the_expansion_limit(worker: Worker) -> None:
+    # Gerber spec 2023.08 s. 4.11.1 (SR): 300 x 300 copies of 55 overlapping flashes = 4 950 000
+    # objects, under max_gerber_objects and max_step_repeat_copies; makes 4 949 945 by copying
+    assert 300 * 300 * 55 <= DEFAULT_LIMITS.max_gerber_objects
+    block = "".join(f"X{k * 1000}Y0D03*\n" for k in range(55))
+    out = _run_bounded(worker, HEAD + "%SRX300Y300I0.001J0.001*%\n" + block + "%SR*%\nM02*\n", "sr-under.gbr")
+    assert out.error_type == "LimitError" and out.line == 5
+    assert "to 4949945" in (out.message or "") and "max_expanded_objects" in (out.message or "")
+
+
+def test_copies_in_block_definitions_never_flashed_are_counted(worker: Worker) -> None:
+    # SR copies inside a block definition are made when the SR closes, flashed or not: 100 blocks
+    # each holding 100 x 100 copies of a flash (each SR under max_step_repeat_copies, each block
+    # under max_gerber_objects, the blocks never flashed) would hold 1 000 000 objects made from a
+    # file of 4.5 kB. The third block's SR (9 999 made by each) passes 20 000: its line is 16 (HEAD
+    # is 4 lines, each block 5 with the SR second).
+    assert 2 * 9_999 <= DEFAULT_LIMITS.max_expanded_objects < 3 * 9_999
+    blocks = "".join(f"%ABD{20 + k}*%\n%SRX100Y100I0.001J0*%\nX0Y0D03*\n%SR*%\n%AB*%\n" for k in range(100))
+    out = _run_bounded(worker, HEAD + blocks + "M02*\n", "sr-in-blocks.gbr")
+    assert out.error_type == "LimitError" and out.line == 4 + 2 * 5 + 2
+    assert "to 29997" in (out.message or "")
+
+
 def test_coincident_flashes_within_every_limit(worker: Worker) -> None:
     text = HEAD + "X0Y0D03*\n" * 20_000 + "M02*\n"
     out = worker.run("gerber", text.encode(), "stacked.gbr")

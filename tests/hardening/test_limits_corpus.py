@@ -26,6 +26,7 @@ from hardening import CORPUS
 from sensorcheck.board.build import load_board
 from sensorcheck.board.model import Board
 from sensorcheck.fab.archive import check_zip_members
+from sensorcheck.fab.gerber_parser import decode_gerber, parse_gerber_text
 from sensorcheck.limits import DEFAULT_LIMITS
 
 pytestmark = [pytest.mark.corpus, pytest.mark.slow]
@@ -47,11 +48,20 @@ class Seen:
     vertices: int
     holes: int
     step_repeat_copies: int
+    expanded_objects: int
     compression_ratio: float
 
 
 def _step_repeat_copies(text: bytes) -> int:
     return max((int(x) * int(y) for x, y in re.findall(rb"%SRX(\d+)Y(\d+)", text)), default=1)
+
+
+def _expanded_objects(data: bytes, name: str) -> int:
+    # objects made by copying, as the reader counts them; a file without AB or SR statements makes
+    # none (the count only grows at a block flash or a step-and-repeat), so only those are parsed
+    if b"%SR" not in data and b"%AB" not in data:
+        return 0
+    return parse_gerber_text(decode_gerber(data, name), name, DEFAULT_LIMITS).expanded_objects
 
 
 def _seen(folder: Path) -> Seen:
@@ -79,6 +89,7 @@ def _seen(folder: Path) -> Seen:
         vertices=vertices,
         holes=len(board.holes),
         step_repeat_copies=max(_step_repeat_copies(p.read_bytes()) for p in files),
+        expanded_objects=max(_expanded_objects(p.read_bytes(), p.name) for p in files),
         compression_ratio=ratio,
     )
 
@@ -106,6 +117,7 @@ def test_every_limit_has_a_wide_margin_on_the_corpus(corpus: list[Seen]) -> None
         "max_vertices": (max(s.vertices for s in corpus), lim.max_vertices),
         "max_holes": (max(s.holes for s in corpus), lim.max_holes),
         "max_step_repeat_copies": (max(s.step_repeat_copies for s in corpus), lim.max_step_repeat_copies),
+        "max_expanded_objects": (max(s.expanded_objects for s in corpus), lim.max_expanded_objects),
         "max_compression_ratio": (max(s.compression_ratio for s in corpus), lim.max_compression_ratio),
     }
     line = "; ".join(f"{k}: largest {v:.4g} vs limit {m:.4g} (x{m / max(v, 1e-9):.0f})" for k, (v, m) in pairs.items())
