@@ -6,6 +6,8 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
+import shapely
+
 from sensorcheck.design.model import Design, Electrode
 from sensorcheck.physics.parasitics import microstrip_pf_per_mm, parallel_plate_pf, via_capacitance_pf
 from sensorcheck.rules.common import (
@@ -18,7 +20,6 @@ from sensorcheck.rules.common import (
     paths,
     sensing_nets,
     source_near,
-    trace_features,
     union,
 )
 from sensorcheck.rules.engine import Param, Rule
@@ -221,13 +222,34 @@ def _reference_copper(design: Design, layer: str, own_net: str) -> Any:
     return union(g for n, g in lay.by_net.items() if n not in skip and n not in shield)
 
 
+def _meets(ref: Any, geom: Any) -> bool:
+    """Does ``geom`` touch ``ref`` (box test, then the prepared predicate)?  False: their overlap is empty."""
+    rx0, ry0, rx1, ry1 = ref.bounds
+    gx0, gy0, gx1, gy1 = geom.bounds
+    if gx0 > rx1 or rx0 > gx1 or gy0 > ry1 or ry0 > gy1:
+        return False
+    shapely.prepare(ref)
+    return bool(ref.intersects(geom))
+
+
 def channel_budget(design: Design, e: Electrode, params: Mapping[str, Any],
-                   nets_of: dict[int, str | None] | None = None) -> Budget:
-    """Electrode plates + microstrip traces (fill-corrected) + vias + pin capacitance, in pF."""
+                   nets_of: dict[int, str | None] | None = None, *, index: FeatureIndex | None = None,
+                   refs: dict[tuple[str, str | None], Any] | None = None) -> Budget:
+    """Electrode plates + microstrip traces (fill-corrected) + vias + pin capacitance, in pF.
+
+    ``index`` and ``refs`` (reference copper by layer, filled in here) let a caller that budgets many
+    channels share the board's features and reference copper between them; the numbers are the same.
+    """
     board = design.board
     eps_default = params["default_epsilon_r"]
     cu_layers = [lay.name for lay in board.copper_layers()]
-    ref = {name: _reference_copper(design, name, e.net) for name in cu_layers}
+    refs = refs if refs is not None else {}
+    own_key = None if design.ground_nets() else e.net  # ground copper does not depend on the channel
+    ref = {}
+    for name in cu_layers:
+        if (name, own_key) not in refs:
+            refs[name, own_key] = _reference_copper(design, name, e.net)
+        ref[name] = refs[name, own_key]
     electrode_pf = 0.0
     for name in cu_layers:
         if name == e.layer or ref[name].is_empty:
@@ -240,7 +262,7 @@ def channel_budget(design: Design, e: Electrode, params: Mapping[str, Any],
             electrode_pf += parallel_plate_pf(ov.area, sep[0], sep[1])
     trace_pf = 0.0
     trace_mm = 0.0
-    for layer, feats in trace_features(board, e).items():
+    for layer, feats in (index or FeatureIndex(board)).trace(e).items():
         seps = []
         for name in cu_layers:
             if name == layer:
@@ -260,7 +282,9 @@ def channel_budget(design: Design, e: Electrode, params: Mapping[str, Any],
                 corridor = f.path.buffer(max(3.0 * h, f.width_mm))
                 if corridor.area <= 0 or ref[name].is_empty:
                     continue
-                fill = min(1.0, ref[name].intersection(corridor).area / corridor.area)
+                # a corridor that misses the reference copper has no overlap: not cut
+                cut = ref[name].intersection(corridor).area if _meets(ref[name], corridor) else 0.0
+                fill = min(1.0, cut / corridor.area)
                 c_per_mm += microstrip_pf_per_mm(f.width_mm, h, eps) * fill * remaining
                 remaining *= 1.0 - fill
             trace_pf += c_per_mm * length
@@ -321,11 +345,13 @@ class ParasiticBudget(Rule):
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         limit = float(design.config.controller["max_parasitic_pf"])
         nets_of = board_hole_nets(design)
+        index = FeatureIndex(design.board)
+        refs: dict[tuple[str, str | None], Any] = {}
         for s, e in _channels(design):
             est = estimates.get(s.name)
             if est is not None and est.parasitic_pf is not None:
                 continue
-            b = channel_budget(design, e, params, nets_of)
+            b = channel_budget(design, e, params, nets_of, index=index, refs=refs)
             total = b.total_pf
             parts = (
                 f"electrode {fmt(b.electrode_pf)} pF + trace {fmt(b.trace_pf)} pF ({fmt(b.trace_mm, 1)} mm) + "
