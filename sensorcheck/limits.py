@@ -29,15 +29,17 @@ class Limits:
     #: the copies are made at once). Counted before anything is copied, refused at the line of
     #: the flash or SR that would pass it. This bounds amplification (few bytes, many objects);
     #: an honest large layer written out object by object is bounded by max_gerber_objects.
-    #: Chosen from the geometry cost of the worst shapes a few bytes can place, read_gerber on
-    #: a loaded 2-core machine (CPU seconds / wall seconds, at 20 000 / 50 000 / 100 000 copies):
-    #: 0.5 mm flashes on one spot 1.3 / 3.9 / 7.7 s CPU (1.3 / 5.9 / 10.8 s wall); flashes
-    #: 0.001 mm apart 1.6 / 4.1 / 9.1 s CPU; a grid of touching flashes (one connected blob)
-    #: 3.3 / 9.1 / 24.2 s CPU (5.2 / 11.6 / 25.5 s wall); 100 mm circles 0.01 mm apart 3.8 / 11.0
-    #: s CPU (the 100 000 refused by max_vertices after 8.8 s); flashes 1 mm apart (no contact)
-    #: 0.14 / 0.39 / 0.79 s CPU. So 20 000 keeps the worst case near 4 s CPU (about 5 s wall),
-    #: where 50 000 passes 10 s. No corpus board uses AB or SR (0 here); the demo board's top
-    #: copper (1392 objects) stepped 3 x 2 as a panel makes 6960, about a third of the limit.
+    #: Chosen by timing read_gerber, in a fresh process on a 2-core machine, on files of under
+    #: 5 kB making exactly 20 000 (CPU seconds): 0.5 mm flashes on one spot 1.5 s, 0.001 mm apart
+    #: 1.9 s, a 177 x 113 grid of touching flashes (one connected image) 3.2 s, 100 mm circles
+    #: 0.01 mm apart 4.0 s (6.2 s wall for all of `sensorcheck layers`), a block of 101
+    #: overlapping flashes flashed 200 times 1.5 s, flashes 1 mm apart 0.2 s; one more copy is
+    #: refused in milliseconds. At 50 000 the grid took 9.1 s and the circles 11.0 s, at 100 000
+    #: the grid 24 s: 20 000 keeps the worst case at about 4 s. No corpus board uses AB or SR
+    #: (0 made); the demo board's top copper (1392 objects) stepped 3 x 2 makes 6960.
+    #: Not bounded by it: geometry whose cost grows faster than the object count (stacked
+    #: objects alternating dark and clear polarity, apertures of thousands of vertices), the
+    #: same whether written out or copied.
     max_expanded_objects: int = 20_000
     #: polygon vertices in one layer's geometry
     max_vertices: int = 50_000_000
