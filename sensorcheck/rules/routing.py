@@ -25,12 +25,10 @@ from sensorcheck.rules.common import (
     is_via,
     midpoint,
     nearest_points,
-    net_features,
     paths,
     require_role,
     role,
     source_near,
-    trace_features,
     union,
 )
 from sensorcheck.rules.engine import Param, Rule
@@ -177,6 +175,7 @@ class ForeignCopperInZone(Rule):
         for lay in design.board.copper_layers():
             names = sorted(n for n, g in lay.by_net.items() if not g.is_empty)
             layers.append((lay, names, shapely.STRtree([lay.by_net[n] for n in names])))
+        index = FeatureIndex(design.board)
         skip = REFERENCE_ROLES | {"aggressor"}
         judged = {n: not (is_floating_id(n) or role(design, n) in skip) for _, names, _ in layers for n in names}
         for s in design.sensors:
@@ -205,7 +204,7 @@ class ForeignCopperInZone(Rule):
                     if inside.is_empty or inside.area < params["min_area_mm2"]:
                         continue
                     under = inside.intersection(self.cache.outline(s))
-                    src = source_near(net_features(design.board, lay.name, [net]), inside)
+                    src = source_near(index.net(lay.name, net), inside)
                     if not under.is_empty and under.area >= params["min_area_mm2"]:
                         yield finding(
                             "error",
@@ -321,10 +320,6 @@ def _in_box(xs: np.ndarray, ys: np.ndarray, box: tuple[float, float, float, floa
     return (xs >= x0 - grow_mm) & (xs <= x1 + grow_mm) & (ys >= y0 - grow_mm) & (ys <= y1 + grow_mm)
 
 
-def _trace_paths(design: Design, e: Electrode) -> dict[str, BaseGeometry]:
-    return {layer: paths(feats) for layer, feats in trace_features(design.board, e).items()}
-
-
 class TraceUnderElectrode(Rule):
     """A sensor's trace under or over another sensor's electrode.
 
@@ -366,6 +361,7 @@ class TraceUnderElectrode(Rule):
         net_ids = {n: i for i, n in enumerate(dict.fromkeys(eb.net for _, eb in flat))}
         flat_net = np.array([net_ids[eb.net] for _, eb in flat], dtype=np.intp)
         flat_sensor = np.array([i for i, b in enumerate(design.sensors) for _ in b.electrodes], dtype=np.intp)
+        index = FeatureIndex(design.board)
         raw = _trace_hits([eb for _, eb in flat])  # which electrodes each whole trace touches
         raw_by: dict[tuple[int, str], list[int]] = {}
         for i, layer, k in raw:
@@ -415,7 +411,7 @@ class TraceUnderElectrode(Rule):
                             f"({eb.layer}) over {fmt(ov.area, 2)} mm2 (limit 0 mm2)",
                             value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov,
                             nets=(ea.net, eb.net), sensor=b.name,
-                            source=source_near(net_features(design.board, layer, [ea.net]), ov),
+                            source=source_near(index.net(layer, ea.net), ov),
                         )
 
 
@@ -597,14 +593,6 @@ def _box_gap(a: BaseGeometry, b: BaseGeometry) -> float:
     return math.hypot(max(0.0, bx0 - ax1, ax0 - bx1), max(0.0, by0 - ay1, ay0 - by1))
 
 
-def _parallel_length(path: BaseGeometry, other: BaseGeometry, distance_mm: float) -> tuple[float, BaseGeometry]:
-    """Length of ``path`` lying within ``distance_mm`` of ``other`` (and that piece)."""
-    if path.is_empty or other.is_empty:
-        return 0.0, shapely.MultiLineString()
-    piece = path.intersection(other.buffer(distance_mm))
-    return piece.length, piece
-
-
 class AggressorParallel(Rule):
     """Sensor traces running alongside aggressor nets.
 
@@ -653,7 +641,7 @@ class AggressorParallel(Rule):
                     other = ag_all[net]
                     for layer, path in sorted(tp.items()):
                         if path.is_empty or other.is_empty:
-                            length, piece = 0.0, shapely.MultiLineString()  # as _parallel_length
+                            length, piece = 0.0, shapely.MultiLineString()  # nothing to measure
                         elif limit >= 0 and not _boxes_within(path, other, dist):
                             continue  # nothing of the path within the distance: length 0, within the limit
                         else:
@@ -785,7 +773,7 @@ class RxParallelTx(Rule):
                     a_set, b_set = rx_in[rx], tx_in[tx]
                     if len(a_set) == 1 and len(b_set) == 1 and a_set[0] is b_set[0]:
                         continue  # one node: its RX leaves through its own TX by design
-                    piece = path.intersection(tx_near[j])  # as _parallel_length, with the buffer made once
+                    piece = path.intersection(tx_near[j])  # the path within the distance, the buffer made once
                     length = piece.length
                     if length <= limit:
                         continue
