@@ -159,9 +159,15 @@ def split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry]
     least :data:`MIN_ELECTRODE_AREA_MM2`, is electrode (thin teeth of an interleaved pad stay
     with it).  Without them: a morphological opening (see the module docstring).
     """
+    electrode, trace, _geom = _split_electrode(layer, net)
+    return electrode, trace
+
+
+def _split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry, BaseGeometry]:
+    """:func:`split_electrode` and the copper it split (the layer's own object when that was valid)."""
     geom = _valid(_area_only(layer.by_net.get(net, _empty())))
     if geom.is_empty:
-        return _empty(), _empty()
+        return _empty(), _empty(), geom
     feats = [f for f in layer.features if f.net == net and f.polarity == "dark"]
     if feats:
         traces = _union(f.geometry for f in feats if _is_trace_feature(f))
@@ -169,30 +175,34 @@ def split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry]
         rest = geom if traces.is_empty else _area_only(geom.difference(traces.difference(pads)))
         keep = [p for p in _polys(rest) if p.area >= MIN_ELECTRODE_AREA_MM2]
         if not keep:
-            return _empty(), geom
+            return _empty(), geom, geom
         electrode = _area_only(geom.intersection(_union(keep).buffer(1e-4, quad_segs=1)))
-        return electrode, _area_only(geom.difference(electrode))
+        return electrode, _area_only(geom.difference(electrode)), geom
     r = opening_radius_mm(layer, net)
     opened = geom.buffer(-r, quad_segs=4).buffer(r, quad_segs=4)
     keep = [p for p in _polys(opened) if p.area >= MIN_ELECTRODE_AREA_MM2]
     if not keep:
-        return _empty(), geom
+        return _empty(), geom, geom
     electrode = _area_only(geom.intersection(_union(keep).buffer(0.5 * r, quad_segs=4)))
     trace = _area_only(geom.difference(electrode))
-    return electrode, trace
+    return electrode, trace, geom
 
 
 def _net_copper(board: Board, net: str, except_layer: str | None = None,
-                minus: BaseGeometry | None = None, by_part: bool = False) -> dict[str, BaseGeometry]:
+                minus: BaseGeometry | None = None, by_part: bool = False,
+                cut: BaseGeometry | None = None) -> dict[str, BaseGeometry]:
     """The net's copper per layer, optionally without ``minus`` on ``except_layer``.
 
     ``by_part``: only the net's polygons whose box meets the box of ``minus`` are cut, the others
     are kept as they are (the same set, without noding all of the net's copper against ``minus``).
+    ``cut``: that difference on ``except_layer``, already made by the caller with the same operation.
     """
     out: dict[str, BaseGeometry] = {}
     for la in net_layers(board, net):
         g = la.by_net[net]
-        if la.name == except_layer and minus is not None:
+        if la.name == except_layer and cut is not None:
+            g = cut
+        elif la.name == except_layer and minus is not None:
             g = _minus_by_part(g, minus) if by_part else _area_only(g.difference(minus))
         if not g.is_empty:
             out[la.name] = g
@@ -239,12 +249,15 @@ def self_electrode(board: Board, net: str, role: Role, face: str, notes: list[st
     if not layers:
         return None
     for i, la in enumerate(layers):
-        electrode, _trace = split_electrode(la, net)
+        electrode, trace, split = _split_electrode(la, net)
         if not electrode.is_empty:
             if la is not face_layers(board, face)[0]:
                 notes.append(f"net {net}: no electrode on the touched face's outer copper; took its copper on {la.name}")
+            # the split made the layer's copper minus the electrode already, when it split the
+            # layer's own copper (not a repaired copy): the same operation on the same operands
+            cut = trace if split is la.by_net[net] else None
             return Electrode(net=net, role=role, layer=la.name, geometry=electrode,
-                             trace=_net_copper(board, net, la.name, electrode))
+                             trace=_net_copper(board, net, la.name, electrode, cut=cut))
     la = layers[0]
     geom = _area_only(la.by_net[net])
     notes.append(f"net {net}: all of its copper is thin (no solid part); took all of it on {la.name} as the electrode")
