@@ -229,3 +229,78 @@ def test_crossing_angle(angle_deg: float, warn: bool) -> None:
     (f,) = found
     assert f.value == pytest.approx(angle_deg, abs=1e-6)
     assert f.location.x_mm == pytest.approx(25.0) and f.location.y_mm == pytest.approx(0.0, abs=1e-9)
+
+
+@pytest.mark.parametrize(
+    "hole, expect",
+    [
+        # a ground via off the pad's corner (6, 6): within the box grown by 0.5 mm, but 0.1 x sqrt(2) = 0.14 mm
+        # or 0.4 x sqrt(2) = 0.57 mm from the corner (Pythagoras): inside the clearance only for the first
+        (via(6.1, 6.1, net="GND"), 0.1 * math.sqrt(2)),
+        (via(6.4, 6.4, net="GND"), None),
+        # a signal via off the corner: 3 x sqrt(2) = 4.24 mm (inside the 5 mm zone), 4 x sqrt(2) = 5.66 mm (outside)
+        (via(9, 9, net="SIG"), 3 * math.sqrt(2)),
+        (via(10, 10, net="SIG"), None),
+    ],
+)
+def test_foreign_via_near_the_corner(hole, expect) -> None:
+    found = run_one("routing.foreign-via-in-zone", button_board(holes=[hole]))
+    if expect is None:
+        assert found == []
+    else:
+        (f,) = found
+        assert f.value == pytest.approx(expect, rel=1e-3)  # the zone's rounded corner is a polygon: 1e-3
+
+
+def test_trace_under_electrode_of_a_net_in_several_sensors() -> None:
+    # TX column C0 drives two mutual keys (K1 at x = 0, K2 at x = 20); its bottom-layer trace runs along y = 0 from
+    # x = 28 to 50 under the self button B (x 34..46): each key's C0 electrode reports it once, 12 x 0.2 mm2
+    # (the round caps end at x = 27.9 and 50.1, outside B)
+    def key(x: float) -> tuple:
+        return box(x - 2, -2, x + 2, 2), box(x - 5, -5, x + 5, 5).difference(box(x - 3, -3, x + 3, 3))
+
+    (rx1, tx1), (rx2, tx2), pad = key(0.0), key(20.0), box(34, -6, 46, 6)
+    shapes = [region("top-copper", rx1, "R1"), region("top-copper", tx1, "C0"), region("top-copper", rx2, "R2"),
+              region("top-copper", tx2, "C0"), region("top-copper", pad, "TOUCH"),
+              draw("bottom-copper", [(28, 0), (50, 0)], 0.2, "C0", line=9)]
+    board = make_board(shapes)
+    keys = [sensor(name, "mutual-node", [with_traces(board, electrode("C0", "transmitter", tx)),
+                                         with_traces(board, electrode(r, "receiver", rx))])
+            for name, r, rx, tx in (("K1", "R1", rx1, tx1), ("K2", "R2", rx2, tx2))]
+    b = sensor("B", "self-button", [with_traces(board, electrode("TOUCH", "self", pad))])
+    roles = {"C0": "transmitter", "R1": "receiver", "R2": "receiver", "TOUCH": "self"}
+    found = run_one("routing.trace-under-electrode", make_design(board, make_config(1.0), roles, [*keys, b]))
+    assert [(f.sensor, f.nets, f.severity) for f in found] == [("B", ("C0", "TOUCH"), "error")] * 2
+    assert all(f.value == pytest.approx(12 * 0.2, rel=1e-6) and f.location.line == 9 for f in found)
+    assert {f.message.split("(")[1].split(")")[0] for f in found} == {"K1", "K2"}
+
+
+def test_crossing_angle_reports_the_shallowest_of_several() -> None:
+    # an LED line on the bottom zigzags over B1's trace (y = 0): up at 80 deg through (15, 0), then down at
+    # 30 deg through (25, 0) (slopes tan 80 and -tan 30 by construction): one finding, the 30 deg crossing
+    t80, t30 = math.tan(math.radians(80)), math.tan(math.radians(30))
+    led = draw("bottom-copper", [(15 - 5 / t80, -5), (15 + 5 / t80, 5), (25 - 5 / t30, 5), (25 + 5 / t30, -5)],
+               0.2, "LED1")
+    trace = draw("top-copper", [(6, 0), (40, 0)], 0.2, "TOUCH1")
+    (f,) = run_one("routing.crossing-angle", button_board(led, b1_trace=trace, roles={"LED1": ("aggressor", "led")}))
+    assert f.value == pytest.approx(30.0, abs=1e-6)
+    assert f.location.x_mm == pytest.approx(25.0, abs=1e-4) and f.location.y_mm == pytest.approx(0.0, abs=1e-4)
+
+
+def test_feature_index_matches_the_shared_helpers() -> None:
+    # the per-run index must hand out what common.net_features / trace_features / hole_nets give
+    from sensorcheck.rules.common import hole_nets, net_features, trace_features
+    from sensorcheck.rules.routing import FeatureIndex, board_hole_nets
+
+    inside = draw("top-copper", [(-3, 0), (3, 0)], 0.2, "TOUCH1", line=2)  # within the pad: not trace
+    out = draw("top-copper", [(0, -5), (0, -20)], 0.2, "TOUCH1", line=3)  # leaves the pad: trace
+    other = draw("bottom-copper", [(-20, 8), (20, 8)], 0.2, "SIG", line=4)
+    d = button_board(inside, other, b1_trace=out, holes=[via(0, -20), via(10, 8), via(30, 30)])
+    index = FeatureIndex(d.board)
+    e = d.sensors[0].electrodes[0]
+    assert index.trace(e) == trace_features(d.board, e)
+    assert [f.source.line for f in index.trace(e)["top-copper"]] == [3]
+    for lay in d.board.copper_layers():
+        for net in ("TOUCH1", "SIG", "GND"):
+            assert index.net(lay.name, net) == net_features(d.board, lay.name, [net])
+    assert board_hole_nets(d) == hole_nets(d) == {0: "TOUCH1", 1: "SIG", 2: None}
