@@ -202,6 +202,8 @@ def _net_copper(board: Board, net: str, except_layer: str | None = None,
         g = la.by_net[net]
         if la.name == except_layer and cut is not None:
             g = cut
+        elif la.name == except_layer and minus is g:
+            continue  # the whole of it is the electrode (whole-net electrodes): nothing left
         elif la.name == except_layer and minus is not None:
             g = _minus_by_part(g, minus) if by_part else _area_only(g.difference(minus))
         if not g.is_empty:

@@ -22,9 +22,11 @@ from sensorcheck.design.sensors import (
     _and_by_part,
     _minus_by_part,
     facing_nodes,
+    self_electrode,
+    whole_net_electrode,
 )
 
-from .synth import disc, track
+from .synth import disc, make_board, track
 
 
 def _rings_reference(geom, tolerance_mm: float = 0.02) -> list[list[tuple[float, float]]]:
@@ -104,3 +106,21 @@ def test_overlapping_pads_on_two_layers_make_a_node() -> None:
     (fp,) = facing_nodes(tx, rx, CROSS_LAYER_GAP_MM)
     # the footprint holds the RX pad, which lies over the TX pad
     assert fp.contains(disc(1.0, 0, 3.9))
+
+
+def test_self_and_whole_net_traces_are_the_rest_of_the_net() -> None:
+    # a 6 mm pad with its 0.25 mm trace on top, and a via pad of the net on the bottom
+    pad = disc(0, 0, 6.0)
+    line = track([(6, 0), (30, 0)], 0.25)
+    board = make_board({"top-copper": {"B1": [pad, line]}, "bottom-copper": {"B1": disc(30, 0, 0.5)}})
+    top = board.layer("top-copper")
+    e = self_electrode(board, "B1", "self", "top", [])
+    assert e is not None and e.layer == "top-copper"
+    # the rest of the net on the electrode's layer is its copper minus the electrode (shapely's
+    # plain difference as the reference), and all of it on the other layer
+    assert e.trace["top-copper"].symmetric_difference(top.by_net["B1"].difference(e.geometry)).area < 1e-9
+    assert e.trace["bottom-copper"].equals(board.layer("bottom-copper").by_net["B1"])
+    # a whole-net electrode leaves nothing of the net on its own layer
+    w = whole_net_electrode(board, "B1", "self", "top")
+    assert w is not None and w.layer == "top-copper" and "top-copper" not in w.trace
+    assert "bottom-copper" in w.trace
