@@ -513,7 +513,7 @@ class SensorcheckGerberParser(GerberParser):
                             continue
                         # the flash statement is one object of the file; the other count - 1 are made
                         self._count_expanded(max(count - 1, 0), f"flash of block aperture "
-                                             f"D{obj.aperture.original_number} placing {count} objects",
+                                             f"D{obj.aperture.original_number} placing {count} object{'' if count == 1 else 's'}",
                                              self.lineno)
                         copies = self._place_block(obj)
                         objects[i:i + 1] = copies
