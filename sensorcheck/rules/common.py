@@ -254,32 +254,37 @@ def clipped_union(geoms: Iterable[BaseGeometry], window: BaseGeometry) -> BaseGe
 
 
 def hole_nets(design: Design) -> dict[int, str | None]:
-    """Net of every hole (by index in ``board.holes``): the drill file's, else the copper it lands on."""
-    out: dict[int, str | None] = {}
-    todo = []
-    for i, h in enumerate(design.board.holes):
-        if h.net:
-            out[i] = h.net
-        else:
-            todo.append(i)
+    """Net of every hole (by index in ``board.holes``): the drill file's, else the copper it lands on.
+
+    The holes' points are made at once; per layer, the box query finds the candidate copper and the
+    prepared copper decides, in the tree's order (the first net found wins, layer by layer).
+    """
+    holes = design.board.holes
+    out: dict[int, str | None] = {i: h.net for i, h in enumerate(holes) if h.net}
+    todo = [i for i, h in enumerate(holes) if not h.net]
     if not todo:
         return out
-    pts = [Point(design.board.holes[i].x_mm, design.board.holes[i].y_mm) for i in todo]
+    pts = shapely.points(np.array([holes[i].x_mm for i in todo], dtype=float),
+                         np.array([holes[i].y_mm for i in todo], dtype=float))
     for i in todo:
         out[i] = None
     for lay in design.board.copper_layers():
         names = list(lay.by_net)
         if not names:
             continue
-        tree = shapely.STRtree([lay.by_net[n] for n in names])
+        geoms = np.array([lay.by_net[n] for n in names], dtype=object)
         left = [k for k, i in enumerate(todo) if out[i] is None]
         if not left:
             break
-        hits = tree.query([pts[k] for k in left], predicate="intersects")
-        for src, tgt in zip(hits[0], hits[1]):
-            i = todo[left[int(src)]]
+        src, tgt = shapely.STRtree(geoms).query(pts[left])
+        if len(src) == 0:
+            continue
+        shapely.prepare(geoms[np.unique(tgt)])
+        keep = shapely.intersects(geoms[tgt], pts[left][src])
+        for a, b in zip(src[keep], tgt[keep]):
+            i = todo[left[int(a)]]
             if out[i] is None:
-                out[i] = names[int(tgt)]
+                out[i] = names[int(b)]
     return out
 
 

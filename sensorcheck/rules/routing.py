@@ -21,6 +21,7 @@ from sensorcheck.rules.common import (
     aggressor_kind,
     finding,
     fmt,
+    hole_nets,
     is_floating_id,
     is_via,
     midpoint,
@@ -93,39 +94,6 @@ def _paths_inside_box(feats: list[Feature], geom: BaseGeometry) -> np.ndarray:
     b = shapely.bounds(np.array([f.path for f in feats], dtype=object)).reshape(-1, 4)
     tol = 1e-9
     return (b[:, 0] >= x0 - tol) & (b[:, 1] >= y0 - tol) & (b[:, 2] <= x1 + tol) & (b[:, 3] <= y1 + tol)
-
-
-def board_hole_nets(design: Design) -> dict[int, str | None]:
-    """``hole_nets(design)``, the same answer with less work: the holes' points made at once, and the
-    copper each lands on found from the box query and the prepared copper (the pairs the tree's own
-    intersects query keeps, in its order), not a point-in-polygon pass over unprepared copper per pair."""
-    holes = design.board.holes
-    out: dict[int, str | None] = {i: h.net for i, h in enumerate(holes) if h.net}
-    todo = [i for i, h in enumerate(holes) if not h.net]
-    if not todo:
-        return out
-    pts = shapely.points(np.array([holes[i].x_mm for i in todo], dtype=float),
-                         np.array([holes[i].y_mm for i in todo], dtype=float))
-    for i in todo:
-        out[i] = None
-    for lay in design.board.copper_layers():
-        names = list(lay.by_net)
-        if not names:
-            continue
-        geoms = np.array([lay.by_net[n] for n in names], dtype=object)
-        left = [k for k, i in enumerate(todo) if out[i] is None]
-        if not left:
-            break
-        src, tgt = shapely.STRtree(geoms).query(pts[left])
-        if len(src) == 0:
-            continue
-        shapely.prepare(geoms[np.unique(tgt)])
-        keep = shapely.intersects(geoms[tgt], pts[left][src])
-        for a, b in zip(src[keep], tgt[keep]):
-            i = todo[left[int(a)]]
-            if out[i] is None:
-                out[i] = names[int(b)]
-    return out
 
 
 def _other_electrodes(design: Design, s: Sensor) -> BaseGeometry:
@@ -256,7 +224,7 @@ class ForeignViaInZone(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
-        nets_of = board_hole_nets(design)
+        nets_of = hole_nets(design)
         clear = float(params["clearance_mm"])
         vias = [(h, nets_of[i]) for i, h in enumerate(design.board.holes) if is_via(h, params["max_via_diameter_mm"])]
         if not vias or not design.sensors:

@@ -14,6 +14,7 @@ from sensorcheck.rules.common import (
     VIA_DIAMETER_PARAM,
     finding,
     fmt,
+    hole_nets,
     is_via,
     layer_separation,
     net_features,
@@ -24,7 +25,7 @@ from sensorcheck.rules.common import (
 )
 from sensorcheck.rules.engine import Param, Rule
 from sensorcheck.rules.finding import Finding
-from sensorcheck.rules.routing import FeatureIndex, board_hole_nets
+from sensorcheck.rules.routing import FeatureIndex
 
 
 def _channels(design: Design) -> Iterable[tuple[Any, Electrode]]:
@@ -142,7 +143,7 @@ class TraceLength(Rule):
 
 
 def _net_vias(design: Design, net: str, max_via_diameter_mm: float, nets_of: dict[int, str | None] | None = None) -> list[Any]:
-    nets_of = nets_of if nets_of is not None else board_hole_nets(design)
+    nets_of = nets_of if nets_of is not None else hole_nets(design)
     return [h for i, h in enumerate(design.board.holes) if nets_of[i] == net and is_via(h, max_via_diameter_mm)]
 
 
@@ -176,7 +177,7 @@ class ViaCount(Rule):
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
-        nets_of = board_hole_nets(design)
+        nets_of = hole_nets(design)
         by_net: dict[str | None, list[Any]] = {}  # every via by net, in hole order, once per run
         for i, h in enumerate(design.board.holes):
             if is_via(h, params["max_via_diameter_mm"]):
@@ -344,7 +345,7 @@ class ParasiticBudget(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         limit = float(design.config.controller["max_parasitic_pf"])
-        nets_of = board_hole_nets(design)
+        nets_of = hole_nets(design)
         index = FeatureIndex(design.board)
         refs: dict[tuple[str, str | None], Any] = {}
         for s, e in _channels(design):

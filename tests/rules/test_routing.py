@@ -290,7 +290,7 @@ def test_crossing_angle_reports_the_shallowest_of_several() -> None:
 def test_feature_index_matches_the_shared_helpers() -> None:
     # the per-run index must hand out what common.net_features / trace_features / hole_nets give
     from sensorcheck.rules.common import hole_nets, net_features, trace_features
-    from sensorcheck.rules.routing import FeatureIndex, board_hole_nets
+    from sensorcheck.rules.routing import FeatureIndex
 
     inside = draw("top-copper", [(-3, 0), (3, 0)], 0.2, "TOUCH1", line=2)  # within the pad: not trace
     out = draw("top-copper", [(0, -5), (0, -20)], 0.2, "TOUCH1", line=3)  # leaves the pad: trace
@@ -303,4 +303,4 @@ def test_feature_index_matches_the_shared_helpers() -> None:
     for lay in d.board.copper_layers():
         for net in ("TOUCH1", "SIG", "GND"):
             assert index.net(lay.name, net) == net_features(d.board, lay.name, [net])
-    assert board_hole_nets(d) == hole_nets(d) == {0: "TOUCH1", 1: "SIG", 2: None}
+    assert hole_nets(d) == {0: "TOUCH1", 1: "SIG", 2: None}
