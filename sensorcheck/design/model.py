@@ -156,6 +156,9 @@ class Sensor:
     rows: tuple[str, ...] = ()
     columns: tuple[str, ...] = ()
     how_found: str = ""  # "roles", "group", "place"
+    #: the outline once made, with the electrode geometries it was made from (see :attr:`outline`)
+    _outline_memo: tuple[tuple[BaseGeometry, ...], BaseGeometry] | None = field(
+        default=None, init=False, repr=False, compare=False)
 
     @property
     def nets(self) -> tuple[str, ...]:
@@ -166,9 +169,16 @@ class Sensor:
 
     @property
     def outline(self) -> BaseGeometry:
-        from shapely import union_all
+        """The union of the electrodes' copper, made once: made again only when an electrode or its
+        geometry has been replaced since (the geometries are compared by identity)."""
+        geoms = tuple(e.geometry for e in self.electrodes)
+        memo = self._outline_memo
+        if memo is None or len(memo[0]) != len(geoms) or any(a is not b for a, b in zip(memo[0], geoms)):
+            from shapely import union_all
 
-        return union_all([e.geometry for e in self.electrodes])
+            memo = (geoms, union_all(list(geoms)))
+            self._outline_memo = memo
+        return memo[1]
 
 
 @dataclass(slots=True)

@@ -616,9 +616,11 @@ def _make_sensor(name: str, kind: SensorKind, electrodes: list[Electrode], margi
     rank = {n: i for i, n in enumerate(face_order)}
     rx_like = [e for e in electrodes if e.role in ("receiver", "self")] or electrodes
     layer = min((e.layer for e in rx_like), key=lambda la: rank.get(la, 99)) if rx_like else face_order[0]
-    return Sensor(name=name, kind=kind, layer=layer, electrodes=electrodes,
-                  zone=sensing_zone([e.geometry for e in electrodes], margin), zone_margin_mm=margin,
-                  order=tuple(order), rows=tuple(rows), columns=tuple(columns), how_found=how)
+    sensor = Sensor(name=name, kind=kind, layer=layer, electrodes=electrodes, zone=Polygon(), zone_margin_mm=margin,
+                    order=tuple(order), rows=tuple(rows), columns=tuple(columns), how_found=how)
+    # the zone grows the sensor's own outline: one union serves the zone, the rules and the report
+    sensor.zone = sensing_zone([e.geometry for e in electrodes], margin, outline=sensor.outline)
+    return sensor
 
 
 def _row_col_match(a: str, b: str) -> bool:

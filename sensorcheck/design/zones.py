@@ -48,12 +48,16 @@ def fill_holes(geom: BaseGeometry) -> BaseGeometry:
     return shapely.union_all(polys)
 
 
-def sensing_zone(electrodes: Iterable[BaseGeometry], margin_mm: float) -> BaseGeometry:
-    """Union of the electrode outlines, holes filled, grown by ``margin_mm`` (round corners)."""
+def sensing_zone(electrodes: Iterable[BaseGeometry], margin_mm: float, *,
+                 outline: BaseGeometry | None = None) -> BaseGeometry:
+    """Union of the electrode outlines, holes filled, grown by ``margin_mm`` (round corners).
+
+    ``outline``: that union when the caller has already made it (a sensor's :attr:`outline`).
+    """
     geoms = [g for g in electrodes if g is not None and not g.is_empty]
     if not geoms:
         return Polygon()
-    outline = fill_holes(shapely.union_all(geoms))
+    outline = fill_holes(outline if outline is not None else shapely.union_all(geoms))
     if margin_mm <= 0:
         return fill_holes(outline)
     parts = shapely.get_parts(outline)
