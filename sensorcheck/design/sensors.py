@@ -321,6 +321,16 @@ def _cluster_pieces(pieces: Sequence[BaseGeometry], distance_mm: float) -> list[
     return sorted(groups.values(), key=min)
 
 
+def _detect_outline(geom: BaseGeometry) -> BaseGeometry:
+    """``geom`` simplified to :data:`DETECT_TOLERANCE_MM` for node detection.
+
+    Plain Douglas-Peucker (a tenth of the cost of the topology-preserving kind on b04's nets);
+    where that leaves an invalid polygon (rings crossing), the topology-preserving kind instead.
+    """
+    fast = geom.simplify(DETECT_TOLERANCE_MM, preserve_topology=False)
+    return fast if not fast.is_empty and fast.is_valid else geom.simplify(DETECT_TOLERANCE_MM)
+
+
 def _short_core(fill: BaseGeometry) -> bool:
     """Does ``fill`` hold a disc of radius NODE_CORE_RADIUS_MM (to within the detection tolerance)?"""
     if _short_side(fill) < 2 * NODE_CORE_RADIUS_MM:
@@ -431,7 +441,7 @@ def find_nodes(board: Board, tx_nets: Sequence[str], rx_nets: Sequence[str],
         key = (net, layer.name)
         if key not in c.geo:
             g = layer.by_net.get(net)
-            c.geo[key] = None if g is None or g.is_empty else _valid(_area_only(g)).simplify(DETECT_TOLERANCE_MM)
+            c.geo[key] = None if g is None or g.is_empty else _detect_outline(_valid(_area_only(g)))
         return c.geo[key]
 
     def buf(net: str, layer: str, gap: float) -> BaseGeometry:
