@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -95,14 +95,20 @@ def measure_hatch(copper_geom: BaseGeometry, window: BaseGeometry) -> HatchMeasu
     return HatchMeasure(fill, len(openings), g, w)
 
 
-def _sub_windows(own: BaseGeometry, ring_mm: float, clip: BaseGeometry) -> list[tuple[float, float, BaseGeometry]]:
-    """The rings 0-20 %, 20-50 % and 50-100 % of ``ring_mm`` out from the electrodes (0-2, 2-5, 5-10 mm)."""
+def _sub_windows(own: BaseGeometry, ring_mm: float, clip: BaseGeometry | None,
+                 grow: Callable[[float], BaseGeometry] | None = None) -> list[tuple[float, float, BaseGeometry]]:
+    """The rings 0-20 %, 20-50 % and 50-100 % of ``ring_mm`` out from the electrodes (0-2, 2-5, 5-10 mm).
+
+    ``grow(d)`` grows the electrodes by d (the run's cache; ``own.buffer`` without one); ``clip``
+    cuts the rings to the board (None when the board covers them all).
+    """
     edges = (0.0, 0.2 * ring_mm, 0.5 * ring_mm, ring_mm)
     out = []
     inner = own
     for a, b in zip(edges, edges[1:]):
-        outer = own.buffer(b)
-        out.append((a, b, outer.difference(inner).intersection(clip)))
+        outer = grow(b) if grow is not None else own.buffer(b)
+        band = outer.difference(inner)
+        out.append((a, b, band.intersection(clip) if clip is not None else band))
         inner = outer
     return out
 
@@ -257,7 +263,8 @@ class FillNearSensor(Rule):
         for s in design.sensors:
             own = self.cache.outline(s)
             ring = self.cache.grown(s, params["ring_mm"]).difference(own)
-            if board_shape is not None and not board_shape.covers(ring):
+            clipped_to_board = board_shape is not None and not board_shape.covers(ring)
+            if clipped_to_board:
                 ring = ring.intersection(board_shape)
             self_kind = s.kind in SELF_KINDS
             skip = sensing_nets(design)
@@ -277,7 +284,8 @@ class FillNearSensor(Rule):
                 if pct <= limit:
                     continue
                 sev = "warning" if self_kind else "note"
-                windows = windows or _sub_windows(own, params["ring_mm"], ring)
+                windows = windows or _sub_windows(own, params["ring_mm"], ring if clipped_to_board else None,
+                                                  lambda d, s=s: self.cache.grown(s, d))
                 dense = ring.intersection(other)
                 yield finding(
                     sev,
