@@ -1,8 +1,7 @@
 """Resource limits for untrusted input, each with a clear error when reached.
 
 Defaults pass every board of the test corpus with a wide margin and stop a crafted
-bomb within seconds. They can be changed in sensorcheck.toml ([limits]) or, for the
-archive and file limits, on the command line.
+bomb within seconds. They can be changed in sensorcheck.toml ([limits]).
 """
 
 from __future__ import annotations
