@@ -35,13 +35,14 @@ from shapely.geometry import GeometryCollection, MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Feature, ObjectKind, Polarity, SourceRef
-from sensorcheck.errors import InputError
+from sensorcheck.errors import InputError, LimitError
 from sensorcheck.fab.gerber_parser import (
     IDENTITY_XFORM,
     MacroAperture,
     ParseResult,
     StandardAperture,
 )
+from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
 MM_PER_INCH = 25.4
 EMPTY = Polygon()
@@ -375,11 +376,63 @@ def _translate_many(shapes: list[BaseGeometry], offsets: np.ndarray) -> np.ndarr
     return shapely.transform(arr, lambda c: c + shift)
 
 
-def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float) -> list[Feature]:
-    """Every graphical object -> a Feature with its own exact geometry (mm), in file order."""
+def stadium_vertices(radius_mm: float, tolerance_mm: float) -> int:
+    """Coordinates of the ring :func:`stadiums` makes for a circle of this radius (closing one included)."""
+    if radius_mm <= 0:
+        return 0
+    return 2 * (circle_segments(radius_mm, tolerance_mm) // 2 + 1) + 1
+
+
+def swept_hull_vertices(shape: BaseGeometry) -> int:
+    """At most the coordinates of a draw with a convex aperture: the convex hull of the shape at
+    both ends has no more corners than the two copies of the shape's own hull together."""
+    if shape.is_empty:
+        return 0
+    corners = int(shapely.get_num_coordinates(shapely.convex_hull(shape))) - 1
+    return 2 * max(corners, 0) + 1
+
+
+class VertexBudget:
+    """Polygon vertices of one layer, counted object by object BEFORE the geometry is built.
+
+    Each object adds the coordinates its geometry will have, by the rules that build it: a flash
+    the coordinates of its aperture's shape (built once per aperture, then only moved), a draw
+    with a circle the ring of :func:`stadiums`, a draw with another aperture at most twice its
+    shape's hull (:func:`swept_hull_vertices`), a region its contour's flattened points, an arc
+    its own geometry (built one at a time). An object that takes the count past ``limit`` is
+    refused with a LimitError at its line: a file of a few kilobytes flashing a circle of
+    thousands of vertices thousands of times is stopped before it takes gigabytes.
+    """
+
+    def __init__(self, limit: int, name: str) -> None:
+        self.limit = limit
+        self.name = name
+        self.total = 0
+
+    def add(self, count: int, line: int | None) -> None:
+        self.total += count
+        if self.total > self.limit:
+            raise LimitError(
+                self.name, line,
+                f"this object brings the layer's geometry to {self.total} polygon vertices (counted "
+                f"before it is built), more than limits.max_vertices = {self.limit}",
+                f"at most {self.limit} polygon vertices in one layer; for a genuine file, raise "
+                f"max_vertices in the [limits] table of sensorcheck.toml")
+
+
+def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float, *,
+                        limits: Limits = DEFAULT_LIMITS) -> list[Feature]:
+    """Every graphical object -> a Feature with its own exact geometry (mm), in file order.
+
+    Raises LimitError at the line of the object whose geometry would take the layer past
+    ``limits.max_vertices`` (:class:`VertexBudget`), before that geometry is built.
+    """
     objects = parsed.gerber.objects
     n = len(objects)
     tol = arc_tolerance_mm
+    budget = VertexBudget(limits.max_vertices, name)
+    shape_vertices: dict[int, int] = {}  # by id(shape): the cache keeps every shape alive
+    hull_vertices: dict[int, int] = {}
     cache_by_unit: dict[Any, ShapeCache] = {}
     geoms: list[BaseGeometry | None] = [None] * n
     paths: list[BaseGeometry | None] = [None] * n
@@ -406,6 +459,10 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float)
         k = MM_PER_INCH if obj.unit == Inch else 1.0
         if t is go.Flash:
             shape = cache_for(obj.unit).shape(obj.aperture, d.get("_sc_xform", IDENTITY_XFORM), line)
+            count = shape_vertices.get(id(shape))
+            if count is None:
+                count = shape_vertices[id(shape)] = int(shapely.get_num_coordinates(shape))
+            budget.add(count, line)
             flash_idx.append(i)
             flash_shapes.append(shape)
             flash_xy.append((obj.x * k, obj.y * k))
@@ -421,9 +478,14 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float)
             if ap.shape == "C":  # a circle sweeps a stadium: built directly, grouped by radius
                 key: Any = ("C", ap.params[0] * k * xform[3])
                 shape = None
+                budget.add(stadium_vertices(key[1] / 2, tol), line)
             else:
                 shape = cache_for(obj.unit).shape(ap, xform, line, solid=True)
                 key = id(shape)
+                count = hull_vertices.get(key)
+                if count is None:
+                    count = hull_vertices[key] = swept_hull_vertices(shape)
+                budget.add(count, line)
             grp = draw_groups.get(key)
             if grp is None:
                 grp = draw_groups[key] = (shape, [], [])
@@ -452,11 +514,13 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float)
             widths[i] = 2 * r
             if r > 0:
                 geoms[i] = shapely.buffer(path, r, quad_segs=max(2, circle_segments(r, tol) // 4))
+                budget.add(int(shapely.get_num_coordinates(geoms[i])), line)
             else:
                 geoms[i] = EMPTY
         elif t is go.Region:
             region_idx.append(i)
             region_coords.append(_region_coords(obj, k, tol))
+            budget.add(len(region_coords[-1]), line)
         else:  # pragma: no cover - gerbonara makes only these four
             raise InputError(name, line, f"unexpected object {t.__name__}", "flash, draw, arc or region")
 
@@ -765,54 +829,187 @@ def _cut_many(target: BaseGeometry, cutters: np.ndarray) -> BaseGeometry:
     return out
 
 
+#: pieces kept in the short unsorted tail of :class:`_ClearPieces` before they get a tree
+INDEX_TAIL = 64
+
+
+class _ClearPieces:
+    """The clear copper that comes later in the file, as pieces, found by their boxes.
+
+    Pieces are added one at a time and retired when merged into a bigger one, so a static
+    STRtree will not do: the pieces live in a few trees of roughly doubling sizes (a tree is
+    rebuilt with the next smaller ones, without the retired pieces, when a new one is as large;
+    the logarithmic method) plus a short tail of at most ``INDEX_TAIL`` scanned directly. Adding
+    costs O(log n) amortised rebuilds, a query O(log n) tree queries.
+    """
+
+    def __init__(self) -> None:
+        self.geoms: list[BaseGeometry] = []
+        self._alive = np.zeros(64, dtype=bool)
+        self._trees: list[tuple[shapely.STRtree, np.ndarray]] = []
+        self._tail: list[int] = []
+        self._tail_bounds: list[np.ndarray] = []
+
+    def add(self, geom: BaseGeometry) -> None:
+        i = len(self.geoms)
+        self.geoms.append(geom)
+        if i >= len(self._alive):
+            self._alive = np.concatenate((self._alive, np.zeros(len(self._alive), dtype=bool)))
+        self._alive[i] = True
+        self._tail.append(i)
+        self._tail_bounds.append(shapely.bounds(geom))
+        if len(self._tail) >= INDEX_TAIL:
+            ids = np.array(self._tail, dtype=np.int64)
+            self._tail, self._tail_bounds = [], []
+            ids = ids[self._alive[ids]]
+            while self._trees and len(self._trees[-1][1]) <= 2 * len(ids):
+                older = self._trees.pop()[1]
+                ids = np.concatenate((older[self._alive[older]], ids))
+            if len(ids):
+                self._trees.append((shapely.STRtree(np.array([self.geoms[j] for j in ids], dtype=object)), ids))
+
+    def retire(self, ids: np.ndarray) -> None:
+        self._alive[ids] = False
+        for j in ids:
+            self.geoms[int(j)] = EMPTY  # its area lives on in the piece it was merged into
+
+    def query(self, geom: BaseGeometry) -> np.ndarray:
+        """Live pieces whose boxes meet the box of ``geom``, oldest first."""
+        found: list[np.ndarray] = []
+        for k, (tree, ids) in enumerate(self._trees):
+            hit = ids[tree.query(geom)]
+            live = hit[self._alive[hit]]
+            if len(hit) > 32 and 2 * len(live) < len(hit):  # mostly retired: rebuild without them
+                keep = ids[self._alive[ids]]
+                self._trees[k] = (shapely.STRtree(np.array([self.geoms[j] for j in keep], dtype=object)), keep)
+            found.append(np.sort(live))
+        if self._tail:
+            b = np.array(self._tail_bounds)
+            x0, y0, x1, y1 = shapely.bounds(geom)
+            near = (b[:, 0] <= x1) & (b[:, 2] >= x0) & (b[:, 1] <= y1) & (b[:, 3] >= y0)
+            tail = np.array(self._tail, dtype=np.int64)[near]
+            found.append(tail[self._alive[tail]])
+        return np.concatenate(found) if found else np.empty(0, dtype=np.int64)
+
+
+#: up to this many pieces, :func:`_touching_groups` tests every pair directly
+FEW_PIECES = 16
+
+
+def _touching_groups(geoms: np.ndarray) -> list[np.ndarray]:
+    """Indices of ``geoms`` in groups that touch one another (connected by contact)."""
+    if len(geoms) == 1:
+        return [np.zeros(1, dtype=np.int64)]
+    if len(geoms) <= FEW_PIECES:  # all pairs at once; labels spread along contacts until stable
+        touch = shapely.intersects(geoms[:, None], geoms[None, :])
+        labels = np.arange(len(geoms))
+        while True:
+            spread = np.where(touch, labels[None, :], len(geoms)).min(axis=1)
+            if (spread == labels).all():
+                break
+            labels = spread
+        order = np.argsort(labels, kind="stable")
+        return np.split(order, np.flatnonzero(np.diff(labels[order])) + 1)
+    contacts = _contacts(geoms)
+    if contacts is None:  # stacked on one another: one group
+        return [np.arange(len(geoms))]
+    left, right = contacts
+    if len(left) == 0:
+        return [np.array([j]) for j in range(len(geoms))]
+    _, labels = connected_components(
+        coo_matrix((np.ones(len(left), dtype=np.int8), (left, right)), shape=(len(geoms), len(geoms))),
+        directed=False,
+    )
+    order = np.argsort(labels, kind="stable")
+    return np.split(order, np.flatnonzero(np.diff(labels[order])) + 1)
+
+
+def _later_clear_candidates(features: list[Feature], dark_pos: np.ndarray, clear_pos: np.ndarray) -> np.ndarray:
+    """Which dark objects have a later clear object whose box meets theirs (a mask over dark_pos).
+
+    One vectorised box query, in chunks; past a budget that grows with the input (objects stacked
+    on one another make every pair a candidate) the rest are all taken as candidates: the sweep
+    sorts them out at no more than its usual cost.
+    """
+    tree = shapely.STRtree(np.array([features[i].geometry for i in clear_pos], dtype=object))
+    dark_geoms = np.array([features[i].geometry for i in dark_pos], dtype=object)
+    mask = np.zeros(len(dark_pos), dtype=bool)
+    budget = 32 * (len(dark_pos) + len(clear_pos)) + 100_000
+    total = 0
+    for start in range(0, len(dark_pos), QUERY_CHUNK):
+        d, c = tree.query(dark_geoms[start:start + QUERY_CHUNK])
+        later = clear_pos[c] > dark_pos[d + start]
+        mask[d[later] + start] = True
+        total += len(d)
+        if total > budget:
+            mask[start + QUERY_CHUNK:] = True
+            break
+    return mask
+
+
 def effective_dark(features: list[Feature]) -> list[tuple[Feature, BaseGeometry]]:
     """Each dark feature with what survives of it once every later clear object is applied.
 
     A point is dark when the last object covering it is dark (Gerber spec section 4.9.2,
-    polarity in file order). So each dark object loses exactly the later clear objects that
-    touch it: found with an STRtree, unioned once per distinct set, subtracted in one
-    vectorised call. The work stays local, however often the polarity alternates.
+    polarity in file order). So each dark object loses exactly the clear objects after it.
+
+    A sweep backwards through the file keeps the clear copper seen so far (all of it later than
+    the object at hand) as pieces in a spatial index. A dark object is cut by the pieces it
+    touches; pieces it touches that also touch each other are merged into one (their union is
+    what the cut needs anyway), so clear objects stacked on one another become one piece and
+    each dark object under the stack meets one piece, not every clear object after it: the
+    cost stays near linear however often the polarity alternates (it grew with the square, and
+    with the cube for stacked objects, when each dark object unioned all of its later clear
+    objects afresh). Pieces that touch nothing else stay apart, and a polygon cut by many of
+    them (the openings of a hatch, clearances in a pour) goes through :func:`_cut_many`.
+    Only dark objects whose box meets a later clear object's box take part in the sweep.
     """
-    dark_pos = [i for i, f in enumerate(features) if f.polarity == "dark" and not f.geometry.is_empty]
+    dark_pos = np.array([i for i, f in enumerate(features) if f.polarity == "dark" and not f.geometry.is_empty],
+                        dtype=np.int64)
     clear_pos = np.array([i for i, f in enumerate(features) if f.polarity == "clear" and not f.geometry.is_empty],
                          dtype=np.int64)
-    if not dark_pos:
+    if len(dark_pos) == 0:
         return []
+    result: dict[int, BaseGeometry] = {int(i): features[int(i)].geometry for i in dark_pos}
     if len(clear_pos) == 0:
-        return [(features[i], features[i].geometry) for i in dark_pos]
-    dark_geoms = np.array([features[i].geometry for i in dark_pos], dtype=object)
-    clear_geoms = np.array([features[i].geometry for i in clear_pos], dtype=object)
-    tree = shapely.STRtree(clear_geoms)
-    d_idx, c_idx = tree.query(dark_geoms, predicate="intersects")
-    later = clear_pos[c_idx] > np.asarray(dark_pos, dtype=np.int64)[d_idx]
-    d_idx, c_idx = d_idx[later], c_idx[later]
-    result = list(dark_geoms)
-    if len(d_idx):
-        order = np.argsort(d_idx, kind="stable")
-        d_idx, c_idx = d_idx[order], c_idx[order]
-        splits = np.flatnonzero(np.diff(d_idx)) + 1
-        cut_cache: dict[tuple[int, ...], BaseGeometry] = {}
-        targets: list[int] = []
-        cuts: list[BaseGeometry] = []
-        for d_group, c_group in zip(np.split(d_idx, splits), np.split(c_idx, splits)):
-            target = int(d_group[0])
-            if len(c_group) >= MANY_CUTS and shapely.get_type_id(dark_geoms[target]) == 3:
-                result[target] = _cut_many(dark_geoms[target], clear_geoms[c_group])
-                continue
-            key = tuple(c_group.tolist())
-            cut = cut_cache.get(key)
-            if cut is None:
-                cut = clear_geoms[key[0]] if len(key) == 1 else _union(list(clear_geoms[list(key)]))
-                cut_cache[key] = cut
-            targets.append(target)
-            cuts.append(cut)
-        if targets:
-            cut_arr = np.empty(len(cuts), dtype=object)
-            cut_arr[:] = cuts
-            left = shapely.difference(dark_geoms[targets], cut_arr)
-            for t, g in zip(targets, left):
-                result[t] = g
-    return [(features[i], g) for i, g in zip(dark_pos, result) if not g.is_empty]
+        return [(features[i], g) for i, g in result.items()]
+    swept = dark_pos[_later_clear_candidates(features, dark_pos, clear_pos)]
+    order = np.sort(np.concatenate((swept, clear_pos)))[::-1]
+    pieces = _ClearPieces()
+    for i in order.tolist():
+        geom = features[i].geometry
+        if features[i].polarity == "clear":
+            pieces.add(geom)
+            continue
+        near = pieces.query(geom)
+        if len(near) == 0:
+            continue
+        near_geoms = np.array([pieces.geoms[j] for j in near], dtype=object)
+        touch = shapely.intersects(geom, near_geoms)
+        if not touch.any():
+            continue
+        near, near_geoms = near[touch], near_geoms[touch]
+        if len(near) > 1:  # pieces that touch one another become one (connected: one plain union)
+            merged: list[BaseGeometry] = []
+            for group in _touching_groups(near_geoms):
+                if len(group) == 1:
+                    merged.append(near_geoms[group[0]])
+                    continue
+                piece = shapely.union_all(near_geoms[group])
+                pieces.retire(near[group])
+                pieces.add(piece)
+                merged.append(piece)
+            near_geoms = np.empty(len(merged), dtype=object)
+            near_geoms[:] = merged
+        if len(near_geoms) >= MANY_CUTS and shapely.get_type_id(geom) == 3:
+            result[i] = _cut_many(geom, near_geoms)
+        elif len(near_geoms) == 1:
+            result[i] = shapely.difference(geom, near_geoms[0])
+        else:  # pieces apart from one another: their parts make a valid MultiPolygon as they are
+            parts = _polygon_parts(near_geoms)
+            parts = parts[shapely.get_type_id(parts) == 3]
+            result[i] = shapely.difference(geom, shapely.multipolygons(parts))
+    return [(features[i], g) for i, g in result.items() if not g.is_empty]
 
 
 def images_by_net(features: list[Feature]) -> dict[str | None, BaseGeometry]:
