@@ -169,6 +169,60 @@ def test_coincident_flashes_within_every_limit(worker: Worker) -> None:
     assert out.kind in ("ok", "ours") and out.seconds < GUARD_S
 
 
+# Stacked objects alternating dark and clear polarity (Gerber spec 2023.08 s. 4.9.2: a clear object
+# clears what came before it) once cost more than the square of their count: each dark object
+# unioned all of its later clear objects afresh (500 written out: 9.5 s; 1 000 made by SR: 61 s;
+# 20 000: not done in 120 s). The backward sweep of gerber_geometry.effective_dark merges the clear
+# objects it has passed as it goes. POLARITY_BOUND_S guards against a return of that cost, wide
+# enough for a loaded 2-core CI machine; not a speed assertion.
+POLARITY_BOUND_S = 10.0
+
+
+def _read_bounded(worker: Worker, text: str, name: str, bound_s: float) -> Outcome:
+    worker.time_bound_s = bound_s
+    try:
+        out = worker.run("gerber", text.encode(), name)
+    finally:
+        worker.time_bound_s = GUARD_S
+    print(f"\n{name}: {out.kind} {out.error_type} line {out.line}: {out.message} ({out.seconds:.2f} s)")
+    return out
+
+
+def test_500_stacked_objects_alternating_polarity_written_out(worker: Worker) -> None:
+    body = "".join(("%LPD*%\n" if k % 2 == 0 else "%LPC*%\n") + "X0Y0D03*\n" for k in range(500))
+    text = HEAD.replace("C,0.1", "C,1") + body + "M02*\n"
+    assert len(text) < 10_000
+    out = _read_bounded(worker, text, "alternating-500.gbr", POLARITY_BOUND_S)
+    assert out.kind == "ok", out
+
+
+def test_20000_stacked_objects_alternating_polarity_by_step_and_repeat(worker: Worker) -> None:
+    # 10 000 copies of a block of a dark and a clear 1 mm circle on one spot: 19 998 made by copying,
+    # just within max_expanded_objects = 20 000; then one dark flash of a smaller circle on top
+    assert 2 * 10_000 - 2 <= DEFAULT_LIMITS.max_expanded_objects
+    text = (HEAD.replace("C,0.1", "C,1") + "%SRX10000Y1I0J0*%\n%LPD*%\nX0Y0D03*\n%LPC*%\nX0Y0D03*\n%SR*%\n"
+            "%LPD*%\n%ADD11C,0.5*%\nD11*\nX0Y0D03*\nM02*\n")
+    out = _read_bounded(worker, text, "alternating-sr.gbr", POLARITY_BOUND_S)
+    assert out.kind == "ok", out
+
+
+def test_huge_circle_flashed_20000_times_is_refused_before_the_geometry(worker: Worker) -> None:
+    # a 10 m circle (4 968 segments at the default 1 um chord tolerance, from the reader's own rule)
+    # flashed 20 000 times by SR, 0.01 mm apart: about 1e8 vertices, which took 3 GB and ended in a
+    # MemoryError after ~12 s. The vertices are counted as the objects are converted, before any
+    # geometry is built: refused at the flash's line (6) by max_vertices, in milliseconds.
+    from sensorcheck.fab.gerber_geometry import circle_segments
+
+    per_flash = circle_segments(5000.0, 0.001) + 1
+    assert 20_000 * per_flash > DEFAULT_LIMITS.max_vertices
+    text = HEAD.replace("C,0.1", "C,10000") + "%SRX20000Y1I0.01J0*%\nX0Y0D03*\n%SR*%\nM02*\n"
+    out = _read_bounded(worker, text, "huge-circles.gbr", POLARITY_BOUND_S)
+    assert out.kind == "ours" and out.error_type == "LimitError" and out.file == "huge-circles.gbr", out
+    assert out.line == 6
+    assert f"limits.max_vertices = {DEFAULT_LIMITS.max_vertices}" in (out.message or "")
+    assert "counted before it is built" in (out.message or "")
+
+
 def test_aperture_scaled_to_100_m(worker: Worker) -> None:
     text = HEAD + "%LS1000000*%\n" + "".join(f"X{k * 100000}Y0D02*\nX{k * 100000}Y1000000D01*\n" for k in range(1000))
     out = _stopped(worker, "gerber", text + "M02*\n", "scaled.gbr")
