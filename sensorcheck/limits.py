@@ -36,11 +36,14 @@ class Limits:
     #: refused in milliseconds. At 50 000 the grid took 9.1 s and the circles 11.0 s, at 100 000
     #: the grid 24 s: 20 000 keeps the worst case at about 4 s. No corpus board uses AB or SR
     #: (0 made); the demo board's top copper (1392 objects) stepped 3 x 2 makes 6960.
-    #: Not bounded by it: geometry whose cost grows faster than the object count (stacked
-    #: objects alternating dark and clear polarity, apertures of thousands of vertices), the
-    #: same whether written out or copied.
+    #: Geometry whose cost can grow faster than the object count: apertures of thousands of
+    #: vertices are bounded by max_vertices (counted before the geometry is built); objects
+    #: stacked on one spot alternating dark and clear polarity now cost near linear time
+    #: (20 000 made by SR: 3 s), but such objects each shifted a little (every clear one
+    #: touching hundreds of later ones) still grow with the square (2 000: 13 s), not bounded.
     max_expanded_objects: int = 20_000
-    #: polygon vertices in one layer's geometry
+    #: polygon vertices in one layer's geometry, counted object by object by the rules that
+    #: build it, before it is built: refused at the line of the object that passes it
     max_vertices: int = 50_000_000
     #: Excellon holes in one file
     max_holes: int = 2_000_000
