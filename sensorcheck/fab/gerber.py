@@ -141,7 +141,7 @@ def _read(data: bytes, name: str, arc_tolerance_mm: float, limits: Limits) -> Ge
         raise InputError(name, 1, "empty file", "Gerber commands ending with M02*")
     try:
         parsed = parse_gerber_text(text, name, limits)
-        features = gerber_geometry.objects_to_features(parsed, name, arc_tolerance_mm)
+        features = gerber_geometry.objects_to_features(parsed, name, arc_tolerance_mm, limits=limits)
         # the parser's objects are not needed past this point: free them before the unions,
         # which is where a large layer reaches its peak memory
         parsed.gerber.objects = []

@@ -210,3 +210,13 @@ def test_huge_circle_flashed_often_is_refused_before_the_geometry() -> None:
     assert err.file == "huge.gbr" and err.line == 4 + 51
     assert f"limits.max_vertices = {50 * per_flash}" in err.message and str(51 * per_flash) in err.message
     assert "[limits]" in (err.expected or "") and "max_vertices" in (err.expected or "")
+
+
+def test_the_configured_vertex_limit_reaches_the_early_count() -> None:
+    """``read_gerber`` hands its limits to the geometry step: a lowered ``max_vertices`` refuses at the
+    line of the flash that passes it (the after-the-fact check has no line), before any union."""
+    per_flash = circle_segments(5000.0, TOL) + 1
+    text = HEAD + "%ADD10C,10000*%\nD10*\n" + "".join(f"X{k}Y0D03*\n" for k in range(100)) + "M02*\n"
+    with pytest.raises(LimitError) as info:
+        read_gerber(text.encode(), "huge.gbr", arc_tolerance_mm=TOL, limits=Limits(max_vertices=50 * per_flash))
+    assert info.value.line == 4 + 51
