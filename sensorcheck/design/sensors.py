@@ -211,17 +211,24 @@ def _net_copper(board: Board, net: str, except_layer: str | None = None,
     return out
 
 
-def _and_by_part(geom: BaseGeometry, other: BaseGeometry) -> BaseGeometry:
-    """``geom`` cut by ``other``, taking only the polygons of ``geom`` whose box meets that of ``other``."""
+def _parts_meeting(geom: BaseGeometry, other: BaseGeometry) -> tuple[list[Polygon], list[bool]] | None:
+    """The polygons of ``geom`` and whether each one's box meets ``other``'s; None when the cut
+    must take ``geom`` whole (one polygon, ``other`` empty, or every box meets)."""
     parts = _polys(geom)
     if len(parts) < 2 or other.is_empty:
-        return _area_only(geom.intersection(other))
+        return None
     ox0, oy0, ox1, oy1 = other.bounds
     b = shapely.bounds(parts)
     meets = (b[:, 0] <= ox1) & (ox0 <= b[:, 2]) & (b[:, 1] <= oy1) & (oy0 <= b[:, 3])
-    if meets.all():
+    return None if meets.all() else (parts, meets.tolist())
+
+
+def _and_by_part(geom: BaseGeometry, other: BaseGeometry) -> BaseGeometry:
+    """``geom`` cut by ``other``, taking only the polygons of ``geom`` whose box meets that of ``other``."""
+    split = _parts_meeting(geom, other)
+    if split is None:
         return _area_only(geom.intersection(other))
-    hit = [p for p, m in zip(parts, meets.tolist()) if m]
+    hit = [p for p, m in zip(*split) if m]
     if not hit:
         return _empty()
     return _area_only((hit[0] if len(hit) == 1 else MultiPolygon(hit)).intersection(other))
@@ -229,16 +236,11 @@ def _and_by_part(geom: BaseGeometry, other: BaseGeometry) -> BaseGeometry:
 
 def _minus_by_part(geom: BaseGeometry, minus: BaseGeometry) -> BaseGeometry:
     """``geom`` without ``minus``, cutting only the polygons of ``geom`` whose box meets that of ``minus``."""
-    parts = _polys(geom)
-    if len(parts) < 2 or minus.is_empty:
-        return _area_only(geom.difference(minus))
-    mx0, my0, mx1, my1 = minus.bounds
-    b = shapely.bounds(parts)
-    meets = (b[:, 0] <= mx1) & (mx0 <= b[:, 2]) & (b[:, 1] <= my1) & (my0 <= b[:, 3])
-    if meets.all():
+    split = _parts_meeting(geom, minus)
+    if split is None:
         return _area_only(geom.difference(minus))
     keep: list[Polygon] = []
-    for p, m in zip(parts, meets.tolist()):
+    for p, m in zip(*split):
         keep.extend(_polys(p.difference(minus)) if m else [p])
     if not keep:
         return _empty()
