@@ -13,7 +13,7 @@ from shapely.geometry import LineString, MultiLineString, Point
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Board, Feature, Hole, Layer
-from sensorcheck.design.model import Design, Electrode, Sensor
+from sensorcheck.design.model import Design, Sensor
 from sensorcheck.errors import ConfigError
 from sensorcheck.rules.engine import Param
 from sensorcheck.rules.finding import Finding, Location, Severity
@@ -217,27 +217,13 @@ def source_near(features: Sequence[Feature], geom: BaseGeometry) -> Any:
     return features[min(range(len(features)), key=lambda k: dist[k])].source
 
 
-def trace_features(board: Board, electrode: Electrode) -> dict[str, list[Feature]]:
-    """Draw/arc features of an electrode's net outside its electrode copper, per layer."""
-    out: dict[str, list[Feature]] = {}
-    for lay in board.copper_layers():
-        feats = [f for f in net_features(board, lay.name, [electrode.net]) if f.path is not None]
-        if lay.name == electrode.layer:
-            shrunk = electrode.geometry.buffer(-1e-3)
-            feats = [f for f in feats if not shrunk.contains(f.path)]
-        if feats:
-            out[lay.name] = feats
-    return out
-
-
-def trace_geometry(electrode: Electrode) -> dict[str, BaseGeometry]:
-    """The electrode's trace copper per layer, without the electrode itself."""
-    out: dict[str, BaseGeometry] = {}
-    for layer, geom in electrode.trace.items():
-        g = geom.difference(electrode.geometry) if layer == electrode.layer else geom
-        if not g.is_empty and g.area > 1e-6:
-            out[layer] = g
-    return out
+def box_mask(geom: BaseGeometry, boxes: np.ndarray) -> np.ndarray:
+    """Which of ``boxes`` (rows x0, y0, x1, y1) meet the box of ``geom``, edges included, all at
+    once (as :func:`bbox_overlap` for each; an empty ``geom`` meets none, a NaN box nothing)."""
+    if geom.is_empty:
+        return np.zeros(len(boxes), dtype=bool)
+    x0, y0, x1, y1 = geom.bounds
+    return (boxes[:, 0] <= x1) & (x0 <= boxes[:, 2]) & (boxes[:, 1] <= y1) & (y0 <= boxes[:, 3])
 
 
 def bbox_overlap(a: BaseGeometry, b: BaseGeometry) -> bool:

@@ -11,6 +11,7 @@ import shapely
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
     VIA_DIAMETER_PARAM,
+    box_mask,
     finding,
     fmt,
     hole_nets,
@@ -127,8 +128,7 @@ def _touching(lay: Any, geom: Any, boxes: dict[str, np.ndarray]) -> list[Any]:
     if lay.name not in boxes:
         boxes[lay.name] = shapely.bounds(np.array([f.geometry for f in lay.features], dtype=object)).reshape(-1, 4)
     b = boxes[lay.name]
-    x0, y0, x1, y1 = geom.bounds
-    near = np.flatnonzero((b[:, 0] <= x1) & (x0 <= b[:, 2]) & (b[:, 1] <= y1) & (y0 <= b[:, 3]))
+    near = np.flatnonzero(box_mask(geom, b))
     return [lay.features[int(k)] for k in near if lay.features[int(k)].geometry.intersects(geom)]
 
 
@@ -179,11 +179,8 @@ class FloatingCopper(Rule):
             near = self.cache.grown(s, params["distance_mm"])
             if near.is_empty:
                 continue
-            x0, y0, x1, y1 = near.bounds
             for lay in design.board.copper_layers():
-                b = island_boxes[lay.name]
-                meets = (b[:, 0] <= x1) & (x0 <= b[:, 2]) & (b[:, 1] <= y1) & (y0 <= b[:, 3])  # bbox_overlap, all at once
-                for k in np.flatnonzero(meets):
+                for k in np.flatnonzero(box_mask(near, island_boxes[lay.name])):
                     net, geom = islands[lay.name][int(k)]
                     ov = geom.intersection(near)
                     if ov.is_empty or ov.area < params["min_area_mm2"]:

@@ -18,6 +18,7 @@ from sensorcheck.rules.common import (
     EMPTY,
     SELF_KINDS,
     bbox_overlap,
+    box_mask,
     clipped_union,
     finding,
     fmt,
@@ -208,9 +209,7 @@ def _features_meeting(features: list[Feature], skip: set[str], window: BaseGeome
     cand = [f for f in features if f.net not in skip and f.polarity == "dark"]
     if not cand or window.is_empty:
         return []
-    x0, y0, x1, y1 = window.bounds
-    b = shapely.bounds(np.array([f.geometry for f in cand], dtype=object))
-    keep = (b[:, 0] <= x1) & (x0 <= b[:, 2]) & (b[:, 1] <= y1) & (y0 <= b[:, 3])
+    keep = box_mask(window, shapely.bounds(np.array([f.geometry for f in cand], dtype=object)))
     return [f for f, k in zip(cand, keep) if k]
 
 

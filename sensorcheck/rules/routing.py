@@ -19,6 +19,7 @@ from sensorcheck.rules.common import (
     REFERENCE_ROLES,
     SELF_KINDS,
     aggressor_kind,
+    box_mask,
     finding,
     fmt,
     hole_nets,
@@ -39,9 +40,9 @@ from sensorcheck.rules.finding import Finding, Severity
 class FeatureIndex:
     """A board's dark copper features by layer and net, made once per rule run.
 
-    ``net(layer, net)`` is ``net_features(board, layer, [net])`` and ``trace(electrode)`` is
-    ``trace_features(board, electrode)`` (same features, same order), without a pass over the
-    whole layer per call; the electrode is shrunk for the containment test only when one of its
+    ``net(layer, net)`` is ``net_features(board, layer, [net])`` (same features, same order)
+    without a pass over the whole layer per call; ``trace(electrode)`` is the draws and arcs of the
+    electrode's net on every layer that are not inside the electrode (shrunk by 1 um); the electrode is shrunk for the containment test only when one of its
     net's draws lies inside the electrode's box (a path inside the shrunk electrode lies inside
     that box), and only those draws are tested.
     """
@@ -356,7 +357,7 @@ class TraceUnderElectrode(Rule):
                     traces.append((layer, tg))
                     # which judged electrodes the trace's box meets (as bbox_overlap), and of those the ones
                     # it really touches (else the overlap is empty)
-                    cand = np.flatnonzero(_box_mask(tg, boxes) & judged)
+                    cand = np.flatnonzero(box_mask(tg, boxes) & judged)
                     if len(cand):
                         shapely.prepare(tg)
                         touch = shapely.intersects(tg, np.array([flat[k][1].geometry for k in cand], dtype=object))
@@ -426,19 +427,12 @@ def _trace_hits(electrodes: list[Electrode]) -> set[tuple[int, str, int]]:
 
 
 def _trace_without_electrode(e: Electrode, layer: str, geom: BaseGeometry) -> BaseGeometry | None:
-    """``trace_geometry(e)[layer]`` (same operations), made for one layer; None where it has none."""
+    """The electrode's trace copper on ``layer`` (``geom``), without the electrode itself; None where
+    nothing of area is left."""
     g = geom.difference(e.geometry) if layer == e.layer else geom
     if not g.is_empty and g.area > 1e-6:
         return g
     return None
-
-
-def _box_mask(geom: BaseGeometry, boxes: np.ndarray) -> np.ndarray:
-    """Which of ``boxes`` (rows x0, y0, x1, y1) meet the box of ``geom``, edges included (as ``bbox_overlap``)."""
-    if geom.is_empty:
-        return np.zeros(len(boxes), dtype=bool)
-    x0, y0, x1, y1 = geom.bounds
-    return (boxes[:, 0] <= x1) & (x0 <= boxes[:, 2]) & (boxes[:, 1] <= y1) & (y0 <= boxes[:, 3])
 
 
 def _sensor_copper(design: Design, s: Sensor, layer: str) -> BaseGeometry:

@@ -288,9 +288,21 @@ def test_crossing_angle_reports_the_shallowest_of_several() -> None:
 
 
 def test_feature_index_matches_the_shared_helpers() -> None:
-    # the per-run index must hand out what common.net_features / trace_features / hole_nets give
-    from sensorcheck.rules.common import hole_nets, net_features, trace_features
+    # the per-run index must hand out what common.net_features / hole_nets give, and for a trace
+    # what the plain rule gives: the net's draws not inside the electrode shrunk by 1 um
+    from sensorcheck.rules.common import hole_nets, net_features
     from sensorcheck.rules.routing import FeatureIndex
+
+    def trace_features(board, electrode):  # the rule written out plainly, one feature at a time
+        out = {}
+        for lay in board.copper_layers():
+            feats = [f for f in net_features(board, lay.name, [electrode.net]) if f.path is not None]
+            if lay.name == electrode.layer:
+                shrunk = electrode.geometry.buffer(-1e-3)
+                feats = [f for f in feats if not shrunk.contains(f.path)]
+            if feats:
+                out[lay.name] = feats
+        return out
 
     inside = draw("top-copper", [(-3, 0), (3, 0)], 0.2, "TOUCH1", line=2)  # within the pad: not trace
     out = draw("top-copper", [(0, -5), (0, -20)], 0.2, "TOUCH1", line=3)  # leaves the pad: trace
