@@ -39,12 +39,27 @@ class Limits:
     #: Geometry whose cost can grow faster than the object count: apertures of thousands of
     #: vertices are bounded by max_vertices (counted before the geometry is built); objects
     #: stacked on one spot alternating dark and clear polarity now cost near linear time
-    #: (20 000 made by SR: 3 s), but such objects each shifted a little (every clear one
-    #: touching hundreds of later ones) still grow with the square (2 000: 13 s), not bounded.
+    #: (20 000 made by SR: 3 s); such objects each shifted a little (every clear one touching
+    #: hundreds of later ones) still grow with the square, bounded by max_polarity_work.
     max_expanded_objects: int = 20_000
     #: polygon vertices in one layer's geometry, counted object by object by the rules that
     #: build it, before it is built: refused at the line of the object that passes it
     max_vertices: int = 50_000_000
+    #: work of applying clear polarity (LPC) in one layer: polygon vertices of clear copper that
+    #: the backward sweep of gerber_geometry.effective_dark handles again (a clear piece tested
+    #: against, or merged by, a dark object after an earlier dark object already met it, plus
+    #: that object's own vertices per such test; see PolarityWorkBudget). Refused at the line of
+    #: the object being processed. An honest layer meets each clear piece about once: measured
+    #: per layer, the corpus's largest is 14 640 (b02 bottom silkscreen, 708 kB), the 10 MB
+    #: hatch and panel scaling layers (bench/make_large_board.py) count 0, and so would at 50 MB
+    #: (each clear piece met by one dark object, whatever the size); the corpus silkscreens
+    #: scaled by bytes to 50 MB would count 1.0e6 (b02) and 2.7e6 (b01). Crafted stacks of dark
+    #: and clear 1 mm circles alternating, each 1 um further on (every clear one touching
+    #: hundreds of later ones), count ~2e6 per CPU second and grow with the square of their
+    #: count: 2 000 written out 4.1e6 in 2.7 s, 4 000 by SR 1.6e7 in 8.6 s, 8 000 6.5e7 in
+    #: 32 s (20 000 by SR: minutes). 5e6 stops the 20 000 in 3.2 s (read included), passes the
+    #: 2 000 (2.8 s), and is 340 times the corpus's largest layer.
+    max_polarity_work: int = 5_000_000
     #: Excellon holes in one file
     max_holes: int = 2_000_000
     #: boundary-element panels for one sensor solve
