@@ -171,6 +171,27 @@ def test_expansion_limit_from_the_config_is_honoured(tmp_path: Path) -> None:
     assert "limits.max_expanded_objects = 3" in info.value.message
 
 
+def test_polarity_work_limit_from_the_config_is_honoured(tmp_path: Path) -> None:
+    # [limits] max_polarity_work reaches the polarity sweep through the reader. Five 1 mm squares,
+    # each 1 um further on: dark, clear, dark, clear, dark (spec 2023.08 s. 4.9.2: each clear one
+    # clears what came before it). Sweeping back from the end, the clear square on
+    # line 12 is met by the dark one on line 10, then again (with the clear one on line 8) by the
+    # dark one on line 6: the first work counted, past a limit of 1, refused at line 6.
+    from sensorcheck.errors import LimitError
+    from sensorcheck.fab.gerber import read_gerber
+
+    assert load_config(None).limits.max_polarity_work == Limits().max_polarity_work
+    c = load_config(write(tmp_path, "[limits]\nmax_polarity_work = 1\n"), profiles_dir=tmp_path)
+    assert c.limits == Limits(max_polarity_work=1)
+    text = "%FSLAX46Y46*%\n%MOMM*%\n%ADD10R,1X1*%\nD10*\n" + "".join(
+        ("%LPD*%\n" if k % 2 == 0 else "%LPC*%\n") + f"X{k * 1000}Y0D03*\n" for k in range(5)) + "M02*\n"
+    assert read_gerber(text.encode(), "ok.gbr").object_count == 5  # the default reads it
+    with pytest.raises(LimitError) as info:
+        read_gerber(text.encode(), "over.gbr", limits=c.limits)
+    assert (info.value.file, info.value.line) == ("over.gbr", 6)
+    assert "limits.max_polarity_work = 1" in info.value.message
+
+
 def test_defaults_without_a_file() -> None:
     c = load_config(None)
     assert c.file is None and c.overlay is None and c.roles == []

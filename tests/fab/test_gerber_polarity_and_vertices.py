@@ -17,7 +17,7 @@ import pytest
 import shapely
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-from shapely.geometry import Point, box
+from shapely.geometry import Point, Polygon, box
 
 from sensorcheck.board.model import Feature, SourceRef
 from sensorcheck.errors import LimitError
@@ -220,3 +220,61 @@ def test_the_configured_vertex_limit_reaches_the_early_count() -> None:
     with pytest.raises(LimitError) as info:
         read_gerber(text.encode(), "huge.gbr", arc_tolerance_mm=TOL, limits=Limits(max_vertices=50 * per_flash))
     assert info.value.line == 4 + 51
+
+
+# --------------------------------------------------------------------------- polarity work budget
+
+
+def shifted_stack(n: int, shift_mm: float) -> str:
+    """n squares of 1 mm, alternating dark (even k) and clear (odd k), square k at x = k * shift.
+    Object k's flash is on line 6 + 2 * k of the file (HEAD 2 lines, the aperture and its
+    selection 2, then one %LP..*% line and one flash line per object)."""
+    return square_aperture(10, 1.0) + "D10*\n" + "".join(
+        ("%LPD*%\n" if k % 2 == 0 else "%LPC*%\n") + f"X{mm(k * shift_mm)}Y0D03*\n" for k in range(n))
+
+
+def test_polarity_work_budget_refuses_a_shifted_stack_at_the_line_of_the_object() -> None:
+    # 41 squares of 1 mm, each 1 um further on, dark and clear alternating: every clear square
+    # touches every later one, so the sweep's clear piece grows with the file.
+    n, shift = 41, 0.001
+    text = (HEAD + shifted_stack(n, shift) + "M02*\n").encode()
+
+    def sweep(limit: int) -> None:
+        parsed = parse_gerber_text(decode_gerber(text, "stack.gbr"), "stack.gbr")
+        effective_dark(objects_to_features(parsed, "stack.gbr", TOL, limits=Limits(max_polarity_work=limit)))
+
+    # Sweeping from the end of the file: object 40 (dark) has nothing after it, 39 (clear) is a
+    # piece, 38 (dark) is the first to meet it (not counted), 36 (dark) meets it again together
+    # with 37: that is the first work counted (by hand: 5 + 5 coordinates of two squares at the
+    # least), so a budget of 1 is passed at object 36, on line 6 + 2 * 36 = 78.
+    with pytest.raises(LimitError) as info:
+        sweep(1)
+    assert (info.value.file, info.value.line) == ("stack.gbr", 6 + 2 * 36)
+    assert "limits.max_polarity_work = 1" in info.value.message
+    assert "max_polarity_work in the [limits] table of sensorcheck.toml" in (info.value.expected or "")
+    # a larger budget lasts further back through the file (a dark object, an even k, earlier)
+    with pytest.raises(LimitError) as later:
+        sweep(200)
+    k = ((later.value.line or 0) - 6) // 2
+    assert (later.value.line or 0) == 6 + 2 * k and k % 2 == 0 and k < 36
+
+    # A generous budget reads it. By hand, from the polarity rule (spec 4.9.2: the last object
+    # covering a point decides): for 0 <= x < 40 * shift the last square covering x is
+    # k = floor(x / shift), dark when k is even: half of that strip, (n - 1) * shift / 2 = 0.02 mm2;
+    # from x = 40 * shift the last square (k = 40, dark) covers 1 mm2: 1.02 mm2 in all.
+    got = read_gerber(text, "stack.gbr", limits=Limits(max_polarity_work=1_000_000)).dark
+    assert got.area == pytest.approx((n - 1) * shift / 2 + 1.0, abs=1e-6)
+    # the rule applied literally, object by object (plain shapely), agrees
+    image = Polygon()
+    for k in range(n):
+        sq = box(k * shift - 0.5, -0.5, k * shift + 0.5, 0.5)
+        image = image.union(sq) if k % 2 == 0 else image.difference(sq)
+    assert got.symmetric_difference(image).area < 1e-9
+
+
+def test_polarity_work_budget_reaches_the_sweep_through_read_gerber() -> None:
+    # the reader's limits travel with its features (FeatureList) to images_by_net
+    text = (HEAD + shifted_stack(41, 0.001) + "M02*\n").encode()
+    with pytest.raises(LimitError) as info:
+        read_gerber(text, "stack.gbr", limits=Limits(max_polarity_work=1))
+    assert info.value.line == 6 + 2 * 36

@@ -206,6 +206,24 @@ def test_20000_stacked_objects_alternating_polarity_by_step_and_repeat(worker: W
     assert out.kind == "ok", out
 
 
+def test_20000_shifted_objects_alternating_polarity_by_step_and_repeat_are_refused(worker: Worker) -> None:
+    # Each object 1 um further on than the one before (a block of a dark 1 mm circle and a clear one
+    # 1 um to its right, stepped 10 000 times by 2 um: 19 998 made by copying, within
+    # max_expanded_objects): every clear circle touches hundreds of later ones, so the clear copper
+    # the polarity sweep keeps grows with the file and every dark object meets it again, which grows
+    # with the square of the count (2 000 written out: 2.7 s, 8 000: 32 s; 20 000: minutes).
+    # max_polarity_work stops it at the line of a dark object (the block's LPD flash, line 7, which
+    # every copy shares) within the guard.
+    assert 2 * 10_000 - 2 <= DEFAULT_LIMITS.max_expanded_objects
+    text = (HEAD.replace("C,0.1", "C,1") + "%SRX10000Y1I0.002J0*%\n%LPD*%\nX0Y0D03*\n%LPC*%\nX1000Y0D03*\n"
+            "%SR*%\nM02*\n")
+    assert len(text) < 200
+    out = _read_bounded(worker, text, "shifted-sr.gbr", POLARITY_BOUND_S)
+    assert out.kind == "ours" and out.error_type == "LimitError" and out.file == "shifted-sr.gbr", out
+    assert out.line == 7
+    assert f"limits.max_polarity_work = {DEFAULT_LIMITS.max_polarity_work}" in (out.message or "")
+
+
 def test_huge_circle_flashed_20000_times_is_refused_before_the_geometry(worker: Worker) -> None:
     # a 10 m circle (4 968 segments at the default 1 um chord tolerance, from the reader's own rule)
     # flashed 20 000 times by SR, 0.01 mm apart: about 1e8 vertices, which took 3 GB and ended in a
