@@ -110,7 +110,6 @@ def read_excellon(
     file_plated = out.plated if ff and ff[0] in ("plated", "nonplated") else plated_hint
 
     st = _State()
-    units_seen = False
     tools: dict[int, _Tool] = {}
     pending_plated: bool | None = None  # from the last ;TYPE= comment (Altium)
     pending_ta: tuple[bool | None, str | None] | None = None  # from the last TA.AperFunction comment
@@ -238,7 +237,6 @@ def read_excellon(
         m = _UNITS_RE.match(ln)
         if m:
             st.inch = m.group(1) == "INCH"
-            units_seen = True
             zeros = m.group(2) or m.group(5)
             if zeros:
                 st.zeros = zeros
@@ -247,7 +245,6 @@ def read_excellon(
             continue
         if ln in ("M71", "M72"):
             st.inch = ln == "M72"
-            units_seen = True
             continue
         m = _TOOL_DEF_RE.match(ln)
         if m and "C" in m.group(2):

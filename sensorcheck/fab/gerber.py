@@ -150,7 +150,7 @@ def _read(data: bytes, name: str, arc_tolerance_mm: float, limits: Limits) -> Ge
             if features else 0
         if vertices > limits.max_vertices:
             raise LimitError(name, None, f"{vertices} polygon vertices", f"at most limits.max_vertices = {limits.max_vertices}")
-        by_net = gerber_geometry.images_by_net(features)
+        by_net = gerber_geometry.images_by_net(features, limits=limits)
         dark = gerber_geometry.dark_from_nets(by_net)
     except InputError:
         raise

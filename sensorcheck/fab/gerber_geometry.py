@@ -31,7 +31,7 @@ from gerbonara import graphic_objects as go
 from gerbonara.utils import Inch
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
-from shapely.geometry import GeometryCollection, MultiPolygon, Polygon
+from shapely.geometry import GeometryCollection, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Feature, ObjectKind, Polarity, SourceRef
@@ -455,24 +455,12 @@ class PolarityWorkBudget:
                 f"raise max_polarity_work in the [limits] table of sensorcheck.toml")
 
 
-class FeatureList(list[Feature]):
-    """The features of one layer, in file order, with the limits they were read under.
-
-    :func:`images_by_net` and :func:`effective_dark` take their ``max_polarity_work`` from here
-    when no ``limits`` is passed to them, so a [limits] override given to the reader reaches the
-    polarity step.
-    """
-
-    limits: Limits = DEFAULT_LIMITS
-
-
 def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float, *,
-                        limits: Limits = DEFAULT_LIMITS) -> FeatureList:
+                        limits: Limits = DEFAULT_LIMITS) -> list[Feature]:
     """Every graphical object -> a Feature with its own exact geometry (mm), in file order.
 
     Raises LimitError at the line of the object whose geometry would take the layer past
-    ``limits.max_vertices`` (:class:`VertexBudget`), before that geometry is built. The list
-    returned carries ``limits`` on to :func:`images_by_net` (``max_polarity_work``).
+    ``limits.max_vertices`` (:class:`VertexBudget`), before that geometry is built.
     """
     objects = parsed.gerber.objects
     n = len(objects)
@@ -611,8 +599,7 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float,
         for j, i in enumerate(region_idx):
             geoms[i] = polys[j]
 
-    features = FeatureList()
-    features.limits = limits
+    features: list[Feature] = []
     for i, obj in enumerate(objects):
         t = type(obj)
         attrs = obj.attrs if isinstance(obj.attrs, dict) else {}
@@ -1004,15 +991,8 @@ def _later_clear_candidates(features: list[Feature], dark_pos: np.ndarray, clear
     return mask
 
 
-def _limits_of(features: list[Feature], limits: Limits | None) -> Limits:
-    """``limits`` when given, else those the features were read under, else the defaults."""
-    if limits is not None:
-        return limits
-    return features.limits if isinstance(features, FeatureList) else DEFAULT_LIMITS
-
-
 def effective_dark(features: list[Feature], *,
-                   limits: Limits | None = None) -> list[tuple[Feature, BaseGeometry]]:
+                   limits: Limits = DEFAULT_LIMITS) -> list[tuple[Feature, BaseGeometry]]:
     """Each dark feature with what survives of it once every later clear object is applied.
 
     A point is dark when the last object covering it is dark (Gerber spec section 4.9.2,
@@ -1032,8 +1012,7 @@ def effective_dark(features: list[Feature], *,
     Dark and clear objects alternating over one another, each shifted a little, still make a
     clear piece that grows with the file and that every later dark object meets: the sweep's
     work is counted (:class:`PolarityWorkBudget`) and refused past
-    ``limits.max_polarity_work`` (``limits`` None: those of a :class:`FeatureList`, else the
-    defaults) with a LimitError at the line of the object being processed.
+    ``limits.max_polarity_work`` with a LimitError at the line of the object being processed.
     """
     dark_pos = np.array([i for i, f in enumerate(features) if f.polarity == "dark" and not f.geometry.is_empty],
                         dtype=np.int64)
@@ -1046,7 +1025,7 @@ def effective_dark(features: list[Feature], *,
         return [(features[i], g) for i, g in result.items()]
     swept = dark_pos[_later_clear_candidates(features, dark_pos, clear_pos)]
     order = np.sort(np.concatenate((swept, clear_pos)))[::-1]
-    budget = PolarityWorkBudget(_limits_of(features, limits).max_polarity_work,
+    budget = PolarityWorkBudget(limits.max_polarity_work,
                                 features[int(order[0])].source.file if len(order) else "")
     pieces = _ClearPieces()
     for i in order.tolist():
@@ -1103,13 +1082,13 @@ def effective_dark(features: list[Feature], *,
 
 
 def images_by_net(features: list[Feature], *,
-                  limits: Limits | None = None) -> dict[str | None, BaseGeometry]:
+                  limits: Limits = DEFAULT_LIMITS) -> dict[str | None, BaseGeometry]:
     """Final dark image of each net (key None: objects without a net).
 
     Polarity is applied in file order: a clear object cuts what came before it in every net's
     image (Gerber spec section 4.9.2), so a clear object with a net still clears all nets.
-    Nets whose image ends empty are left out. ``limits`` (None: those of a
-    :class:`FeatureList`, else the defaults) bounds the polarity work (:func:`effective_dark`).
+    Nets whose image ends empty are left out. ``limits`` bounds the polarity work
+    (:func:`effective_dark`).
     """
     groups: dict[str | None, list[BaseGeometry]] = defaultdict(list)
     for f, g in effective_dark(features, limits=limits):

@@ -241,7 +241,8 @@ def test_polarity_work_budget_refuses_a_shifted_stack_at_the_line_of_the_object(
 
     def sweep(limit: int) -> None:
         parsed = parse_gerber_text(decode_gerber(text, "stack.gbr"), "stack.gbr")
-        effective_dark(objects_to_features(parsed, "stack.gbr", TOL, limits=Limits(max_polarity_work=limit)))
+        limits = Limits(max_polarity_work=limit)
+        effective_dark(objects_to_features(parsed, "stack.gbr", TOL, limits=limits), limits=limits)
 
     # Sweeping from the end of the file: object 40 (dark) has nothing after it, 39 (clear) is a
     # piece, 38 (dark) is the first to meet it (not counted), 36 (dark) meets it again together
@@ -273,7 +274,7 @@ def test_polarity_work_budget_refuses_a_shifted_stack_at_the_line_of_the_object(
 
 
 def test_polarity_work_budget_reaches_the_sweep_through_read_gerber() -> None:
-    # the reader's limits travel with its features (FeatureList) to images_by_net
+    # read_gerber hands its limits to images_by_net
     text = (HEAD + shifted_stack(41, 0.001) + "M02*\n").encode()
     with pytest.raises(LimitError) as info:
         read_gerber(text, "stack.gbr", limits=Limits(max_polarity_work=1))
