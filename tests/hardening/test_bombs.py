@@ -89,12 +89,8 @@ def _nested_bomb(tail: str) -> str:
 
 
 def _run_bounded(worker: Worker, text: str, name: str) -> Outcome:
-    worker.time_bound_s = NESTED_BOUND_S
-    try:
-        out = worker.run("gerber", text.encode(), name)
-    finally:
-        worker.time_bound_s = GUARD_S
-    print(f"\n{name}: {out.kind} {out.error_type} line {out.line}: {out.message} ({out.seconds:.2f} s)")
+    """Read under NESTED_BOUND_S; the file must give one of our errors, naming itself."""
+    out = _read_bounded(worker, text, name, NESTED_BOUND_S)
     assert out.kind == "ours" and out.file == name, out
     return out
 
@@ -179,6 +175,7 @@ POLARITY_BOUND_S = 10.0
 
 
 def _read_bounded(worker: Worker, text: str, name: str, bound_s: float) -> Outcome:
+    """Read ``text`` as a Gerber file in the worker, under a time bound of ``bound_s``."""
     worker.time_bound_s = bound_s
     try:
         out = worker.run("gerber", text.encode(), name)
