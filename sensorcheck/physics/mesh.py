@@ -68,16 +68,21 @@ def _tri_area(c: np.ndarray) -> float:
     return 0.5 * abs(float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1))))
 
 
+def _has_area(geom: BaseGeometry) -> bool:
+    """Is there anything to mesh?  An invalid polygon is a bug upstream: ValueError with GEOS's reason."""
+    if geom.is_empty:
+        return False
+    if not geom.is_valid:
+        raise ValueError(f"invalid polygon: {shapely.is_valid_reason(geom)}")
+    return bool(geom.area > 0)
+
+
 def mesh_polygon(geom: BaseGeometry, spec: MeshSpec, h_max_at: Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]] | None = None) -> list[np.ndarray]:
     """Graded panels (2-D corner arrays) covering a polygon or multipolygon, in its own units.
 
     ``h_max_at(x, y) -> (h_edge, h_max)``: optional local panel sizes (finer near a sensor).
     """
-    if geom.is_empty:
-        return []
-    if not geom.is_valid:
-        raise ValueError(f"invalid polygon: {shapely.is_valid_reason(geom)}")
-    if geom.area <= 0:
+    if not _has_area(geom):
         return []
     boundary = geom.boundary
     shapely.prepare(geom)
@@ -448,11 +453,7 @@ def mesh_polygon_banded(
     ``h_min`` along the edge: long thin panels aligned with the edge, where collocation with
     constant charge needs resolution only across the edge.  The rest is the graded quadtree.
     """
-    if geom.is_empty:
-        return []
-    if not geom.is_valid:
-        raise ValueError(f"invalid polygon: {shapely.is_valid_reason(geom)}")
-    if geom.area <= 0:
+    if not _has_area(geom):
         return []
     w = spec.h_min
     offsets = [geom if o == 0 else geom.buffer(-o * w, quad_segs=8) for o in BAND_ROWS]

@@ -116,13 +116,18 @@ def test_aggressor_parallel_run() -> None:
 
 def two_nodes(tx2_x: float):
     """K1 at the origin (RX0 trace down x = 0 to y = -30); K2 at x = 40 whose TX trace runs to x = tx2_x, y -12..-28."""
+    return two_nodes_along([(40, -7), (40, -12), (tx2_x, -12), (tx2_x, -28)])
+
+
+def two_nodes_along(tx_path: list[tuple[float, float]]):
+    """K1 at the origin (RX0 trace down x = 0 to y = -30); K2 at x = 40 whose TX trace follows ``tx_path``."""
     rx1, tx1 = box(-4, -4, 4, 4), box(-7, -7, 7, 7).difference(box(-5, -5, 5, 5))
     rx2, tx2 = box(36, -4, 44, 4), box(33, -7, 47, 7).difference(box(35, -5, 45, 5))
     shapes = [
         region("top-copper", rx1, "RX0"), region("top-copper", tx1, "TX0"),
         region("top-copper", rx2, "RX1"), region("top-copper", tx2, "TX1"),
         draw("bottom-copper", [(0, -4), (0, -30)], 0.2, "RX0", line=3),
-        draw("bottom-copper", [(40, -7), (40, -12), (tx2_x, -12), (tx2_x, -28)], 0.2, "TX1"),
+        draw("bottom-copper", tx_path, 0.2, "TX1"),
     ]
     board = make_board(shapes)
     k1 = sensor("K1", "mutual-node", [with_traces(board, electrode("TX0", "transmitter", tx1)),
@@ -193,22 +198,8 @@ def test_rx_parallel_tx_total_over_several_runs_located_at_the_longest() -> None
     # TX1 passes RX0 twice on its way down: x = 0.5 for y -12..-14 (2 mm) and y -18..-21 (3 mm), stepping
     # out to x = 5 between.  Each stretch alone is under the 5 mm limit (2 + 2 reach and 3 + 2 reach); the
     # total is reported once, at the longer run.
-    rx1, tx1 = box(-4, -4, 4, 4), box(-7, -7, 7, 7).difference(box(-5, -5, 5, 5))
-    rx2, tx2 = box(36, -4, 44, 4), box(33, -7, 47, 7).difference(box(35, -5, 45, 5))
     tx_path = [(40, -7), (40, -12), (0.5, -12), (0.5, -14), (5, -14), (5, -18), (0.5, -18), (0.5, -21), (5, -21)]
-    shapes = [
-        region("top-copper", rx1, "RX0"), region("top-copper", tx1, "TX0"),
-        region("top-copper", rx2, "RX1"), region("top-copper", tx2, "TX1"),
-        draw("bottom-copper", [(0, -4), (0, -30)], 0.2, "RX0", line=3),
-        draw("bottom-copper", tx_path, 0.2, "TX1"),
-    ]
-    board = make_board(shapes)
-    k1 = sensor("K1", "mutual-node", [with_traces(board, electrode("TX0", "transmitter", tx1)),
-                                       with_traces(board, electrode("RX0", "receiver", rx1))])
-    k2 = sensor("K2", "mutual-node", [with_traces(board, electrode("TX1", "transmitter", tx2)),
-                                       with_traces(board, electrode("RX1", "receiver", rx2))])
-    roles = {"TX0": "transmitter", "TX1": "transmitter", "RX0": "receiver", "RX1": "receiver"}
-    (f,) = run_one("routing.rx-parallel-tx", make_design(board, make_config(1.0), roles, [k1, k2]))
+    (f,) = run_one("routing.rx-parallel-tx", two_nodes_along(tx_path))
     reach = math.sqrt(1.1**2 - 0.5**2)
     assert f.value == pytest.approx(5 + 4 * reach, rel=0.01)
     assert f"longest run {3 + 2 * reach:.1f} mm" in f.message
