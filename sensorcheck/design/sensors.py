@@ -380,9 +380,11 @@ def facing_nodes(tx_geom: BaseGeometry, rx_geom: BaseGeometry, gap_mm: float,
         tx_c, rx_c = copper()
         if tx_c.is_empty or rx_c.is_empty or not shapely.dwithin(tx_c, rx_c, gap_mm):
             return []
-    tb = (shapely.clip_by_rect(tx_buffer, *box_) if tx_buffer is not None
+    # the points within the gap of both lie in the window: the buffers are cut to it, not to the
+    # wider box the copper is taken from
+    tb = (shapely.clip_by_rect(tx_buffer, *win) if tx_buffer is not None
           else copper()[0].buffer(gap_mm, quad_segs=4))
-    rb = (shapely.clip_by_rect(rx_buffer, *box_) if rx_buffer is not None
+    rb = (shapely.clip_by_rect(rx_buffer, *win) if rx_buffer is not None
           else copper()[1].buffer(gap_mm, quad_segs=4))
     region = _area_only(tb.intersection(rb))
     if region.is_empty:
