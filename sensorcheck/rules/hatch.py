@@ -15,7 +15,6 @@ from sensorcheck.board.model import Feature
 from sensorcheck.design.model import Design
 from sensorcheck.physics.parasitics import parallel_plate_pf
 from sensorcheck.rules.common import (
-    EMPTY,
     SELF_KINDS,
     bbox_overlap,
     box_mask,
@@ -176,17 +175,6 @@ def _other_near(layer: str, window: BaseGeometry, boxes: dict[str, _OtherCopper]
         return None
     hits.sort()
     return _Near(oc.parts[hits], window.bounds)
-
-
-def _other_copper(design: Design, layer: str, window: BaseGeometry,
-                  boxes: dict[str, _OtherCopper] | None = None) -> BaseGeometry:
-    """Copper of every net on ``layer`` except sensing electrodes and traces, near ``window``.
-
-    The polygons whose box meets the window's box, merged and cut to that box: callers intersect
-    with the window themselves.  ``boxes`` (from :func:`_other_boxes`) saves splitting the layer again.
-    """
-    near = _other_near(layer, window, boxes if boxes is not None else _other_boxes(design))
-    return near.copper() if near is not None else EMPTY
 
 
 def _other_boxes(design: Design) -> dict[str, _OtherCopper]:

@@ -21,15 +21,14 @@ _CORPUS = Path(__file__).resolve().parents[2].parent / "shared" / "corpus"
 BOARDS = sorted(p.name for p in _CORPUS.iterdir() if (p / "fab").is_dir()) if _CORPUS.is_dir() else []
 
 
+def _looks_like_gerber(p: Path) -> bool:
+    """A file whose head holds a Gerber format or unit statement and is not an Excellon header."""
+    head = p.read_bytes()[:4096]
+    return bool(re.search(rb"%FS|%MO", head)) and b"M48" not in head[:300]
+
+
 def gerber_files(board: Path) -> list[Path]:
-    out = []
-    for p in sorted((board / "fab").rglob("*")):
-        if not p.is_file():
-            continue
-        head = p.read_bytes()[:4096]
-        if re.search(rb"%FS|%MO", head) and b"M48" not in head[:300]:
-            out.append(p)
-    return out
+    return [p for p in sorted((board / "fab").rglob("*")) if p.is_file() and _looks_like_gerber(p)]
 
 
 @pytest.mark.skipif(not BOARDS, reason="../shared/corpus absent")
@@ -76,14 +75,9 @@ _PEER_DIRS = sorted(p for p in (_SUITES / "tracespace-fixtures" / "boards").iter
 
 
 def _peer_files(folder: Path) -> list[Path]:
-    out = []
-    for p in sorted(folder.rglob("*")):
-        if not p.is_file() or p.name.startswith("example_") or p.suffix.lower() in (".svg", ".json", ".md", ".ipc"):
-            continue
-        head = p.read_bytes()[:4096]
-        if re.search(rb"%FS|%MO", head) and b"M48" not in head[:300]:
-            out.append(p)
-    return out
+    return [p for p in sorted(folder.rglob("*"))
+            if p.is_file() and not p.name.startswith("example_")
+            and p.suffix.lower() not in (".svg", ".json", ".md", ".ipc") and _looks_like_gerber(p)]
 
 
 @pytest.mark.skipif(not _PEER_DIRS, reason="../shared/gerber-suites absent")
