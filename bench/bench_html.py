@@ -31,7 +31,7 @@ from sensorcheck.board.build import load_board  # noqa: E402
 from sensorcheck.board.drawing import drawing_from_board  # noqa: E402
 from sensorcheck.check import CheckOptions, check_board  # noqa: E402
 from sensorcheck.report.html import render  # noqa: E402
-from sensorcheck.rules.finding import Result  # noqa: E402
+from sensorcheck.findings import Result  # noqa: E402
 
 CORPUS = REPO.parent / "shared" / "corpus"
 DEFAULT_BOARDS = ("b01-slider-proto", "b03-wheel", "b06-keyboard")

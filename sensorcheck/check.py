@@ -15,7 +15,7 @@ from shapely.geometry.base import BaseGeometry
 
 from sensorcheck import __version__
 from sensorcheck.errors import ConfigError, InputError, SensorcheckError
-from sensorcheck.rules.finding import (
+from sensorcheck.findings import (
     Finding,
     Location,
     Result,
@@ -326,7 +326,7 @@ def finish(result: Result, baseline: frozenset[str] | None = None) -> None:
 
 def exit_code(results: Sequence[Result], fail_on: str = "error", exit_zero: bool = False) -> int:
     """0: nothing at or above fail_on; 1: findings at or above it; 2: input or internal errors."""
-    from sensorcheck.rules.finding import SEVERITY_ORDER
+    from sensorcheck.findings import SEVERITY_ORDER
 
     if any(f.kind != "finding" for r in results for f in r.findings):
         return 2

@@ -28,7 +28,7 @@ from shapely.geometry import LineString, MultiLineString, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Board, Layer
-from sensorcheck.rules.finding import DrawLayer, Drawing
+from sensorcheck.findings import DrawLayer, Drawing
 
 #: the budget for path data of all layers (bytes): the page's 5 MB limit less room for the rest
 DEFAULT_MAX_BYTES = 4_000_000

@@ -4,17 +4,10 @@ Validation is strict: an unknown key, a wrong type or an out-of-range value rais
 :class:`~sensorcheck.errors.ConfigError` naming the file and the dotted key path
 (``overlay.layers[0].thickness_mm``).  A TOML syntax error names the line.
 
-Finger defaults (used when ``[finger]`` leaves a value out) come from
-``sensorcheck.physics.finger.FINGER_DEFAULTS`` when that module exists, else from the
-constants below, each with its source class:
-
-* contact diameter 8 mm: fingertip modelled as a disc of 5-10 mm, 8 mm typical
-  (common practice);
-* finger length 20 mm: a model choice for the conductor that stands for the finger
-  (common practice, from memory);
-* body capacitance to earth 150 pF: the IEC 61000-4-2 discharge network (standard);
-  measured bodies are 100-200 pF;
-* device ground: earthed unless ``device_ground`` gives the device-to-earth coupling in pF.
+Finger defaults (used when ``[finger]`` leaves a value out) are
+:data:`sensorcheck.finger.FINGER_DEFAULTS`, with their sources there; the device is earthed
+unless ``device_ground`` gives the device-to-earth coupling in pF.  Materials are looked up in
+the ground floor's table, :mod:`sensorcheck.materials`.
 """
 
 from __future__ import annotations
@@ -43,17 +36,13 @@ from sensorcheck.design.model import (
     SensorKind,
 )
 from sensorcheck.errors import ConfigError
+from sensorcheck.findings import Waiver
+from sensorcheck.finger import FINGER_DEFAULTS
 from sensorcheck.limits import Limits
-from sensorcheck.physics.materials import lookup_material, material_names
-from sensorcheck.rules.finding import Waiver
+from sensorcheck.materials import lookup_material, material_names
 
 CONFIG_NAME = "sensorcheck.toml"
 MAX_CONFIG_BYTES = 1024 * 1024  # a config is a page of text; refuse anything far larger
-
-#: own finger defaults (used only when sensorcheck.physics.finger has none)
-CONTACT_DIAMETER_MM = 8.0  # common practice: fingertip disc 5-10 mm, 8 mm typical
-FINGER_LENGTH_MM = 20.0  # common practice (model choice, from memory)
-BODY_CAPACITANCE_PF = 150.0  # standard: IEC 61000-4-2 discharge network, 150 pF / 330 ohm
 
 #: defaults of [estimate]
 ESTIMATE_DEFAULTS: dict[str, Any] = {"enabled": True, "max_height_mm": 20.0, "heights": 12}
@@ -234,31 +223,8 @@ def _iso_date(ctx: _Ctx, value: Any, where: str) -> str:
 
 
 def finger_defaults() -> Finger:
-    """The finger used when the config says nothing (see the module docstring for sources)."""
-    try:
-        from sensorcheck.physics import finger as _finger  # written by the physics engineer
-    except ImportError:
-        _finger = None
-    d = getattr(_finger, "FINGER_DEFAULTS", None) if _finger is not None else None
-    if isinstance(d, Finger):
-        return d
-    values: dict[str, Any] = {}
-    if isinstance(d, Mapping):
-        values = dict(d)
-    elif d is not None:
-        values = {f: getattr(d, f) for f in ("contact_diameter_mm", "length_mm", "body_capacitance_pf",
-                                             "device_ground_coupling_pf") if hasattr(d, f)}
-
-    def pick(name: str, default: float | None) -> Any:
-        v = values.get(name, default)
-        return float(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else default
-
-    return Finger(
-        contact_diameter_mm=pick("contact_diameter_mm", CONTACT_DIAMETER_MM),
-        length_mm=pick("length_mm", FINGER_LENGTH_MM),
-        body_capacitance_pf=pick("body_capacitance_pf", BODY_CAPACITANCE_PF),
-        device_ground_coupling_pf=pick("device_ground_coupling_pf", None),
-    )
+    """The finger used when the config says nothing (sources in :mod:`sensorcheck.finger`)."""
+    return FINGER_DEFAULTS
 
 
 def _finger(ctx: _Ctx, value: Any) -> Finger:

@@ -13,8 +13,9 @@ from typing import Any, Literal
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Board
+from sensorcheck.findings import Waiver
+from sensorcheck.finger import Finger  # the finger record sits on the ground floor; re-exported here
 from sensorcheck.limits import Limits
-from sensorcheck.rules.finding import Waiver
 
 Role = Literal["transmitter", "receiver", "self", "shield", "guard", "ground", "aggressor"]
 AggressorKind = Literal["led", "clock", "switching", "radio", "other"]
@@ -48,16 +49,6 @@ class Overlay:
     def d_eff_mm(self) -> float:
         """Electrical thickness sum(t_i / eps_i) (coupling magnitudes use this)."""
         return sum(layer.thickness_mm / layer.epsilon_r for layer in self.layers)
-
-
-@dataclass(frozen=True, slots=True)
-class Finger:
-    """The finger model; defaults and their sources live in design/config.py."""
-
-    contact_diameter_mm: float
-    length_mm: float
-    body_capacitance_pf: float
-    device_ground_coupling_pf: float | None  # None: the device is earthed
 
 
 @dataclass(frozen=True, slots=True)

@@ -7,49 +7,20 @@ its flat end toward the overlay.  It is not a perfect ground.  It reaches earth 
 product on a table both are in the return path, which is what makes a large receiver's signal
 turn around as the finger comes close (the direct finger-to-receiver coupling overtakes).
 
-Defaults and their sources (used by design/config.py when the config gives no [finger]):
-
-* contact diameter 8 mm: common practice (the usual design finger in touch-sensor guidance);
-* length 20 mm: our stated model choice (the distal part of a finger; the rest of the body is
-  represented by the body capacitance, not by geometry);
-* body capacitance to earth 150 pF: measured values are about 100-200 pF; IEC 61000-4-2 uses
-  150 pF for its human-body model (standard);
-* device ground coupling: None (earthed), unless the config says the product is battery powered.
+The finger record, its defaults with their sources and its sanity check live on the ground floor,
+:mod:`sensorcheck.finger` (the config validates against them); they are re-exported here.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-from sensorcheck.design.model import Finger
+from sensorcheck.finger import FINGER_DEFAULTS, FINGER_SOURCES, Finger, validate_finger
 
-FINGER_DEFAULTS = Finger(
-    contact_diameter_mm=8.0,  # common practice
-    length_mm=20.0,  # stated model choice
-    body_capacitance_pf=150.0,  # standard: IEC 61000-4-2 human-body model (measured 100-200 pF)
-    device_ground_coupling_pf=None,  # earthed unless the config says otherwise
-)
-
-FINGER_SOURCES: dict[str, str] = {
-    "contact_diameter_mm": "common practice (design finger of touch-sensor guidance)",
-    "length_mm": "stated model choice (distal finger; the body enters as body_capacitance_pf)",
-    "body_capacitance_pf": "standard: IEC 61000-4-2 human-body model 150 pF (measured 100-200 pF)",
-    "device_ground_coupling_pf": "config: None means the product's ground is earthed",
-}
+__all__ = ["FINGER_DEFAULTS", "FINGER_SOURCES", "Finger", "validate_finger", "PF", "mutual_f", "self_f",
+           "node_charges", "turning_point"]
 
 PF = 1e-12
-
-
-def validate_finger(finger: Finger) -> None:
-    """Raise ValueError for a finger that cannot be modelled."""
-    if not finger.contact_diameter_mm > 0:
-        raise ValueError("finger contact diameter must be positive")
-    if not finger.length_mm > 0:
-        raise ValueError("finger length must be positive")
-    if not finger.body_capacitance_pf >= 0:
-        raise ValueError("body capacitance must not be negative")
-    if finger.device_ground_coupling_pf is not None and not finger.device_ground_coupling_pf >= 0:
-        raise ValueError("device ground coupling must not be negative")
 
 
 def node_charges(

@@ -1,4 +1,4 @@
-"""Reports: a check's :class:`~sensorcheck.rules.finding.Result` list rendered for people and machines.
+"""Reports: a check's :class:`~sensorcheck.findings.Result` list rendered for people and machines.
 
 Formats (``--report FORMAT[:FILE]``): ``text`` (terminal), ``json`` (our own schema, the baseline
 format), ``sarif`` (2.1.0), ``junit``, ``codequality`` (GitLab), ``github`` (workflow

@@ -16,7 +16,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from sensorcheck.report.common import board_labels, finding_path, full_message, is_problem, kind_label, ordered, source_line
-from sensorcheck.rules.finding import Finding, Result
+from sensorcheck.findings import Finding, Result
 
 SEVERITY_MAP: dict[str, str] = {"error": "major", "warning": "minor", "note": "info"}
 

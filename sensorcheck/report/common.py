@@ -1,7 +1,7 @@
 """Helpers every report format shares: stable order, text for a place and a value, safe text.
 
 Nothing here knows a format's syntax; each format module escapes for its own syntax after using
-these. Everything is a pure function of a :class:`~sensorcheck.rules.finding.Result` list.
+these. Everything is a pure function of a :class:`~sensorcheck.findings.Result` list.
 """
 
 from __future__ import annotations
@@ -13,7 +13,7 @@ from pathlib import Path, PurePath
 from typing import Literal
 from urllib.parse import quote
 
-from sensorcheck.rules.finding import Finding, Location, Result, RuleInfo, SensorSummary, sort_key
+from sensorcheck.findings import Finding, Location, Result, RuleInfo, SensorSummary, sort_key
 
 FormatName = Literal["text", "json", "sarif", "junit", "codequality", "github", "markdown", "html", "gerber"]
 FORMATS: tuple[FormatName, ...] = (

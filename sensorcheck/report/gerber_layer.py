@@ -24,7 +24,7 @@ import re
 from collections.abc import Sequence
 
 from sensorcheck.report.common import board_labels, ordered
-from sensorcheck.rules.finding import Finding, Result
+from sensorcheck.findings import Finding, Result
 
 MARKER_RADIUS_MM: dict[str, float] = {"error": 1.5, "warning": 1.1, "note": 0.8}
 MARKER_PEN_MM = 0.15

@@ -14,7 +14,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from sensorcheck.report.common import board_labels, counts, full_message, is_problem, kind_label, ordered, plural, source_file, source_line
-from sensorcheck.rules.finding import Finding, Result
+from sensorcheck.findings import Finding, Result
 
 MAX_PER_LEVEL = 10
 _COMMAND = {"error": "error", "warning": "warning", "note": "notice"}

@@ -43,7 +43,7 @@ from sensorcheck.report.common import (
     value_text,
     where_text,
 )
-from sensorcheck.rules.finding import Drawing, Finding, Result, RuleInfo, SensorSummary
+from sensorcheck.findings import Drawing, Finding, Result, RuleInfo, SensorSummary
 
 #: copper layer colour classes, by position in the stack (top first); the palette is in review.css
 _COPPER_CLASSES = ("cu-top", "cu-in1", "cu-in2", "cu-in3", "cu-in4", "cu-in5", "cu-in6")

@@ -33,7 +33,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from sensorcheck.report.common import TOOL_NAME, board_labels, counts, ordered, sensors_sorted
-from sensorcheck.rules.finding import Finding, Location, Result, RuleInfo, SensorSummary, Waiver
+from sensorcheck.findings import Finding, Location, Result, RuleInfo, SensorSummary, Waiver
 
 FORMAT_ID = "sensorcheck-report"
 FORMAT_VERSION = 1

@@ -31,7 +31,7 @@ from sensorcheck.report.common import (
     safe_text,
     value_text,
 )
-from sensorcheck.rules.finding import Finding, Result
+from sensorcheck.findings import Finding, Result
 
 # Characters XML 1.0 cannot hold even escaped (XML 1.0 section 2.2, production [2] Char).
 _NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff\ud800-\udfff]")

@@ -33,7 +33,7 @@ from sensorcheck.report.common import (
     value_text,
     where_text,
 )
-from sensorcheck.rules.finding import Finding, Result, RuleInfo, SensorSummary
+from sensorcheck.findings import Finding, Result, RuleInfo, SensorSummary
 
 # CommonMark 0.31 section 2.4: any ASCII punctuation may be backslash-escaped. These can open
 # markup (emphasis, links, HTML, code, tables, strikethrough, math, entities, autolinks).

@@ -45,7 +45,7 @@ from sensorcheck.report.common import (
     where_text,
 )
 from sensorcheck.report.json_report import jsonable
-from sensorcheck.rules.finding import Finding, Location, Result, RuleInfo
+from sensorcheck.findings import Finding, Location, Result, RuleInfo
 
 SCHEMA_URI = "https://json.schemastore.org/sarif-2.1.0.json"
 SARIF_VERSION = "2.1.0"

@@ -32,7 +32,7 @@ from sensorcheck.report.common import (
     value_text,
     where_text,
 )
-from sensorcheck.rules.finding import Finding, Result, RuleInfo, SensorSummary
+from sensorcheck.findings import Finding, Result, RuleInfo, SensorSummary
 
 _STYLE = {"error": "bold red", "warning": "yellow", "note": "cyan", "waived": "dim", "internal": "bold magenta"}
 _LABEL = {"error": "ERROR", "warning": "WARNING", "note": "NOTE"}

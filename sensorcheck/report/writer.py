@@ -23,7 +23,7 @@ from typing import TextIO, cast
 
 from sensorcheck.errors import ConfigError, InputError
 from sensorcheck.report.common import FORMATS, FormatName
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 #: format name -> module under sensorcheck.report that has ``render(results) -> str``
 _MODULES: dict[str, str] = {

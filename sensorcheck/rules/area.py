@@ -9,8 +9,8 @@ import shapely
 
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import finding, fmt, require_role, union
-from sensorcheck.rules.engine import Param, Rule
-from sensorcheck.rules.finding import Finding
+from sensorcheck.rules.base import Param, Rule
+from sensorcheck.findings import Finding
 
 
 class ReceiverVsGround(Rule):

@@ -15,8 +15,8 @@ from shapely.geometry.base import BaseGeometry
 from sensorcheck.board.model import Board, Feature, Hole, Layer
 from sensorcheck.design.model import Design, Sensor
 from sensorcheck.errors import ConfigError
-from sensorcheck.rules.engine import Param
-from sensorcheck.rules.finding import Finding, Location, Severity
+from sensorcheck.rules.base import Param
+from sensorcheck.findings import Finding, Location, Severity
 
 SELF_KINDS = frozenset({"self-button", "slider", "wheel", "proximity"})
 #: nets with these roles are not "foreign" copper near a sensor
@@ -122,7 +122,7 @@ def is_floating_id(net: str) -> bool:
 def overlay_thickness_mm(design: Design) -> float:
     ov = design.config.overlay
     if ov is None:
-        from sensorcheck.rules.engine import HOW_TO_GIVE, MissingInput
+        from sensorcheck.rules.base import HOW_TO_GIVE, MissingInput
 
         raise MissingInput(*HOW_TO_GIVE["overlay"])
     return ov.thickness_mm
@@ -353,7 +353,7 @@ def require_role(design: Design, role_name: str) -> list[str]:
     """The nets with ``role_name``; none -> MissingInput (the rule then says once what to give)."""
     nets = design.nets_with(role_name)  # type: ignore[arg-type]
     if not nets:
-        from sensorcheck.rules.engine import MissingInput
+        from sensorcheck.rules.base import MissingInput
 
         example = {"aggressor": 'aggressor = [{pattern = "LED*", kind = "led"}]', "ground": 'ground = ["GND"]'}.get(
             role_name, f'{role_name} = ["..."]')

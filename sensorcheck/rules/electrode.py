@@ -23,9 +23,9 @@ from sensorcheck.rules.common import (
     sensor_source,
     union,
 )
-from sensorcheck.rules.engine import Param, Rule
+from sensorcheck.rules.base import Param, Rule
 from sensorcheck.rules.gap import _FLOOR_PARAMS
-from sensorcheck.rules.finding import Finding
+from sensorcheck.findings import Finding
 
 _CONTACT = Param(8.0, "mm", "common practice",
                  "finger contact diameter when the config gives no [finger] (fingertip modelled as an 8 mm disc)")

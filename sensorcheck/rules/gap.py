@@ -20,8 +20,8 @@ from sensorcheck.rules.common import (
     overlay_thickness_mm,
     source_near,
 )
-from sensorcheck.rules.engine import Param, Rule
-from sensorcheck.rules.finding import Finding
+from sensorcheck.rules.base import Param, Rule
+from sensorcheck.findings import Finding
 
 _FLOOR_PARAMS: dict[str, Param] = {
     "min_delta_pf": Param(0.1, "pF", "common practice",

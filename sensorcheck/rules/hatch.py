@@ -26,8 +26,8 @@ from sensorcheck.rules.common import (
     source_near,
     union,
 )
-from sensorcheck.rules.engine import MissingInput, Param, Rule
-from sensorcheck.rules.finding import Finding
+from sensorcheck.rules.base import MissingInput, Param, Rule
+from sensorcheck.findings import Finding
 
 
 @dataclass(frozen=True, slots=True)

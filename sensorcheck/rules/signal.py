@@ -7,8 +7,8 @@ from typing import Any
 
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import finding, fmt, ground_copper, union
-from sensorcheck.rules.engine import Param, Rule
-from sensorcheck.rules.finding import Finding
+from sensorcheck.rules.base import Param, Rule
+from sensorcheck.findings import Finding
 
 
 def _rx_ground_text(design: Design, s: Any, surround_mm: float = 10.0) -> str:

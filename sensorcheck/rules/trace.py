@@ -23,8 +23,8 @@ from sensorcheck.rules.common import (
     source_near,
     union,
 )
-from sensorcheck.rules.engine import Param, Rule
-from sensorcheck.rules.finding import Finding
+from sensorcheck.rules.base import Param, Rule
+from sensorcheck.findings import Finding
 from sensorcheck.rules.routing import FeatureIndex
 
 

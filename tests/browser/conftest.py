@@ -25,7 +25,7 @@ from shapely.geometry import LineString, Point, Polygon, box
 
 from sensorcheck.board.drawing import drawing_from_board
 from sensorcheck.board.model import Board, Hole, Layer, SourceRef
-from sensorcheck.rules.finding import Finding, Location, Result, RuleInfo, SensorSummary, Waiver, assign_fingerprints
+from sensorcheck.findings import Finding, Location, Result, RuleInfo, SensorSummary, Waiver, assign_fingerprints
 
 REPO = Path(__file__).resolve().parents[2]
 CHROMIUM_CANDIDATES = ("/usr/bin/chromium", "/usr/bin/chromium-browser")

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import pytest
 
-from sensorcheck.physics.materials import MATERIALS, lookup_material
+from sensorcheck.materials import MATERIALS, lookup_material
 
 # (material, low, high, where the range is from)
 REFERENCE_RANGES = [

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 from .sample import make_results
 

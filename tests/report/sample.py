@@ -3,7 +3,7 @@ severity, a waived one, an internal error, one without a place, and hostile net 
 
 from __future__ import annotations
 
-from sensorcheck.rules.finding import (
+from sensorcheck.findings import (
     Finding,
     Location,
     Result,

@@ -9,7 +9,7 @@ from __future__ import annotations
 import json
 
 from sensorcheck.report import render
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 GITLAB_SEVERITIES = {"info", "minor", "major", "critical", "blocker"}
 

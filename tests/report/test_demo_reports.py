@@ -15,7 +15,7 @@ import pytest
 
 from sensorcheck.report import load_baseline, render
 from sensorcheck.report.json_report import REPORT_SCHEMA
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 REPO = Path(__file__).resolve().parents[2]
 DEMO = REPO / "boards" / "tm1-flawed"

@@ -11,7 +11,7 @@ import pytest
 
 from sensorcheck.report import render
 from sensorcheck.report.gerber_layer import MARKER_RADIUS_MM, attr_value, text_strokes
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 from .sample import HOSTILE_NETS, HOSTILE_SENSOR
 

@@ -9,7 +9,7 @@ import re
 
 from sensorcheck.report import render
 from sensorcheck.report.github import escape_data, escape_property
-from sensorcheck.rules.finding import Finding, Location, Result, assign_fingerprints
+from sensorcheck.findings import Finding, Location, Result, assign_fingerprints
 
 from .sample import HOSTILE_NETS, HOSTILE_SENSOR
 

@@ -24,7 +24,7 @@ from shapely.geometry import LineString, Point, Polygon, box
 from sensorcheck.board.drawing import DEFAULT_MAX_BYTES, MAX_TOLERANCE_MM, drawing_from_board, grid_for, svg_path_data
 from sensorcheck.board.model import Board, Hole, Layer, SourceRef
 from sensorcheck.report.html import json_for_script, render
-from sensorcheck.rules.finding import Drawing, DrawLayer, Finding, Location, Result, SensorSummary, Waiver
+from sensorcheck.findings import Drawing, DrawLayer, Finding, Location, Result, SensorSummary, Waiver
 
 EVIL = "<script>alert(1)</script>"
 QUOTES = "TX\"1' onmouseover=\"alert(2)"

@@ -11,7 +11,7 @@ import pytest
 from sensorcheck.errors import InputError
 from sensorcheck.report import load_baseline, render
 from sensorcheck.report.json_report import REPORT_SCHEMA
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 from .sample import HOSTILE_NETS
 

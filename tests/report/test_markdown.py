@@ -6,7 +6,7 @@ from __future__ import annotations
 import pytest
 
 from sensorcheck.report import render
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 from .sample import HOSTILE_NETS
 

@@ -10,7 +10,7 @@ import json
 import pytest
 
 from sensorcheck.report import render
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 from .sample import HOSTILE_NETS, HOSTILE_SENSOR
 

@@ -11,7 +11,7 @@ from pathlib import Path
 
 from sensorcheck.report import render
 from sensorcheck.report.text import render as render_text
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 _CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f]")
 

@@ -15,7 +15,7 @@ import pytest
 from sensorcheck.errors import ConfigError, InputError
 from sensorcheck.report import FORMATS, parse_spec, render, write_reports
 from sensorcheck.report import writer as writer_mod
-from sensorcheck.rules.finding import Result
+from sensorcheck.findings import Result
 
 from .sample import make_results
 

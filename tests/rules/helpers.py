@@ -6,7 +6,7 @@ from collections.abc import Mapping
 from typing import Any
 
 from sensorcheck.rules.engine import registry
-from sensorcheck.rules.finding import Finding
+from sensorcheck.findings import Finding
 
 
 def run_one(rule_id: str, design: Any, estimates: Mapping[str, Any] | None = None, **params: Any) -> list[Finding]:

@@ -20,7 +20,7 @@ from sensorcheck.rules.engine import (
     render_catalogue,
     run_rules,
 )
-from sensorcheck.rules.finding import Waiver
+from sensorcheck.findings import Waiver
 
 from .test_gap import mutual_node, self_button
 
