@@ -26,6 +26,7 @@ from typing import Any
 
 REPO = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(REPO))
+sys.path.insert(0, str(REPO / "tests" / "browser"))  # the one Chromium launcher
 
 from sensorcheck.board.build import load_board  # noqa: E402
 from sensorcheck.board.drawing import drawing_from_board  # noqa: E402
@@ -33,19 +34,12 @@ from sensorcheck.check import CheckOptions, check_board  # noqa: E402
 from sensorcheck.report.html import render  # noqa: E402
 from sensorcheck.findings import Result  # noqa: E402
 
+from headless_chromium import launch  # noqa: E402
+
 CORPUS = REPO.parent / "shared" / "corpus"
 DEFAULT_BOARDS = ("b01-slider-proto", "b03-wheel", "b06-keyboard")
 LIMIT_BYTES = 5_000_000
 LIMIT_LOAD_S = 2.0
-CHROMIUM_ARGS = [
-    "--headless",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--no-first-run",
-]
 #: configs of our own for the corpus boards (roles from their net names), so that sensors show
 _OVERLAY = """
 [[overlay.layers]]
@@ -130,7 +124,7 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--out", type=Path, default=None, help="folder for the pages and screenshots")
     ap.add_argument("--runs", type=int, default=3)
     ap.add_argument("--estimate", action="store_true", help="run the field solver too (slower)")
-    ap.add_argument("--chromium", default="/usr/bin/chromium")
+    ap.add_argument("--chromium", default=None, help="the browser (default: Debian's chromium)")
     ap.add_argument("--stress", action="store_true", help="also a made-up board too dense for the budget")
     ap.add_argument("--no-config", action="store_true", help="check without the bench's own role configs")
     args = ap.parse_args(argv)
@@ -142,7 +136,7 @@ def main(argv: list[str] | None = None) -> int:
     from playwright.sync_api import sync_playwright
 
     with sync_playwright() as pw:
-        browser = pw.chromium.launch(executable_path=args.chromium, headless=True, args=CHROMIUM_ARGS)
+        browser = launch(pw, args.chromium)
         empty = out / "empty.html"
         empty.write_text(render([]), encoding="utf-8")
         base = _load_times(browser, empty.as_uri(), args.runs, None)

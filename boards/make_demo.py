@@ -717,13 +717,13 @@ aggressor = [{{pattern = "LED*", kind = "led"}}]
 
 [[sensors]]
 name = "K1"
-kind = "mutual-node"
+kind = "mutual-button"
 tx = ["TX1"]
 rx = ["RX1"]
 
 [[sensors]]
 name = "K2"
-kind = "mutual-node"
+kind = "mutual-button"
 tx = ["TX2"]
 rx = ["RX2"]
 

@@ -5,3 +5,6 @@ estimates -> reports. See DEVELOPERS.md for the package map.
 """
 
 __version__ = "0.1.0"
+
+#: the board config's file name (found beside the fabrication files; never read as one of them)
+CONFIG_NAME = "sensorcheck.toml"

@@ -173,7 +173,7 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
         ]
         if sensor.kind in ("slider", "wheel"):
             checklist.append("Slide a finger end to end on the prototype: the position must move smoothly, no dead spots.")
-        if sensor.kind == "mutual-node":
+        if sensor.kind == "mutual-button":
             checklist.append("Press firmly and hover just above the overlay: the signal must not turn around.")
         checklist.append("Check by eye that no trace or part other than this sensor's lies in its zone on any layer.")
         b = outline.bounds if not outline.is_empty else None

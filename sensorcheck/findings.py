@@ -121,7 +121,7 @@ class SensorSummary:
     """Key numbers of one sensor for reports (name -> value with unit in the key)."""
 
     name: str
-    kind: str  # "self-button", "mutual-node", "slider", "wheel", "matrix", "proximity"
+    kind: str  # "self-button", "mutual-button", "slider", "wheel", "matrix", "proximity"
     layer: str | None
     nets: tuple[str, ...]
     box_mm: tuple[float, float, float, float] | None

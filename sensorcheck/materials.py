@@ -72,7 +72,7 @@ _TABLE: tuple[Material, ...] = (
         f"{CRC}: poly(methyl methacrylate) 2.6-3.6, falling with frequency (from memory); "
         "2.8 nominal is vendor guidance (anonymous), common practice",
         13000.0, VENDOR,
-        aliases=("acrylic", "plexiglass"),
+        aliases=("acrylic",),
     ),
     Material(
         "polycarbonate", 2.9, (2.9, 3.0), "handbook",
@@ -87,7 +87,8 @@ _TABLE: tuple[Material, ...] = (
     ),
     Material(
         "fr4", 4.5, (4.2, 4.8), "standard",
-        "IPC-4101 specification sheets for epoxy-glass laminates: 4.2-4.8 at 1 MHz (from memory)",
+        "IPC-4101 specification sheets for epoxy-glass laminates: 4.2-4.8 at 1 MHz (from memory); "
+        "nominal 4.5, the middle of that range",
         28000.0, VENDOR,
         aliases=("fr-4",),
     ),
@@ -136,6 +137,10 @@ _TABLE: tuple[Material, ...] = (
 )
 
 MATERIALS: Mapping[str, Material] = MappingProxyType({m.name: m for m in _TABLE})
+
+#: the one FR-4 permittivity every default uses (the default stackup, the solver's fallback for a
+#: dielectric without one, the rules' parameter): the table's nominal value and its source
+FR4_EPSILON_R: float = MATERIALS["fr4"].epsilon_r
 
 
 def _key(name: str) -> str:

@@ -31,14 +31,15 @@ from sensorcheck.errors import InputError, SensorcheckError
 from sensorcheck.fab.archive import InputFile, open_input, read_bytes, read_head, safe_name
 from sensorcheck.fab.identify import Identification, check_layer_map, identify, job_file_functions, sniff
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
+from sensorcheck.materials import FR4_EPSILON_R
 
 Progress = Callable[[str], None]
 
 #: default stackup when neither a job file nor the config gives one: FR-4, 1.6 mm, 35 um copper.
-#: FR-4 relative permittivity 4.4 (typical 4.2-4.8 at 1 MHz; handbook range, value from memory).
+#: FR-4 relative permittivity from the material table (sensorcheck.materials, with its source).
 DEFAULT_BOARD_MM = 1.6
 DEFAULT_COPPER_MM = 0.035
-DEFAULT_FR4_EPSILON_R = 4.4
+DEFAULT_FR4_EPSILON_R = FR4_EPSILON_R
 #: how far a layer or the holes may reach past the outline before the file is called wrong (mm)
 EXTENT_MARGIN_MM = 10.0
 #: outline line ends closer than this are joined (10 um: far below any routing tool, far above

@@ -22,6 +22,7 @@ from dataclasses import fields as _dc_fields
 from pathlib import Path
 from typing import Any, get_args
 
+from sensorcheck import CONFIG_NAME  # the name sits on the ground floor: fab/ knows it too
 from sensorcheck.board.model import Stackup, StackupLayer
 from sensorcheck.design.model import (
     AggressorKind,
@@ -41,7 +42,6 @@ from sensorcheck.finger import FINGER_DEFAULTS
 from sensorcheck.limits import Limits
 from sensorcheck.materials import lookup_material, material_names
 
-CONFIG_NAME = "sensorcheck.toml"
 MAX_CONFIG_BYTES = 1024 * 1024  # a config is a page of text; refuse anything far larger
 
 #: defaults of [estimate]
@@ -50,6 +50,8 @@ ESTIMATE_DEFAULTS: dict[str, Any] = {"enabled": True, "max_height_mm": 20.0, "he
 ROLE_KEYS: tuple[Role, ...] = ("transmitter", "receiver", "self", "shield", "guard", "ground", "aggressor")
 AGGRESSOR_KINDS: tuple[str, ...] = get_args(AggressorKind)
 SENSOR_KINDS: tuple[str, ...] = get_args(SensorKind)
+#: old spellings of sensor kinds still read from configs (with a note): old -> new
+DEPRECATED_SENSOR_KINDS: dict[str, str] = {"mutual-node": "mutual-button"}
 SEVERITIES = ("error", "warning", "note", "off")
 OVERLAY_KINDS = ("overlay", "adhesive", "air", "mask")
 STACKUP_KINDS = ("copper", "dielectric", "mask", "silk", "paste", "other")
@@ -72,6 +74,8 @@ class _Ctx:
 
     def __init__(self, file: str | None) -> None:
         self.file = file
+        #: what reading noticed that is not an error (deprecated spellings), for Config.notes
+        self.notes: list[str] = []
 
     def err(self, key: str | None, message: str) -> ConfigError:
         return ConfigError(self.file, key, message)
@@ -432,12 +436,17 @@ def _groups(ctx: _Ctx, value: Any) -> list[SensorGroup]:
         if name in names:
             raise ctx.err(f"{where}.name", f"sensor name '{name}' is used twice")
         names.add(name)
+        if isinstance(g["kind"], str) and g["kind"] in DEPRECATED_SENSOR_KINDS:
+            new_kind = DEPRECATED_SENSOR_KINDS[g["kind"]]
+            ctx.notes.append(f"{ctx.file}: {where}.kind: {g['kind']!r} is deprecated; write {new_kind!r} "
+                             "(the old spelling is still read)")
+            g = {**g, "kind": new_kind}
         kind = _string(ctx, g["kind"], f"{where}.kind", choices=SENSOR_KINDS)
         lists = {f: _string_list(ctx, g[f], f"{where}.{f}") if f in g else () for f in _GROUP_FIELDS}
         allowed = {
             "self-button": ("nets",),
             "proximity": ("nets",),
-            "mutual-node": ("tx", "rx"),
+            "mutual-button": ("tx", "rx"),
             "slider": ("nets", "tx", "rx"),
             "wheel": ("nets", "tx", "rx"),
             "matrix": ("rows", "columns"),
@@ -456,9 +465,9 @@ def _groups(ctx: _Ctx, value: Any) -> list[SensorGroup]:
                 raise ctx.err(f"{where}.nets", "a self-button has one net; use kind = \"slider\" for several")
         elif kind == "proximity":
             need("nets", 1, "a proximity group names its electrode net(s)")
-        elif kind == "mutual-node":
-            need("tx", 1, "a mutual-node group names its transmitter net(s): tx = [...]")
-            need("rx", 1, "a mutual-node group names its receiver net(s): rx = [...]")
+        elif kind == "mutual-button":
+            need("tx", 1, "a mutual-button group names its transmitter net(s): tx = [...]")
+            need("rx", 1, "a mutual-button group names its receiver net(s): rx = [...]")
         elif kind in ("slider", "wheel"):
             n_min = 3 if kind == "wheel" else 2
             if lists["tx"] or lists["rx"]:
@@ -558,6 +567,13 @@ def _profile_path(ctx: _Ctx, name: str, base: Path | None, profiles_dir: Path, w
         p = Path(name)
         if not p.is_absolute() and base is not None:
             p = base / p
+        if base is not None:
+            # A config comes with the board, maybe from a merge request: its profile may not
+            # reach outside the repository it sits in (outside one: outside its own folder).
+            home = _repo_root(base.resolve()) or base.resolve()
+            if not p.resolve().is_relative_to(home):
+                raise ctx.err(where, f"profile path {name!r} leads outside {str(home)!r}; a profile must "
+                                     "sit inside the repository of the config (or name a shipped one)")
         if not p.is_file():
             raise ctx.err(where, f"profile file {str(p)!r} not found")
         return p
@@ -802,6 +818,7 @@ def load_config(
     config.severities = severities
     if "waivers" in data:
         config.waivers = _waivers(ctx, data["waivers"], known_rules)
+    config.notes.extend(ctx.notes)
     return config
 
 

@@ -19,7 +19,7 @@ from sensorcheck.limits import Limits
 
 Role = Literal["transmitter", "receiver", "self", "shield", "guard", "ground", "aggressor"]
 AggressorKind = Literal["led", "clock", "switching", "radio", "other"]
-SensorKind = Literal["self-button", "mutual-node", "slider", "wheel", "matrix", "proximity"]
+SensorKind = Literal["self-button", "mutual-button", "slider", "wheel", "matrix", "proximity"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -74,7 +74,7 @@ class RoleByPlace:
 
 @dataclass(frozen=True, slots=True)
 class SensorGroup:
-    """An explicit sensor group: a slider/wheel (ordered nets), a matrix (rows, columns), or a named node."""
+    """An explicit sensor group: a slider/wheel (ordered nets), a matrix (rows, columns), or a named mutual button."""
 
     name: str
     kind: SensorKind
@@ -134,7 +134,7 @@ class Electrode:
 
 @dataclass(slots=True)
 class Sensor:
-    """One sensor: a self button, a mutual node, a slider/wheel, a matrix, or a proximity electrode."""
+    """One sensor: a self button, a mutual button, a slider/wheel, a matrix, or a proximity electrode."""
 
     name: str
     kind: SensorKind

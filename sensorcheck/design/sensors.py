@@ -682,7 +682,7 @@ def build_design(board: Board, config: Config) -> Design:
     for n in [*tx_nets, *rx_nets]:
         if n not in used:
             notes.append(f"net {n} ({roles[n][0]}) faces no {'receiver' if roles[n][0] == 'transmitter' else 'transmitter'}"
-                         " net: it is in no mutual node")
+                         " net: it is in no mutual button")
 
     # 5. self electrodes
     self_nets = sorted((n for n, (r, _) in roles.items() if r == "self" and n not in used), key=natural_key)
@@ -749,7 +749,7 @@ def _group_sensor(board: Board, g: SensorGroup, roles: dict, margin: float, face
                 if e is not None:
                     electrodes.append(e)
         return _make_sensor(g.name, "matrix", electrodes, margin, "group", face_order, rows=g.rows, columns=g.columns)
-    # mutual-node, or a mutual slider/wheel (tx segments in order + rx)
+    # mutual-button, or a mutual slider/wheel (tx segments in order + rx)
     for nets, role in ((g.tx, "transmitter"), (g.rx, "receiver")):
         for net in nets:
             if net in roles and roles[net][0] != role:
@@ -887,7 +887,7 @@ def _geometry_mutual(board: Board, tx_nets: list[str], rx_nets: list[str], senso
         name = base or f"{nd.tx}/{nd.rx}"
         if pair_count[key] > 1:
             name += f"#{seen[key]}"
-        out.append(_make_sensor(name, "mutual-node", electrodes, margin, "roles", face_order))
+        out.append(_make_sensor(name, "mutual-button", electrodes, margin, "roles", face_order))
         used.update(key)
     return out
 

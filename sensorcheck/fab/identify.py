@@ -28,6 +28,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, replace
 from typing import Literal
 
+from sensorcheck import CONFIG_NAME
 from sensorcheck.board.model import IdentifiedBy, LayerFunction, Side
 from sensorcheck.errors import ConfigError
 
@@ -361,6 +362,9 @@ def identify_name(name: str) -> Identification:
     confirms them by content. Returns ``role=None`` when the name says nothing.
     """
     base = name.replace("\\", "/").rsplit("/", 1)[-1]
+    if base.lower() == CONFIG_NAME:  # our own config (the check's or one `init` wrote): known, not fab data
+        return Identification(name, "other", None, None, "none", "filename",
+                              note="sensorcheck's board config: read as the config, not as a fabrication file")
     stem, dot, ext = base.rpartition(".")
     if not dot:
         stem, ext = base, ""

@@ -34,6 +34,7 @@ from sensorcheck.board.model import Stackup, StackupLayer
 from sensorcheck.design.model import Design, Finger, Overlay, OverlayLayer, Sensor
 from sensorcheck.errors import ConfigError, InputError, LimitError
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
+from sensorcheck.materials import FR4_EPSILON_R
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
 from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, mutual_f, self_f, turning_point, validate_finger
@@ -41,7 +42,7 @@ from sensorcheck.physics.greens import LayeredMedium
 from sensorcheck.physics.mesh import ESTIMATE_FACTORS, MeshSpec, cylinder_panels, estimate_panels, flat_panels
 
 MM = 1e-3
-FR4_EPS = 4.4  # handbook: FR-4 at 1 MHz, about 4.3-4.7 (e.g. IPC-4101 slash sheets list 4.2-4.8)
+FR4_EPS = FR4_EPSILON_R  # the material table's FR-4 (IPC-4101 4.2-4.8 at 1 MHz; see sensorcheck.materials)
 DEFAULT_STACKUP = Stackup(
     layers=[
         StackupLayer("top copper", "copper", 0.035, copper_layer="top-copper"),
@@ -103,7 +104,7 @@ def build_stack(design: Design, overlay: Overlay) -> Stack:
     stackup = design.config.stackup_override or design.board.stackup
     if stackup is None:
         stackup = DEFAULT_STACKUP
-        notes.append("no stackup given: assumed 1.6 mm FR-4 (eps_r 4.4), two copper layers")
+        notes.append(f"no stackup given: assumed 1.6 mm FR-4 (eps_r {FR4_EPS}), two copper layers")
     # board segments from the top face down: (thickness_mm, eps)
     segs: list[tuple[float, float]] = []
     pending = 0.0
@@ -113,7 +114,7 @@ def build_stack(design: Design, overlay: Overlay) -> Stack:
         if layer.kind == "dielectric":
             eps = layer.epsilon_r if layer.epsilon_r is not None else FR4_EPS
             if layer.epsilon_r is None:
-                notes.append(f"stackup layer {layer.name!r}: no permittivity given, FR-4 {FR4_EPS} assumed (handbook)")
+                notes.append(f"stackup layer {layer.name!r}: no permittivity given, FR-4 {FR4_EPS} assumed (IPC-4101 range, material table)")
             if eps < 1.0:
                 raise ConfigError(cfg_file, f"stackup.layers[{i}].epsilon_r", f"relative permittivity must be >= 1, got {eps}")
             if layer.thickness_mm <= 0:

@@ -6,6 +6,7 @@ these. Everything is a pure function of a :class:`~sensorcheck.findings.Result` 
 
 from __future__ import annotations
 
+import math
 import os
 import unicodedata
 from collections.abc import Iterable, Sequence
@@ -28,7 +29,26 @@ FORMATS: tuple[FormatName, ...] = (
     "gerber",
 )
 TOOL_NAME = "sensorcheck"
-TOOL_URI = "https://pypi.org/project/sensorcheck/"
+
+
+def project_url() -> str | None:
+    """The project's own repository address from the installed package's metadata
+    (``[project.urls]`` Repository, else Homepage, else Source), or None where none is given:
+    a report never points to an address the project does not own."""
+    from importlib import metadata
+
+    try:
+        entries = metadata.metadata(TOOL_NAME).get_all("Project-URL") or []
+    except metadata.PackageNotFoundError:
+        return None
+    urls = {}
+    for entry in entries:
+        label, _, url = entry.partition(",")
+        urls[label.strip().lower()] = url.strip()
+    for label in ("repository", "homepage", "source"):
+        if urls.get(label, "").startswith("https://"):
+            return urls[label]
+    return None
 
 #: Unicode bidirectional controls: they reorder what a reader sees, so text from a board never keeps them.
 _BIDI = frozenset("\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069\u200e\u200f\u061c")
@@ -122,6 +142,17 @@ def xy_text(loc: Location) -> str | None:
     if loc.x_mm is None or loc.y_mm is None:
         return None
     return f"({loc.x_mm:.2f}, {loc.y_mm:.2f}) mm"
+
+
+def place_of(loc: Location) -> tuple[float, float] | None:
+    """Where a finding's marker goes (mm): its point, else the centre of its box, else nowhere
+    (a point or box with a missing or non-finite number does not count)."""
+    if loc.x_mm is not None and loc.y_mm is not None and math.isfinite(loc.x_mm) and math.isfinite(loc.y_mm):
+        return (loc.x_mm, loc.y_mm)
+    if loc.box_mm is not None and all(math.isfinite(v) for v in loc.box_mm):
+        x0, y0, x1, y1 = loc.box_mm
+        return ((x0 + x1) / 2, (y0 + y1) / 2)
+    return None
 
 
 def where_text(loc: Location) -> str:

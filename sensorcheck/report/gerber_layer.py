@@ -23,7 +23,7 @@ from __future__ import annotations
 import re
 from collections.abc import Sequence
 
-from sensorcheck.report.common import board_labels, ordered
+from sensorcheck.report.common import board_labels, ordered, place_of
 from sensorcheck.findings import Finding, Result
 
 MARKER_RADIUS_MM: dict[str, float] = {"error": 1.5, "warning": 1.1, "note": 0.8}
@@ -118,17 +118,6 @@ def _xy(x: float, y: float) -> str:
     return f"X{_coord(x)}Y{_coord(y)}"
 
 
-def place_of(f: Finding) -> tuple[float, float] | None:
-    """Where the marker goes: the finding's point, else the centre of its box, else nowhere."""
-    loc = f.location
-    if loc.x_mm is not None and loc.y_mm is not None:
-        return (loc.x_mm, loc.y_mm)
-    if loc.box_mm is not None:
-        x0, y0, x1, y1 = loc.box_mm
-        return ((x0 + x1) / 2, (y0 + y1) / 2)
-    return None
-
-
 def label_of(f: Finding, number: int) -> str:
     return f"{_SEV_LETTER[f.severity]}{number} {f.rule_id}".upper()
 
@@ -197,7 +186,7 @@ def render(results: Sequence[Result]) -> str:
             if f.kind != "finding":  # a file not read or a rule that raised has no place on the board
                 continue
             number += 1
-            place = place_of(f)
+            place = place_of(f.location)
             if place is None:
                 unplaced.append(f"{_comment(board)} {_SEV_LETTER[f.severity]}{number} {_comment(f.rule_id)} {_comment(f.fingerprint)}")
                 continue

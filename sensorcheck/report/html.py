@@ -36,6 +36,7 @@ from sensorcheck.report.common import (
     counts,
     num,
     ordered,
+    place_of,
     plural,
     rule_catalogue,
     safe_text,
@@ -204,16 +205,13 @@ def _all_finite(*values: float | None) -> bool:
 
 def _located(f: Finding) -> bool:
     """A finding is drawn when it has a finite point or box (else it is listed only)."""
-    loc = f.location
-    return _all_finite(loc.x_mm, loc.y_mm) or (loc.box_mm is not None and _all_finite(*loc.box_mm))
+    return place_of(f.location) is not None
 
 
 def _finding_point(f: Finding) -> tuple[float, float]:
-    loc = f.location
-    if loc.x_mm is not None and loc.y_mm is not None and _all_finite(loc.x_mm, loc.y_mm):
-        return loc.x_mm, loc.y_mm
-    assert loc.box_mm is not None
-    return (loc.box_mm[0] + loc.box_mm[2]) / 2, (loc.box_mm[1] + loc.box_mm[3]) / 2
+    place = place_of(f.location)
+    assert place is not None
+    return place
 
 
 def _sev_class(f: Finding) -> str:

@@ -27,6 +27,7 @@ character exactly, yet no terminal escape or bidi override ever appears raw in t
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 from collections.abc import Sequence
@@ -217,31 +218,18 @@ def jsonable(value: Any) -> Any:
         return str(value)
 
 
+def _record(obj: Location | Waiver) -> dict[str, Any]:
+    """A plain record of the ground floor as JSON: its fields by name, in declaration order (the
+    schema above names the same keys, so a field added there without the schema fails its test)."""
+    return {f.name: jsonable(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
+
+
 def _location(loc: Location) -> dict[str, Any]:
-    return {
-        "layer": loc.layer,
-        "x_mm": jsonable(loc.x_mm),
-        "y_mm": jsonable(loc.y_mm),
-        "box_mm": jsonable(loc.box_mm),
-        "file": loc.file,
-        "line": loc.line,
-    }
+    return _record(loc)
 
 
 def _waiver(w: Waiver | None) -> dict[str, Any] | None:
-    if w is None:
-        return None
-    return {
-        "rule": w.rule,
-        "reason": w.reason,
-        "sensor": w.sensor,
-        "net": w.net,
-        "layer": w.layer,
-        "box_mm": jsonable(w.box_mm),
-        "fingerprint": w.fingerprint,
-        "expires": w.expires,
-        "index": w.index,
-    }
+    return None if w is None else _record(w)
 
 
 def _finding(f: Finding) -> dict[str, Any]:

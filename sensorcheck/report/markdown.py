@@ -7,7 +7,9 @@ board-level findings, waived findings with their reasons, notes and the cautions
 
 All text from the board or the config is escaped for CommonMark (backslash before ASCII
 punctuation that could start markup, line breaks flattened), so a net named ``<script>`` or
-``a|b`` stays plain text and never breaks a table. Suitable for ``$GITHUB_STEP_SUMMARY``.
+``a|b`` stays plain text and never breaks a table. Suitable for ``$GITHUB_STEP_SUMMARY``: a
+checklist longer than a job summary may be (:data:`SUMMARY_LIMIT_BYTES`) is cut at a line, with a
+note saying so, and the cautions are always kept.
 """
 
 from __future__ import annotations
@@ -38,6 +40,10 @@ from sensorcheck.findings import Finding, Result, RuleInfo, SensorSummary
 # CommonMark 0.31 section 2.4: any ASCII punctuation may be backslash-escaped. These can open
 # markup (emphasis, links, HTML, code, tables, strikethrough, math, entities, autolinks).
 _MD_SPECIAL = set("\\`*_{}[]<>#!|~&$")
+
+#: GitHub's job summary takes at most 1024 KiB per step and drops a larger one whole (the runner
+#: says "supports content up to a size of 1024k"); we stay a little below for what the step adds.
+SUMMARY_LIMIT_BYTES = 1_000_000
 
 
 def md(text: object) -> str:
@@ -174,8 +180,8 @@ def _board_section(result: Result, label: str, catalogue: dict[str, RuleInfo]) -
     return out
 
 
-def render(results: Sequence[Result]) -> str:
-    """The checklist for a batch of results, ending in one newline."""
+def render(results: Sequence[Result], *, limit_bytes: int = SUMMARY_LIMIT_BYTES) -> str:
+    """The checklist for a batch of results, ending in one newline, at most ``limit_bytes`` of UTF-8."""
     catalogue = rule_catalogue(results)
     multi = len(results) > 1
     out = ["# sensorcheck review checklist", ""]
@@ -184,8 +190,28 @@ def render(results: Sequence[Result]) -> str:
     for result, label in zip(results, board_labels(results), strict=True):
         out += _board_section(result, label, catalogue)
     cautions = list(dict.fromkeys(c for r in results for c in r.cautions))
-    if cautions:
-        out += ["## Before you rely on this", ""] + [f"- {md(c)}" for c in cautions] + [""]
-    while out and out[-1] == "":
-        out.pop()
-    return "\n".join(out) + "\n"
+    tail = ["## Before you rely on this", ""] + [f"- {md(c)}" for c in cautions] if cautions else []
+    return _fit(out, tail, limit_bytes)
+
+
+def _fit(body: list[str], tail: list[str], limit_bytes: int) -> str:
+    """``body`` then ``tail`` as text; where that is over ``limit_bytes``, ``body`` is cut at a line
+    and a note says how much was left out (``tail``, the cautions, is always kept)."""
+    while body and body[-1] == "":
+        body.pop()
+    full = "\n".join([*body, "", *tail] if tail else body) + "\n"
+    size = len(full.encode("utf-8"))
+    if size <= limit_bytes:
+        return full
+    kept: list[str] = []
+    used = len("\n".join(tail).encode("utf-8")) + 400  # the tail and the note
+    for line in body:
+        n = len(line.encode("utf-8")) + 1
+        if used + n > limit_bytes:
+            break
+        kept.append(line)
+        used += n
+    note = (f"> **Cut here:** this checklist is {size // 1024} KiB, more than a CI job summary takes "
+            f"({limit_bytes // 1000} kB here); {len(body) - len(kept)} more lines are left out. "
+            "The json and html reports hold every finding.")
+    return "\n".join([*kept, "", note, "", *tail]) + "\n"

@@ -29,7 +29,7 @@ from typing import Any
 
 from sensorcheck.report.common import (
     TOOL_NAME,
-    TOOL_URI,
+    project_url,
     artifact_path,
     artifact_uri,
     board_labels,
@@ -197,11 +197,10 @@ def log_data(results: Sequence[Result]) -> dict[str, Any]:
     if stamps:
         invocation["startTimeUtc"] = stamps[0]
     version = results[0].tool_version if results else ""
-    driver: dict[str, Any] = {
-        "name": TOOL_NAME,
-        "informationUri": TOOL_URI,
-        "rules": [_rule(info) for info in catalogue.values()],
-    }
+    driver: dict[str, Any] = {"name": TOOL_NAME}
+    if (uri := project_url()) is not None:  # SARIF 2.1.0 toolComponent: optional; never an address not ours
+        driver["informationUri"] = uri
+    driver["rules"] = [_rule(info) for info in catalogue.values()]
     if version:
         driver["version"] = version
         driver["semanticVersion"] = version

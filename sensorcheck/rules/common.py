@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -15,8 +15,9 @@ from shapely.geometry.base import BaseGeometry
 from sensorcheck.board.model import Board, Feature, Hole, Layer
 from sensorcheck.design.model import Design, Sensor
 from sensorcheck.errors import ConfigError
-from sensorcheck.rules.base import Param
 from sensorcheck.findings import Finding, Location, Severity
+from sensorcheck.materials import FR4_EPSILON_R, MATERIALS
+from sensorcheck.rules.base import Param
 
 SELF_KINDS = frozenset({"self-button", "slider", "wheel", "proximity"})
 #: nets with these roles are not "foreign" copper near a sensor
@@ -287,6 +288,9 @@ def hole_net(design: Design, hole: Hole) -> str | None:
 
 
 #: the parameter every rule that tells vias from other holes shares (one default, one source class)
+#: permittivity of dielectrics the stackup leaves blank: the material table's FR-4, with its source
+FR4_PARAM = Param(FR4_EPSILON_R, "1", MATERIALS["fr4"].source_class,
+                  f"permittivity of dielectrics the stackup leaves blank (FR-4: {MATERIALS['fr4'].source})")
 VIA_DIAMETER_PARAM = Param(0.6, "mm", "derived", "plated holes up to this size count as vias when the drill file does not say")
 
 
@@ -331,6 +335,30 @@ def sensor_of_net(design: Design) -> dict[str, Sensor]:
         for n in s.nets:
             out.setdefault(n, s)
     return out
+
+
+#: the floors an estimated touch signal must clear for the estimate to decide (rules whose
+#: geometric number is a rule of thumb: the estimate, where there is one, is the verdict)
+ESTIMATE_FLOOR_PARAMS: dict[str, Param] = {
+    "min_delta_pf": Param(0.1, "pF", "common practice",
+                          "estimated touch delta below which the estimate does not clear the layout "
+                          "(the smallest finger signal used in tuning examples; vendor guidance, anonymous)"),
+    "min_percent_self": Param(3.0, "%", "common practice",
+                              "estimated relative change floor for self electrodes (vendor guidance, anonymous)"),
+    "min_percent_mutual": Param(10.0, "%", "common practice",
+                                "estimated relative change floor for mutual buttons (10-30 % expected for well-"
+                                "proportioned keys)"),
+}
+
+
+def estimate_decides(message: str, est: Any, params: Mapping[str, Any]) -> str | None:
+    """A rule-of-thumb finding where the field solver has an estimate for the sensor: None when the
+    estimate clears the floors of :data:`ESTIMATE_FLOOR_PARAMS` (no finding), else ``message`` with
+    the estimate's numbers appended (``message`` itself when there is no estimate)."""
+    if est is None:
+        return message
+    ok, text = estimate_ok(est, params["min_delta_pf"], params["min_percent_self"], params["min_percent_mutual"])
+    return None if ok else f"{message}; {text}"
 
 
 def estimate_ok(est: Any, min_delta_pf: float, min_percent_self: float, min_percent_mutual: float) -> tuple[bool, str]:

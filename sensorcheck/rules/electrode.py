@@ -13,7 +13,8 @@ from shapely.geometry import LineString
 from sensorcheck.design.model import Design, Sensor
 from sensorcheck.rules.common import (
     contact_diameter_mm,
-    estimate_ok,
+    ESTIMATE_FLOOR_PARAMS,
+    estimate_decides,
     finding,
     fmt,
     midpoint,
@@ -24,7 +25,6 @@ from sensorcheck.rules.common import (
     union,
 )
 from sensorcheck.rules.base import Param, Rule
-from sensorcheck.rules.gap import _FLOOR_PARAMS
 from sensorcheck.findings import Finding
 
 _CONTACT = Param(8.0, "mm", "common practice",
@@ -62,7 +62,7 @@ class SizeVsContact(Rule):
     title = "Electrode size against contact and overlay"
     default_severity = "warning"
     needs = ("sensors", "overlay")
-    params = {"contact_diameter_mm": _CONTACT, **_FLOOR_PARAMS}
+    params = {"contact_diameter_mm": _CONTACT, **ESTIMATE_FLOOR_PARAMS}
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         t = overlay_thickness_mm(design)
@@ -71,7 +71,7 @@ class SizeVsContact(Rule):
         for s in design.sensors:
             if s.kind in ("self-button", "proximity"):
                 shapes = [(e.net, e.layer, e.geometry) for e in s.electrodes if e.role == "self"]
-            elif s.kind == "mutual-node":
+            elif s.kind == "mutual-button":
                 node = union(e.geometry for e in s.electrodes if e.role in ("transmitter", "receiver"))
                 shapes = [(",".join(s.nets), s.layer, node.convex_hull)] if not node.is_empty else []
             else:
@@ -85,12 +85,9 @@ class SizeVsContact(Rule):
                     f"electrode fits a {fmt(width, 1)} mm disc (equivalent diameter {fmt(eq, 1)} mm); limit "
                     f"{fmt(limit, 1)} mm = contact {fmt(df, 1)} mm + 2 x overlay {fmt(t, 2)} mm"
                 )
-                est = estimates.get(s.name)
-                if est is not None:
-                    ok, text = estimate_ok(est, params["min_delta_pf"], params["min_percent_self"], params["min_percent_mutual"])
-                    if ok:
-                        continue
-                    msg += f"; {text}"
+                msg = estimate_decides(msg, estimates.get(s.name), params)
+                if msg is None:
+                    continue
                 yield finding(
                     "warning",
                     msg,

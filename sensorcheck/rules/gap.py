@@ -9,7 +9,8 @@ from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
     SELF_KINDS,
     clipped_union,
-    estimate_ok,
+    ESTIMATE_FLOOR_PARAMS,
+    estimate_decides,
     finding,
     fmt,
     union,
@@ -22,17 +23,6 @@ from sensorcheck.rules.common import (
 )
 from sensorcheck.rules.base import Param, Rule
 from sensorcheck.findings import Finding
-
-_FLOOR_PARAMS: dict[str, Param] = {
-    "min_delta_pf": Param(0.1, "pF", "common practice",
-                          "estimated touch delta below which the estimate does not clear the gap "
-                          "(the smallest finger signal used in tuning examples; vendor guidance, anonymous)"),
-    "min_percent_self": Param(3.0, "%", "common practice",
-                              "estimated relative change floor for self electrodes (vendor guidance, anonymous)"),
-    "min_percent_mutual": Param(10.0, "%", "common practice",
-                                "estimated relative change floor for mutual nodes (10-30 % expected for well-"
-                                "proportioned keys)"),
-}
 
 
 class TxRxGapVsOverlay(Rule):
@@ -71,7 +61,7 @@ class TxRxGapVsOverlay(Rule):
     params = {
         "ratio": Param(0.6, "1", "common practice", "expected gap / overlay thickness (rule of thumb, no published source)"),
         "tolerance_fraction": Param(0.5, "1", "derived", "accepted band around the ratio, as a fraction of it (uncalibrated)"),
-        **_FLOOR_PARAMS,
+        **ESTIMATE_FLOOR_PARAMS,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
@@ -101,12 +91,9 @@ class TxRxGapVsOverlay(Rule):
                 f"{fmt(params['ratio'])} x ({fmt(lo)}-{fmt(hi)}, i.e. {fmt(lo * t)}-{fmt(hi * t)} mm): "
                 f"too {too} (rule of thumb, common practice)"
             )
-            est = estimates.get(s.name)
-            if est is not None:
-                ok, text = estimate_ok(est, params["min_delta_pf"], params["min_percent_self"], params["min_percent_mutual"])
-                if ok:
-                    continue
-                msg += f"; {text}"
+            msg = estimate_decides(msg, estimates.get(s.name), params)
+            if msg is None:
+                continue
             pa, pb = nearest_points(tx.geometry, rx.geometry)
             yield finding(
                 "warning", msg, value=ratio, limit=lo if ratio < lo else hi, unit="gap/overlay",
@@ -154,7 +141,7 @@ class ElectrodeGroundGapVsOverlay(Rule):
         "min_gap_mm": Param(0.5, "mm", "common practice", "lower clamp of the target gap"),
         "max_gap_mm": Param(2.0, "mm", "common practice", "upper clamp of the target gap"),
         "tolerance_mm": Param(0.05, "mm", "derived", "measurement slack below the target before warning"),
-        **_FLOOR_PARAMS,
+        **ESTIMATE_FLOOR_PARAMS,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
@@ -181,12 +168,9 @@ class ElectrodeGroundGapVsOverlay(Rule):
                     f"(overlay {fmt(t)} mm clamped to {fmt(params['min_gap_mm'])}-{fmt(params['max_gap_mm'])} mm; "
                     f"ratio gap/overlay {fmt(gap / t)}; common practice)"
                 )
-                est = estimates.get(s.name)
-                if est is not None:
-                    ok, text = estimate_ok(est, params["min_delta_pf"], params["min_percent_self"], params["min_percent_mutual"])
-                    if ok:
-                        continue
-                    msg += f"; {text}"
+                msg = estimate_decides(msg, estimates.get(s.name), params)
+                if msg is None:
+                    continue
                 pa, pb = nearest_points(e.geometry, gnd)
                 yield finding(
                     "warning", msg, value=gap, limit=target, unit="mm", layer=e.layer, geom=e.geometry,

@@ -15,6 +15,7 @@ from sensorcheck.board.model import Feature
 from sensorcheck.design.model import Design
 from sensorcheck.physics.parasitics import parallel_plate_pf
 from sensorcheck.rules.common import (
+    FR4_PARAM,
     SELF_KINDS,
     bbox_overlap,
     box_mask,
@@ -323,7 +324,7 @@ class GroundUnderSelf(Rule):
         "close_mm": Param(0.5, "mm", "derived", "solid copper this close under an electrode is an error"),
         "max_fill_percent": Param(50.0, "%", "common practice", "densest hatch accepted under an electrode"),
         "max_added_pf": Param(5.0, "pF", "derived", "largest added plate capacitance accepted (a fraction of a typical 20 pF budget)"),
-        "default_epsilon_r": Param(4.5, "1", "handbook", "permittivity of dielectrics the stackup leaves blank (FR-4 4.2-4.8 at 1 MHz, IPC-4101, from memory)"),
+        "default_epsilon_r": FR4_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:

@@ -11,6 +11,7 @@ import shapely
 from sensorcheck.design.model import Design, Electrode
 from sensorcheck.physics.parasitics import microstrip_pf_per_mm, parallel_plate_pf, via_capacitance_pf
 from sensorcheck.rules.common import (
+    FR4_PARAM,
     VIA_DIAMETER_PARAM,
     finding,
     fmt,
@@ -337,7 +338,7 @@ class ParasiticBudget(Rule):
     needs = ("sensors", "stackup", "max_parasitic_pf")
     params = {
         "warn_fraction": Param(0.8, "1", "derived", "warn above this fraction of the controller limit"),
-        "default_epsilon_r": Param(4.5, "1", "handbook", "permittivity of dielectrics the stackup leaves blank (FR-4 4.2-4.8, IPC-4101, from memory)"),
+        "default_epsilon_r": FR4_PARAM,
         "max_via_diameter_mm": VIA_DIAMETER_PARAM,
         "via_pad_extra_mm": Param(0.3, "mm", "common practice", "via pad diameter = drill + this"),
         "via_antipad_clearance_mm": Param(0.25, "mm", "common practice", "plane clearance around a via pad"),

@@ -14,7 +14,6 @@ from __future__ import annotations
 
 import math
 import os
-import shutil
 from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
@@ -27,17 +26,9 @@ from sensorcheck.board.drawing import drawing_from_board
 from sensorcheck.board.model import Board, Hole, Layer, SourceRef
 from sensorcheck.findings import Finding, Location, Result, RuleInfo, SensorSummary, Waiver, assign_fingerprints
 
+from headless_chromium import chromium_path, launch  # beside this file (the benchmark uses it too)
+
 REPO = Path(__file__).resolve().parents[2]
-CHROMIUM_CANDIDATES = ("/usr/bin/chromium", "/usr/bin/chromium-browser")
-CHROMIUM_ARGS = [
-    "--headless",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--no-first-run",
-]
 EVIL_NET = "<script>alert(1)</script>"
 EVIL_SENSOR = "B2 \"quoted\" & 'single' </script><!--"
 
@@ -50,13 +41,6 @@ def artifacts_dir() -> Path:
     return path
 
 
-def chromium_path() -> str | None:
-    for cand in CHROMIUM_CANDIDATES:
-        if Path(cand).is_file():
-            return cand
-    return shutil.which("chromium")
-
-
 @pytest.fixture(scope="session")
 def browser() -> Iterator[Any]:
     exe = chromium_path()
@@ -67,7 +51,7 @@ def browser() -> Iterator[Any]:
     except ImportError:
         pytest.skip("Playwright for Python is not installed (pip install playwright; the browser is Debian's)")
     with sync_playwright() as pw:
-        b = pw.chromium.launch(executable_path=exe, headless=True, args=CHROMIUM_ARGS)
+        b = launch(pw, exe)
         try:
             yield b
         finally:
@@ -204,7 +188,7 @@ def synthetic_result() -> Result:
     ]
     sensors.append(
         SensorSummary(
-            name="K1", kind="mutual-node", layer="top-copper", nets=("TX1", "RX1"), box_mm=(52.0, 26.0, 67.0, 41.0),
+            name="K1", kind="mutual-button", layer="top-copper", nets=("TX1", "RX1"), box_mm=(52.0, 26.0, 67.0, 41.0),
             values={"tx_rx_gap_mm": 1.0, "rx_area_mm2": 38.0, "ground_area_mm2": 980.0, "rx_to_ground_ratio": 0.039},
             outline_rings=[[(52.0, 26.0), (67.0, 26.0), (67.0, 41.0), (52.0, 41.0), (52.0, 26.0)]],
             estimate={"model": "boundary elements; finger through 150 pF body to earth", "kind": "mutual",

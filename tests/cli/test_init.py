@@ -105,7 +105,7 @@ def test_writes_a_config_that_loads_and_finds_the_sensors(tmp_path: Path, capsys
     assert {(r.pattern, r.sensor) for r in config.roles if r.sensor} == {("SLD*", "sld")}
     d = build_design(board, config)
     kinds = sorted((s.kind, s.name) for s in d.sensors)
-    assert kinds == [("mutual-node", "TX1/RX1"), ("self-button", "/TOUCH1"), ("slider", "sld")]
+    assert kinds == [("mutual-button", "TX1/RX1"), ("self-button", "/TOUCH1"), ("slider", "sld")]
     assert d.roles["LED_RED"] == ("aggressor", "led") and d.roles["SW"] == ("aggressor", "switching")
     assert "UART_TX" not in d.roles
 

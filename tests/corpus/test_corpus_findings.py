@@ -310,12 +310,13 @@ def test_b03_fiducials_are_floating_copper(b03: dict[str, Any]) -> None:
 def test_b03_copper_under_each_segment(b03: dict[str, Any]) -> None:
     """hatch.ground-under-self: the top copper of other nets under each segment, and the plate
     capacitance eps0 eps_r A / h with the default stackup (no job file: 1.6 mm board less two 35 um
-    coppers = 1.53 mm of FR-4, eps_r 4.4 as the report states).  By hand: 57.4 / 64.0 / 65.9 % of
-    about 155.8 mm2 -> 2.28 / 2.54 / 2.62 pF: a warning (fill above 50 %), not an error (h > 0.5 mm)."""
+    coppers = 1.53 mm of FR-4, eps_r 4.5 as the report states: the middle of IPC-4101's 4.2-4.8 at
+    1 MHz, from memory).  By hand: 57.4 / 64.0 / 65.9 % of about 155.8 mm2 -> 2.33 / 2.60 / 2.68 pF:
+    a warning (fill above 50 %), not an error (h > 0.5 mm)."""
     hand: list[tuple[float, float]] = []  # (pF, fill %) per segment
     for net, electrode in b03["electrodes"].items():
         under = shapely.union_all([c for c, ns in b03["top"] if net not in ns]).intersection(electrode).area
-        hand.append((EPS0_F_PER_M * 4.4 * under * 1e-6 / 1.53e-3 * 1e12, 100 * under / electrode.area))
+        hand.append((EPS0_F_PER_M * 4.5 * under * 1e-6 / 1.53e-3 * 1e12, 100 * under / electrode.area))
     found = sorted(pick(b03["findings"], "hatch.ground-under-self", sensor="wheel"), key=lambda f: f["value"])
     assert len(found) == 3
     for (c_pf, fill_percent), f in zip(sorted(hand), found):

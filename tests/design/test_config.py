@@ -314,7 +314,7 @@ def test_out_of_range(tmp_path: Path, text: str, key: str) -> None:
         ("[[roles.place]]\nlayer='top-copper'\nrole='self'\n", "roles.place[0]", "exactly one"),
         ("[[roles.place]]\nlayer='top-mask'\npoint_mm=[1,2]\nrole='self'\n", "roles.place[0].layer", "copper"),
         ("[[sensors]]\nname='a'\nkind='wheel'\nnets=['A','B']\n", "sensors[0].nets", "at least 3"),
-        ("[[sensors]]\nname='a'\nkind='mutual-node'\ntx=['A']\n", "sensors[0].rx", "receiver"),
+        ("[[sensors]]\nname='a'\nkind='mutual-button'\ntx=['A']\n", "sensors[0].rx", "receiver"),
         ("[[sensors]]\nname='a'\nkind='matrix'\nrows=['A']\nnets=['B']\n", "sensors[0].nets", "not nets"),
         ("[[sensors]]\nname='a'\nkind='slider'\nnets=['A','A']\n", "sensors[0].nets[1]", "twice"),
         ("[[sensors]]\nname='a'\nkind='self-button'\nnets=['A']\n[[sensors]]\nname='a'\nkind='self-button'\nnets=['B']\n",
@@ -501,3 +501,37 @@ def test_bom_accepted_and_huge_or_missing_files_refused(tmp_path: Path) -> None:
         load_config(tmp_path / "absent.toml")
     with pytest.raises(ConfigError, match="cannot read"):
         load_config(tmp_path)  # a folder
+
+
+def test_profile_path_may_not_leave_the_repository(tmp_path: Path) -> None:
+    # A board config may come from a merge request: its profile stays inside the repository the
+    # config sits in (the folder holding .git), else inside the config's own folder.
+    repo = tmp_path / "repo"
+    (repo / ".git").mkdir(parents=True)
+    (repo / "hw").mkdir()
+    (tmp_path / "outside.toml").write_text("[rules.'gap.tx-rx-vs-overlay']\nratio = 0.5\n")
+    (repo / "team.toml").write_text("[rules.'gap.tx-rx-vs-overlay']\nratio = 0.7\n")
+    for text in ("profile = '../../outside.toml'\n", f"profile = '{tmp_path / 'outside.toml'}'\n"):
+        p = write(repo / "hw", text)
+        with pytest.raises(ConfigError) as info:
+            load_config(p, known_rules=KNOWN, profiles_dir=tmp_path / "x")
+        assert info.value.key == "profile" and "outside" in info.value.message and info.value.file == str(p)
+    # up to the repository root is fine
+    c = load_config(write(repo / "hw", "profile = '../team.toml'\n"), known_rules=KNOWN, profiles_dir=tmp_path / "x")
+    assert c.rule_params("gap.tx-rx-vs-overlay") == {"ratio": 0.7}
+    # outside a repository, the config's own folder bounds it
+    (tmp_path / "loose").mkdir()
+    p = write(tmp_path / "loose", "profile = '../outside.toml'\n")
+    with pytest.raises(ConfigError, match="outside"):
+        load_config(p, known_rules=KNOWN, profiles_dir=tmp_path / "x")
+
+
+def test_old_sensor_kind_spelling_is_read_with_a_note(tmp_path: Path) -> None:
+    text = "[[sensors]]\nname = 'K1'\nkind = '{}'\ntx = ['TX1']\nrx = ['RX1']\n"
+    new = load_config(write(tmp_path, text.format("mutual-button")), profiles_dir=tmp_path / "x")
+    old = load_config(write(tmp_path, text.format("mutual-node"), "old.toml"), profiles_dir=tmp_path / "x")
+    assert [g.kind for g in new.groups] == [g.kind for g in old.groups] == ["mutual-button"]
+    assert new.groups == old.groups
+    assert not any("deprecated" in n for n in new.notes)
+    (note,) = [n for n in old.notes if "deprecated" in n]
+    assert "sensors[0].kind" in note and "'mutual-button'" in note and "old.toml" in note

@@ -101,7 +101,7 @@ def test_b04_thirty_six_keys_and_hand_sense(shared_dir: Path, tmp_path: Path) ->
     # designers: "36 capacitive keys scanned as strobed columns and sensed rows, plus a hand-sense
     # electrode" (two board halves, nets .../c0..c4 and .../r0..r3, .../handsense)
     d, text = design_from_init(shared_dir, "b04-keys-4layer", tmp_path)
-    keys = [s for s in d.sensors if s.kind == "mutual-node"]
+    keys = [s for s in d.sensors if s.kind == "mutual-button"]
     assert len(keys) == 36
     assert not [s for s in d.sensors if s.kind == "matrix"]  # separate keys, not a touchpad
     # every key pairs one column (TX) with one row (RX) of the same half

@@ -73,3 +73,21 @@ def test_lookup_aliases() -> None:
     assert lookup_material("FR-4") is MATERIALS["fr4"]
     assert lookup_material("soda lime glass") is MATERIALS["soda-lime-glass"]
     assert lookup_material("unobtainium") is None
+    # generic names only: a trade name is neither read nor offered in "did you mean"
+    assert lookup_material("plexiglass") is None
+
+
+def test_one_fr4_permittivity_everywhere() -> None:
+    # IPC-4101 slash sheets: FR-4 4.2-4.8 at 1 MHz (from memory); one value, the middle, is used by
+    # the default stackup, the solver's fallback and the rules' parameter alike.
+    from sensorcheck.board.build import default_stackup
+    from sensorcheck.physics.sensors import FR4_EPS
+    from sensorcheck.rules.engine import registry
+
+    fr4 = MATERIALS["fr4"]
+    assert fr4.epsilon_r == pytest.approx(4.5) and fr4.epsilon_r_range == (4.2, 4.8)
+    die = [sl for sl in default_stackup(["top-copper", "bottom-copper"]).layers if sl.kind == "dielectric"]
+    assert {sl.epsilon_r for sl in die} == {fr4.epsilon_r} and FR4_EPS == fr4.epsilon_r
+    defaults = {rid: cls.params["default_epsilon_r"].default
+                for rid, cls in registry().items() if "default_epsilon_r" in cls.params}
+    assert defaults and set(defaults.values()) == {fr4.epsilon_r}

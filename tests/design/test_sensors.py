@@ -106,7 +106,7 @@ def ring_board():
 
 def test_tx_ring_around_rx_disc() -> None:
     d = build_design(ring_board(), cfg(transmitter=["TX*"], receiver=["RX*"]))
-    mutual = [s for s in d.sensors if s.kind == "mutual-node"]
+    mutual = [s for s in d.sensors if s.kind == "mutual-button"]
     assert [s.name for s in mutual] == ["TX1/RX1"]  # the parallel TX2 trace makes no node
     s = mutual[0]
     (rxe,) = s.electrodes_with("receiver")
@@ -143,7 +143,7 @@ def test_interleaved_fingers() -> None:
     tx.append(track([(0, 0), (-15, 0)], 0.25))
     board = make_board({"top-copper": {"KEY_TX": tx, "KEY_RX": rx}})
     d = build_design(board, cfg(transmitter=["*_TX"], receiver=["*_RX"]))
-    assert [s.kind for s in d.sensors] == ["mutual-node"]
+    assert [s.kind for s in d.sensors] == ["mutual-button"]
     s = d.sensors[0]
     (rxe,) = s.electrodes_with("receiver")
     (txe,) = s.electrodes_with("transmitter")
@@ -159,7 +159,7 @@ def test_tx_under_rx_on_another_layer() -> None:
     tx_plane = box(-0.5, 0.5, 16.5, 10.5)
     board = make_board({"top-copper": {"RX": rx}, "bottom-copper": {"TX": tx_plane}})
     d = build_design(board, cfg(transmitter=["TX"], receiver=["RX"]))
-    assert [(s.kind, s.layer) for s in d.sensors] == [("mutual-node", "top-copper")]
+    assert [(s.kind, s.layer) for s in d.sensors] == [("mutual-button", "top-copper")]
     layers = {e.role: e.layer for e in d.sensors[0].electrodes}
     assert layers == {"receiver": "top-copper", "transmitter": "bottom-copper"}
 
@@ -175,7 +175,7 @@ def test_separate_keys_sharing_lines_stay_keys() -> None:
     board = make_board({"top-copper": nets})
     d = build_design(board, cfg(transmitter=["TX*"], receiver=["RX*"]))
     assert sorted(s.name for s in d.sensors) == ["TXA/RXA", "TXA/RXB", "TXB/RXA", "TXB/RXB"]
-    assert all(s.kind == "mutual-node" for s in d.sensors)
+    assert all(s.kind == "mutual-button" for s in d.sensors)
     for s in d.sensors:
         (rxe,) = s.electrodes_with("receiver")
         assert rxe.geometry.area == pytest.approx(math.pi * 9, rel=0.01)  # only this key's disc
@@ -409,10 +409,10 @@ def test_thin_teeth_of_a_pad_stay_with_the_electrode() -> None:
 
 def test_mutual_group_names_the_node_and_overrides_roles() -> None:
     c = cfg(self=["*X1"])  # a wrong guess the group corrects
-    c.groups = [SensorGroup(name="K1", kind="mutual-node", tx=("TX1",), rx=("RX1",))]
+    c.groups = [SensorGroup(name="K1", kind="mutual-button", tx=("TX1",), rx=("RX1",))]
     d = build_design(ring_board(), c)
     k1 = [s for s in d.sensors if s.name == "K1"]
-    assert len(k1) == 1 and k1[0].kind == "mutual-node" and k1[0].how_found == "group"
+    assert len(k1) == 1 and k1[0].kind == "mutual-button" and k1[0].how_found == "group"
     assert d.roles["TX1"][0] == "transmitter" and d.roles["RX1"][0] == "receiver"
     assert any("gives way to the group" in n for n in d.notes)
     # the group's RX electrode is the disc, as found from the roles (test_tx_ring_around_rx_disc)

@@ -250,3 +250,13 @@ def test_identification_of_mutated_heads_never_raises(shared_dir: Path, ops: lis
     src = (shared_dir / "corpus/b01-slider-proto/fab/slider_rev_1_0-PTH.drl").read_bytes()
     ident = identify("x.gbr", apply(src, ops))
     assert ident.role is None or ident.kind is not None or ident.role in ("other",)
+
+
+@pytest.mark.parametrize("name", ["sensorcheck.toml", "hw/fab/sensorcheck.toml", "fab/SensorCheck.TOML"])
+def test_our_own_config_is_known_not_a_stray_text_file(name: str) -> None:
+    # The config sits beside the fabrication files (README: "finds hw/fab/sensorcheck.toml"), and
+    # `init --output` writes one there: it is known and not used as fab data, not "not understood".
+    ident = identify(name, b"profile = 'default'\n[board]\nface = 'top'\n")
+    assert ident.role == "other" and ident.kind is None and "config" in (ident.note or "")
+    other = identify("hw/fab/settings.toml", b"profile = 'default'\n")
+    assert other.role is None and "no fabrication format" in (other.note or "")

@@ -64,7 +64,7 @@ def button(
         nets["GND"] = box(-h, -h, h, h).difference(Point(0, 0).buffer(r_in + tx_width_mm + ground_gap_mm, quad_segs=24))
         roles["GND"] = "ground"
     electrodes = [Electrode("TX1", "transmitter", "top-copper", tx), Electrode("RX1", "receiver", "top-copper", rx)]
-    s = Sensor("K1", "mutual-node", "top-copper", electrodes, rx.union(tx).buffer(1.0), 1.0)
+    s = Sensor("K1", "mutual-button", "top-copper", electrodes, rx.union(tx).buffer(1.0), 1.0)
     return make_design(nets, roles, [s], ov=ov, finger=finger, estimate=estimate)
 
 

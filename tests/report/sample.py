@@ -86,7 +86,7 @@ def _board_a() -> Result:
     ]
     assign_fingerprints(findings, "panel-a")
     sensors = [
-        SensorSummary("K1", "mutual-node", "top-copper", ("TX1", "RX1"), (8.0, 25.0, 16.0, 33.0),
+        SensorSummary("K1", "mutual-button", "top-copper", ("TX1", "RX1"), (8.0, 25.0, 16.0, 33.0),
                       {"gap_mm": 0.5, "rx_area_mm2": 28.27, "tx_area_mm2": 40.0, "overlay_mm": 2.0},
                       estimate={"model": "BEM 2.5-D, 412 panels", "cm_pf": 1.234, "delta_cm_pf": 0.0812,
                                 "curve": [[0.0, 1.1], [1.0, 1.2]],
@@ -94,7 +94,7 @@ def _board_a() -> Result:
                       checklist=["Measure the touch signal with a 2 mm PMMA overlay on the prototype."]),
         SensorSummary("B1", "self-button", "top-copper", ("TOUCH1",), (38.0, 3.0, 44.0, 9.0),
                       {"diameter_mm": 10.0, "parasitic_pf": 12.5, "status": "ok"}),
-        SensorSummary(HOSTILE_SENSOR, "mutual-node", "top-copper", ("TX2", HOSTILE_NETS[1]), None,
+        SensorSummary(HOSTILE_SENSOR, "mutual-button", "top-copper", ("TX2", HOSTILE_NETS[1]), None,
                       {"gap_mm": 0.6}, checklist=["Check " + HOSTILE_NETS[0] + " by eye"]),
     ]
     return Result(
@@ -130,7 +130,7 @@ def _board_b() -> Result:
         tool_version="0.1.0",
         config_file=None,
         findings=findings,
-        sensors=[SensorSummary("S1", "mutual-node", "top-copper", ("TX", "RX"), None, {"gap_mm": 0.8})],
+        sensors=[SensorSummary("S1", "mutual-button", "top-copper", ("TX", "RX"), None, {"gap_mm": 0.8})],
         rules=rules()[:6],
         rules_run=["gap.tx-rx-vs-overlay", "gap.electrode-ground", "area.rx-to-ground", "routing.via-in-zone"],
     )

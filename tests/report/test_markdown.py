@@ -71,3 +71,24 @@ def test_checklist_content(one_board: list[Result]) -> None:
     assert any("licensed practice" in line for line in lines)
     assert any("thin \\<b\\>glass\\</b\\>" in line for line in lines)  # waiver reason, escaped
     assert HOSTILE_NETS[0] not in text
+
+
+def test_a_checklist_over_the_job_summary_limit_is_cut_with_a_note(results: list[Result]) -> None:
+    # GitHub's runner drops a step summary over 1024 KiB whole ("supports content up to a size of
+    # 1024k", its error message): the checklist stays under that and says where it was cut.
+    from sensorcheck.report.markdown import SUMMARY_LIMIT_BYTES
+    from sensorcheck.report.markdown import render as render_md
+
+    assert SUMMARY_LIMIT_BYTES <= 1024 * 1024
+    full = render_md(results)
+    assert full == render(results, "markdown") and "Cut here" not in full
+    limit = len(full.encode()) // 2
+    cut = render_md(results, limit_bytes=limit)
+    assert len(cut.encode()) <= limit
+    assert "**Cut here:**" in cut and "more lines are left out" in cut
+    head = cut.split("\n> **Cut here:**")[0].rstrip("\n")
+    assert full.startswith(head)  # what is kept is the start of the full checklist, cut at a line
+    for caution in results[0].cautions:  # the cautions are never cut
+        assert caution.split(":")[0] in cut.split("**Cut here:**")[1]
+    _, tokens = _tokens(cut)  # still Markdown that parses, no HTML out of the cut
+    assert "html_block" not in {t.type for t in _walk(tokens)}

@@ -154,3 +154,26 @@ def test_paths_are_made_relative_to_the_working_folder(one_board: list[Result]) 
     loc = led["locations"][0]
     assert loc["physicalLocation"] == {"artifactLocation": {"uri": "hw/rev-b.zip"}, "region": {"startLine": 1}}
     assert (loc["properties"]["file"], loc["properties"]["line"]) == ("fab/panel-a-F_Cu.gbr", 120)
+
+
+def test_information_uri_is_only_the_projects_own(results: list[Result], monkeypatch: pytest.MonkeyPatch) -> None:
+    # SARIF 2.1.0 (toolComponent object): informationUri is optional. We give one only when
+    # the package metadata names the project's repository ([project.urls]), never a guessed address.
+    from importlib import metadata
+
+    from sensorcheck.report import common
+
+    class Meta:
+        def __init__(self, urls: list[str]) -> None:
+            self.urls = urls
+
+        def get_all(self, name: str) -> list[str] | None:
+            return self.urls if name == "Project-URL" else None
+
+    monkeypatch.setattr(metadata, "metadata", lambda name: Meta([]))
+    driver = json.loads(render(results, "sarif"))["runs"][0]["tool"]["driver"]
+    assert "informationUri" not in driver
+    monkeypatch.setattr(metadata, "metadata", lambda name: Meta(["Repository, https://git.example.org/hw/sensorcheck"]))
+    assert common.project_url() == "https://git.example.org/hw/sensorcheck"
+    driver = json.loads(render(results, "sarif"))["runs"][0]["tool"]["driver"]
+    assert driver["informationUri"] == "https://git.example.org/hw/sensorcheck"

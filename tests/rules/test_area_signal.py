@@ -22,7 +22,7 @@ def node_over_ground(with_ground: bool = True, pin: float | None = 5.0):
         shapes.append(region("bottom-copper", box(-20, -20, 20, 20), "GND"))
     cfg = make_config(1.0)
     cfg.controller = {"max_parasitic_pf": 30.0, **({"pin_capacitance_pf": pin} if pin is not None else {})}
-    s = sensor("K1", "mutual-node", [electrode("TX0", "transmitter", tx), electrode("RX0", "receiver", rx)])
+    s = sensor("K1", "mutual-button", [electrode("TX0", "transmitter", tx), electrode("RX0", "receiver", rx)])
     return make_design(make_board(shapes), cfg, {"TX0": "transmitter", "RX0": "receiver", "GND": "ground"}, [s])
 
 

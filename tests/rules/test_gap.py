@@ -17,7 +17,7 @@ def mutual_node(gap_mm: float, overlay_mm: float = 2.0):
     inner = 4 + gap_mm
     tx = box(-inner - 2, -inner - 2, inner + 2, inner + 2).difference(box(-inner, -inner, inner, inner))
     board = make_board([region("top-copper", rx, "RX0"), region("top-copper", tx, "TX0")])
-    s = sensor("K1", "mutual-node", [electrode("TX0", "transmitter", tx), electrode("RX0", "receiver", rx)])
+    s = sensor("K1", "mutual-button", [electrode("TX0", "transmitter", tx), electrode("RX0", "receiver", rx)])
     return make_design(board, make_config(overlay_mm), {"TX0": "transmitter", "RX0": "receiver"}, [s])
 
 

@@ -90,7 +90,7 @@ def test_light_hatch_near_self_button_passes_and_dense_warns() -> None:
 
 
 def test_mutual_sensor_gets_a_note_not_a_warning() -> None:
-    (f,) = run_one("hatch.fill-near-sensor", button_with_ground(box(-30, -30, 30, 30), kind="mutual-node"))
+    (f,) = run_one("hatch.fill-near-sensor", button_with_ground(box(-30, -30, 30, 30), kind="mutual-button"))
     assert f.severity == "note"
 
 

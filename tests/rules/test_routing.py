@@ -130,9 +130,9 @@ def two_nodes_along(tx_path: list[tuple[float, float]]):
         draw("bottom-copper", tx_path, 0.2, "TX1"),
     ]
     board = make_board(shapes)
-    k1 = sensor("K1", "mutual-node", [with_traces(board, electrode("TX0", "transmitter", tx1)),
+    k1 = sensor("K1", "mutual-button", [with_traces(board, electrode("TX0", "transmitter", tx1)),
                                        with_traces(board, electrode("RX0", "receiver", rx1))])
-    k2 = sensor("K2", "mutual-node", [with_traces(board, electrode("TX1", "transmitter", tx2)),
+    k2 = sensor("K2", "mutual-button", [with_traces(board, electrode("TX1", "transmitter", tx2)),
                                        with_traces(board, electrode("RX1", "receiver", rx2))])
     roles = {"TX0": "transmitter", "TX1": "transmitter", "RX0": "receiver", "RX1": "receiver"}
     return make_design(board, make_config(1.0), roles, [k1, k2])
@@ -169,9 +169,9 @@ def scanned_keys():
                draw("bottom-copper", [(-5, -39.5), (5, -39.5)], 0.2, "T9")]
     board = make_board(shapes)
     for (r, c), (rx, tx) in sorted(pads.items()):
-        sensors.append(sensor(f"K{r}{c}", "mutual-node", [with_traces(board, electrode(f"C{c}", "transmitter", tx)),
+        sensors.append(sensor(f"K{r}{c}", "mutual-button", [with_traces(board, electrode(f"C{c}", "transmitter", tx)),
                                                           with_traces(board, electrode(f"R{r}", "receiver", rx))]))
-    sensors.append(sensor("K9", "mutual-node", [with_traces(board, electrode("T9", "transmitter", tx9)),
+    sensors.append(sensor("K9", "mutual-button", [with_traces(board, electrode("T9", "transmitter", tx9)),
                                                 with_traces(board, electrode("R9", "receiver", rx9))]))
     roles = {n: "transmitter" for n in ("C0", "C1", "T9")} | {n: "receiver" for n in ("R0", "R1", "R9")}
     return make_design(board, make_config(1.0), roles, sensors)
@@ -255,7 +255,7 @@ def test_trace_under_electrode_of_a_net_in_several_sensors() -> None:
               region("top-copper", tx2, "C0"), region("top-copper", pad, "TOUCH"),
               draw("bottom-copper", [(28, 0), (50, 0)], 0.2, "C0", line=9)]
     board = make_board(shapes)
-    keys = [sensor(name, "mutual-node", [with_traces(board, electrode("C0", "transmitter", tx)),
+    keys = [sensor(name, "mutual-button", [with_traces(board, electrode("C0", "transmitter", tx)),
                                          with_traces(board, electrode(r, "receiver", rx))])
             for name, r, rx, tx in (("K1", "R1", rx1, tx1), ("K2", "R2", rx2, tx2))]
     b = sensor("B", "self-button", [with_traces(board, electrode("TOUCH", "self", pad))])

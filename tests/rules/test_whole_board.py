@@ -82,7 +82,7 @@ def board(bad: bool):
     cfg.fabrication = {"min_width_mm": 0.15, "min_clearance_mm": 0.15}
     sensors = [
         sensor("B1", "self-button", [with_traces(brd, electrode("TOUCH1", "self", pad))]),
-        sensor("K1", "mutual-node", [with_traces(brd, electrode("TX1", "transmitter", tx)),
+        sensor("K1", "mutual-button", [with_traces(brd, electrode("TX1", "transmitter", tx)),
                                      with_traces(brd, electrode("RX1", "receiver", rx))]),
         sensor("S1", "slider", [with_traces(brd, electrode(n, "self", s)) for s, n in zip(segs, seg_nets)],
                order=tuple(seg_nets)),
