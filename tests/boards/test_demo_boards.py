@@ -599,12 +599,11 @@ def test_ipc356_long_net_names_get_an_alias_that_readers_resolve(tmp_path: Path)
 
 
 def _check_findings(folder: Path, tmp_path: Path) -> list[dict]:
-    import subprocess
+    from hang_guard import run
 
     out = tmp_path / f"{folder.name}.json"
-    proc = subprocess.run(
-        [sys.executable, "-m", "sensorcheck", "check", str(folder), "--no-estimate", "--exit-zero",
-         "--report", f"json:{out}"], capture_output=True, text=True, timeout=300, cwd=REPO)
+    proc = run([sys.executable, "-m", "sensorcheck", "check", str(folder), "--no-estimate", "--exit-zero",
+                "--report", f"json:{out}"], guard_s=600, cwd=REPO)
     assert proc.returncode == 0, proc.stderr[-2000:]
     return json.loads(out.read_text())["boards"][0]["findings"]
 

@@ -40,7 +40,7 @@ from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.cli import main
 
-pytestmark = pytest.mark.corpus
+pytestmark = [pytest.mark.corpus, pytest.mark.slow]  # three full checks: CI runs them, the quick subset not
 
 CONFIGS = Path(__file__).resolve().parent / "configs"
 EPS0_F_PER_M = 8.8541878128e-12  # vacuum permittivity, CODATA 2018

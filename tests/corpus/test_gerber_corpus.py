@@ -15,7 +15,8 @@ import pytest
 
 from sensorcheck.fab.gerber import read_gerber
 
-pytestmark = pytest.mark.corpus  # reads ../shared; skips where absent
+# reads ../shared (skips where absent); every corpus file read: the full suite (CI) runs it, the quick subset not
+pytestmark = [pytest.mark.corpus, pytest.mark.slow]
 
 _CORPUS = Path(__file__).resolve().parents[2].parent / "shared" / "corpus"
 BOARDS = sorted(p.name for p in _CORPUS.iterdir() if (p / "fab").is_dir()) if _CORPUS.is_dir() else []

@@ -11,12 +11,12 @@ from __future__ import annotations
 import json
 import os
 import shutil
-import subprocess
 import sys
 import zipfile
 from pathlib import Path
 
 import pytest
+from hang_guard import run
 
 from sensorcheck.cli import main
 
@@ -128,7 +128,7 @@ def test_reports_are_byte_identical_across_processes_and_hash_seeds(tmp_path: Pa
         for f in fmts:
             args += ["--report", f"{f}:{d / ('out.' + f)}"]
         env = {**os.environ, "PYTHONHASHSEED": seed}
-        proc = subprocess.run(args, env=env, capture_output=True, text=True, timeout=600)
+        proc = run(args, guard_s=900, env=env)
         assert proc.returncode == 0, proc.stderr
         outputs.append({f: (d / f"out.{f}").read_bytes() for f in fmts})
     for f in fmts:

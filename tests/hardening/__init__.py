@@ -7,7 +7,8 @@ so every example here runs in a *worker process* that
 * caps its own address space with ``resource.setrlimit(RLIMIT_AS)`` (``MEMORY_BOUND_BYTES``), so
   an allocation past the bound fails inside the worker instead of swapping the machine;
 * is given ``TIME_BOUND_S`` seconds per example by the parent, which kills and restarts it when
-  the bound passes (a hang is reported with the input that caused it).
+  they pass (a hang is reported with the input that caused it). This is a hang guard, generous for
+  a loaded 2-core CI machine, never a speed limit: no test asserts how long a read took.
 
 The worker is started once and reused (importing shapely and gerbonara takes about a second),
 so one example costs a pipe round trip plus the read itself.
@@ -42,7 +43,7 @@ SHARED = REPO.parent / "shared"
 CORPUS = SHARED / "corpus"
 
 #: per-example bounds (generous: a guard against hangs and memory bombs, not a speed target)
-TIME_BOUND_S = 20.0
+TIME_BOUND_S = 60.0
 MEMORY_BOUND_BYTES = 2 * 1024**3
 
 Reader = Literal["gerber", "excellon", "ipc356", "jobfile", "config"]
@@ -210,7 +211,8 @@ class Worker:
             return self._receive(self.time_bound_s)
         except TimeoutError:
             self.kill()
-            return Outcome("hang", file=name, error=f"no answer within {self.time_bound_s:.0f} s",
+            return Outcome("hang", file=name, error=f"hang guard: no answer within {self.time_bound_s:g} s (a guard "
+                                                    "against a reader that never returns, not a speed limit)",
                            seconds=time.perf_counter() - t0)
         except (EOFError, BrokenPipeError, pickle.UnpicklingError):
             code = self.proc.wait()

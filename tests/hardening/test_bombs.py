@@ -4,12 +4,15 @@ Each bomb runs in the worker process of tests/hardening/__init__.py (memory boun
 so a limit that fails to hold fails the test instead of taking the machine) or, for the archive
 cases that need objects the worker protocol does not carry, in this process (the field-solver
 bomb: in a process of its own, under the same memory bound).
-GUARD_S is a guard against hangs, not a speed assertion (BRIEF: speed is measured in bench/).
+No test here bounds wall-clock time: bounded work is asserted by counting (the objects a file
+would make, the line where the count passes its limit, the polarity work, vertices, the meshings
+done). HANG_GUARD_S only stops a reader that never returns, and its failure says so; speed is
+measured in bench/, never here.
 The defaults (sensorcheck/limits.py) are used wherever a bomb fits in a small file; a small
 ``Limits`` override stands in for a genuinely huge input (a file over 200 MB, a region of
 millions of vertices) so that the test itself stays small and fast.
 
-Each test prints the error and the seconds it took (pytest -s shows them; the closing note quotes them).
+Each test prints the error and the seconds it took (pytest -s shows them), for information only.
 """
 
 from __future__ import annotations
@@ -29,13 +32,14 @@ from sensorcheck.errors import InputError, LimitError
 from sensorcheck.fab.archive import open_input
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
-GUARD_S = 20.0
+#: a guard against a reader that never returns, not a speed limit: generous for a loaded CI machine
+HANG_GUARD_S = 300.0
 HEAD = "%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,0.1*%\nD10*\n"
 
 
 @pytest.fixture(scope="module")
 def worker() -> Iterator[Worker]:
-    with Worker(time_bound_s=GUARD_S) as w:
+    with Worker(time_bound_s=HANG_GUARD_S) as w:
         yield w
 
 
@@ -46,7 +50,6 @@ def _stopped(worker: Worker, reader: Any, text: str | bytes, name: str,
     print(f"\n{name}: {out.kind} {out.error_type} line {out.line}: {out.message} ({out.seconds:.2f} s)")
     assert out.kind == "ours", f"{name}: {out}"
     assert out.file == name
-    assert out.seconds < GUARD_S
     return out
 
 
@@ -72,10 +75,9 @@ def test_step_and_repeat_within_the_copy_limit_but_past_the_object_limit(worker:
 
 # Each block knows how many objects it places (its own plus those of the blocks it flashes), and a
 # flash is checked against max_gerber_objects before anything is copied: the bomb below is refused
-# in milliseconds (it took 15-45 s on a 2-core machine when the expansion copied up to the limit
-# first). NESTED_BOUND_S is a guard against a return of that cost, wide enough for a loaded CI
-# machine; not a speed assertion.
-NESTED_BOUND_S = 10.0
+# from that count (it took 15-45 s on a 2-core machine when the expansion copied up to the limit
+# first). The tests assert the count in the error (the objects the flash *would* make, at the
+# flash's line), which a copy-first reader could not give: counted work, no clock.
 
 
 def _nested_bomb(tail: str) -> str:
@@ -89,8 +91,8 @@ def _nested_bomb(tail: str) -> str:
 
 
 def _run_bounded(worker: Worker, text: str, name: str) -> Outcome:
-    """Read under NESTED_BOUND_S; the file must give one of our errors, naming itself."""
-    out = _read_bounded(worker, text, name, NESTED_BOUND_S)
+    """Read in the worker; the file must give one of our errors, naming itself."""
+    out = _read(worker, text, name)
     assert out.kind == "ours" and out.file == name, out
     return out
 
@@ -117,7 +119,7 @@ def test_step_and_repeat_of_nested_block_flashes_past_the_object_limit(worker: W
 # Under max_gerber_objects is not harmless: a file of a few kilobytes placing 5 000 000 objects was
 # accepted, took about 10 s to copy them (parse alone) and then many minutes in the geometry step.
 # limits.max_expanded_objects (the objects made by copying) refuses it at the placing line, before
-# any copy. Same NESTED_BOUND_S guard as above (the refusal itself measured 4 ms).
+# any copy (the message gives the count it would make; the refusal itself measured 4 ms).
 
 
 def test_nested_blocks_just_under_the_object_limit_are_refused_by_the_expansion_limit(worker: Worker) -> None:
@@ -162,47 +164,60 @@ def test_coincident_flashes_within_every_limit(worker: Worker) -> None:
     text = HEAD + "X0Y0D03*\n" * 20_000 + "M02*\n"
     out = worker.run("gerber", text.encode(), "stacked.gbr")
     print(f"\nstacked.gbr: {out.kind} {out.message} ({out.seconds:.2f} s)")
-    assert out.kind in ("ok", "ours") and out.seconds < GUARD_S
+    assert out.kind in ("ok", "ours"), out
 
 
 # Stacked objects alternating dark and clear polarity (Gerber spec 2023.08 s. 4.9.2: a clear object
 # clears what came before it) once cost more than the square of their count: each dark object
 # unioned all of its later clear objects afresh (500 written out: 9.5 s; 1 000 made by SR: 61 s;
 # 20 000: not done in 120 s). The backward sweep of gerber_geometry.effective_dark merges the clear
-# objects it has passed as it goes. POLARITY_BOUND_S guards against a return of that cost, wide
-# enough for a loaded 2-core CI machine; not a speed assertion.
-POLARITY_BOUND_S = 10.0
+# objects it has passed as it goes, and counts the clear copper it handles again
+# (limits.max_polarity_work). The tests below read under a *linear* work budget: CIRCLES_PER_DARK
+# circles' vertices per dark object (the sweep needs about 3: the merged clear piece, the object,
+# and the merge). The quadratic way handled about half the file's clear circles per dark object
+# (125 for 500 objects, 5 000 for 20 000), so it would stop with a LimitError: counted work, no clock.
+CIRCLES_PER_DARK = 4
 
 
-def _read_bounded(worker: Worker, text: str, name: str, bound_s: float) -> Outcome:
-    """Read ``text`` as a Gerber file in the worker, under a time bound of ``bound_s``."""
-    worker.time_bound_s = bound_s
-    try:
-        out = worker.run("gerber", text.encode(), name)
-    finally:
-        worker.time_bound_s = GUARD_S
+def _read(worker: Worker, text: str, name: str, overrides: dict[str, Any] | None = None) -> Outcome:
+    """Read ``text`` as a Gerber file in the worker (under the hang guard only)."""
+    out = worker.run("gerber", text.encode(), name, overrides)
     print(f"\n{name}: {out.kind} {out.error_type} line {out.line}: {out.message} ({out.seconds:.2f} s)")
     return out
+
+
+def _circle_vertices(aperture: str) -> int:
+    """Vertices of one flash of ``aperture`` as the reader draws it (the unit the work is counted in)."""
+    import shapely
+
+    from sensorcheck.fab.gerber import read_gerber
+
+    got = read_gerber((HEAD.replace("C,0.1", aperture) + "X0Y0D03*\nM02*\n").encode(), "one.gbr")
+    return int(shapely.get_num_coordinates(got.dark))
 
 
 def test_500_stacked_objects_alternating_polarity_written_out(worker: Worker) -> None:
     body = "".join(("%LPD*%\n" if k % 2 == 0 else "%LPC*%\n") + "X0Y0D03*\n" for k in range(500))
     text = HEAD.replace("C,0.1", "C,1") + body + "M02*\n"
     assert len(text) < 10_000
-    out = _read_bounded(worker, text, "alternating-500.gbr", POLARITY_BOUND_S)
-    assert out.kind == "ok", out
+    budget = CIRCLES_PER_DARK * _circle_vertices("C,1") * 250  # 250 dark objects
+    out = _read(worker, text, "alternating-500.gbr", {"max_polarity_work": budget})
+    assert out.kind == "ok", f"polarity work past a linear budget of {budget} vertices: {out}"
 
 
+@pytest.mark.slow  # seconds of CPU: the full suite (CI) runs it, the quick subset does not
 def test_20000_stacked_objects_alternating_polarity_by_step_and_repeat(worker: Worker) -> None:
     # 10 000 copies of a block of a dark and a clear 1 mm circle on one spot: 19 998 made by copying,
     # just within max_expanded_objects = 20 000; then one dark flash of a smaller circle on top
     assert 2 * 10_000 - 2 <= DEFAULT_LIMITS.max_expanded_objects
     text = (HEAD.replace("C,0.1", "C,1") + "%SRX10000Y1I0J0*%\n%LPD*%\nX0Y0D03*\n%LPC*%\nX0Y0D03*\n%SR*%\n"
             "%LPD*%\n%ADD11C,0.5*%\nD11*\nX0Y0D03*\nM02*\n")
-    out = _read_bounded(worker, text, "alternating-sr.gbr", POLARITY_BOUND_S)
-    assert out.kind == "ok", out
+    budget = CIRCLES_PER_DARK * _circle_vertices("C,1") * 10_001  # 10 000 copies + the last flash
+    out = _read(worker, text, "alternating-sr.gbr", {"max_polarity_work": budget})
+    assert out.kind == "ok", f"polarity work past a linear budget of {budget} vertices: {out}"
 
 
+@pytest.mark.slow  # seconds of CPU: the full suite (CI) runs it, the quick subset does not
 def test_20000_shifted_objects_alternating_polarity_by_step_and_repeat_are_refused(worker: Worker) -> None:
     # Each object 1 um further on than the one before (a block of a dark 1 mm circle and a clear one
     # 1 um to its right, stepped 10 000 times by 2 um: 19 998 made by copying, within
@@ -210,12 +225,12 @@ def test_20000_shifted_objects_alternating_polarity_by_step_and_repeat_are_refus
     # the polarity sweep keeps grows with the file and every dark object meets it again, which grows
     # with the square of the count (2 000 written out: 2.7 s, 8 000: 32 s; 20 000: minutes).
     # max_polarity_work stops it at the line of a dark object (the block's LPD flash, line 7, which
-    # every copy shares) within the guard.
+    # every copy shares), counted, not timed.
     assert 2 * 10_000 - 2 <= DEFAULT_LIMITS.max_expanded_objects
     text = (HEAD.replace("C,0.1", "C,1") + "%SRX10000Y1I0.002J0*%\n%LPD*%\nX0Y0D03*\n%LPC*%\nX1000Y0D03*\n"
             "%SR*%\nM02*\n")
     assert len(text) < 200
-    out = _read_bounded(worker, text, "shifted-sr.gbr", POLARITY_BOUND_S)
+    out = _read(worker, text, "shifted-sr.gbr")
     assert out.kind == "ours" and out.error_type == "LimitError" and out.file == "shifted-sr.gbr", out
     assert out.line == 7
     assert f"limits.max_polarity_work = {DEFAULT_LIMITS.max_polarity_work}" in (out.message or "")
@@ -231,7 +246,7 @@ def test_huge_circle_flashed_20000_times_is_refused_before_the_geometry(worker: 
     per_flash = circle_segments(5000.0, 0.001) + 1
     assert 20_000 * per_flash > DEFAULT_LIMITS.max_vertices
     text = HEAD.replace("C,0.1", "C,10000") + "%SRX20000Y1I0.01J0*%\nX0Y0D03*\n%SR*%\nM02*\n"
-    out = _read_bounded(worker, text, "huge-circles.gbr", POLARITY_BOUND_S)
+    out = _read(worker, text, "huge-circles.gbr")
     assert out.kind == "ours" and out.error_type == "LimitError" and out.file == "huge-circles.gbr", out
     assert out.line == 6
     assert f"limits.max_vertices = {DEFAULT_LIMITS.max_vertices}" in (out.message or "")
@@ -281,13 +296,11 @@ def test_region_with_too_many_vertices(worker: Worker) -> None:
 def test_arc_of_enormous_radius_is_bounded(worker: Worker) -> None:
     # a full circle of radius 1e6 mm (1 km) with a 0.1 mm pen: at a 1 um chord tolerance that would
     # be 2.2 million segments; the reader caps circles (gerber_geometry: at most 8192 segments), so
-    # it returns a bounded result (or a clear error) within the guard.
+    # it returns a bounded result (or a clear error); the vertices of what it returns are counted.
     text = HEAD + "G75*\nX0Y0D02*\nG03X0Y0I1000000000000J0D01*\nM02*\n"
-    out = worker.run("gerber", text.encode(), "arc.gbr")
+    out = worker.run("gerber", text.encode(), "arc.gbr", {"max_vertices": 4 * 8192 + 64})
     print(f"\narc.gbr: {out.kind} {out.error_type} {out.message} ({out.seconds:.2f} s)")
-    assert out.kind in ("ok", "ours") and out.seconds < GUARD_S
-    if out.kind == "ours":
-        assert out.file == "arc.gbr"
+    assert out.kind == "ok" or (out.kind == "ours" and out.file == "arc.gbr" and "max_vertices" not in (out.message or "")), out
 
 
 def test_tiny_chord_tolerance_is_bounded() -> None:
@@ -295,12 +308,10 @@ def test_tiny_chord_tolerance_is_bounded() -> None:
     from sensorcheck.fab.gerber import read_gerber
 
     text = HEAD.replace("C,0.1", "C,2000") + "X0Y0D03*\nG75*\nX0Y0D02*\nG03X0Y0I1000000000J0D01*\nM02*\n"
-    t0 = time.perf_counter()
     got = read_gerber(text.encode(), "tol.gbr", arc_tolerance_mm=1e-12)
-    took = time.perf_counter() - t0
     n = sum(len(g.exterior.coords) for g in getattr(got.dark, "geoms", [got.dark]))
-    print(f"\ntol.gbr: returned, {n} outer vertices ({took:.2f} s)")
-    assert took < GUARD_S and n < 100_000
+    print(f"\ntol.gbr: returned, {n} outer vertices")
+    assert n < 100_000  # counted: the segment cap holds
 
 
 # ----------------------------------------------------------------------------- Excellon
@@ -322,13 +333,13 @@ def test_excellon_many_holes_past_a_small_hole_limit(worker: Worker) -> None:
 
 
 def _timed_open(path: Path, limits: Limits = DEFAULT_LIMITS) -> tuple[LimitError | InputError, float]:
+    """Open the archive, which must be refused; the seconds are printed for information only."""
     t0 = time.perf_counter()
     with pytest.raises(InputError) as info:
         with open_input(path, limits=limits):
             pass
     took = time.perf_counter() - t0
     print(f"\n{path.name}: {type(info.value).__name__}: {info.value} ({took:.2f} s)")
-    assert took < GUARD_S
     return info.value, took
 
 
@@ -373,10 +384,10 @@ def test_zip_with_too_many_members(tmp_path: Path) -> None:
 # ----------------------------------------------------------------------------- field solver
 
 
-#: build_model of the field-solver bomb, in its own process: the time bound (a few seconds, with room
-#: for a loaded 2-core CI machine; the refusal itself measured 0.03-0.05 s) and the process's guard
-MESH_BOMB_S = 10.0
-MESH_BOMB_GUARD_S = 120.0
+#: build_model of the field-solver bomb runs in its own process; this only stops a hang (a guard,
+#: not a speed limit). That the refusal comes before any meshing is counted: the process counts the
+#: calls of the mesher (flat_panels) and the panel estimates (estimate_panels).
+MESH_BOMB_GUARD_S = 600.0
 
 _MESH_BOMB = """
 import json, resource, sys, time
@@ -384,7 +395,17 @@ import shapely
 from sensorcheck.board.model import Board, Layer, Stackup, StackupLayer
 from sensorcheck.design.model import Config, Design, Electrode, Overlay, OverlayLayer, Sensor
 from sensorcheck.errors import LimitError
+import sensorcheck.physics.sensors as sensors
 from sensorcheck.physics.sensors import build_model
+calls = {"flat_panels": 0, "estimate_panels": 0}
+def counted(name):
+    real = getattr(sensors, name)
+    def wrapper(*args, **kwargs):
+        calls[name] += 1
+        return real(*args, **kwargs)
+    return wrapper
+for _name in calls:
+    setattr(sensors, _name, counted(_name))
 soft, hard = resource.getrlimit(resource.RLIMIT_AS)
 resource.setrlimit(resource.RLIMIT_AS, (int(sys.argv[2]) if hard == resource.RLIM_INFINITY else min(int(sys.argv[2]), hard), hard))
 el = shapely.from_wkt(sys.argv[1])
@@ -405,6 +426,7 @@ try:
 except LimitError as exc:
     out = {"error_type": "LimitError", "file": exc.file, "message": exc.message, "expected": exc.expected}
 out["seconds"] = time.perf_counter() - t0
+out["calls"] = calls
 print(json.dumps(out))
 """
 
@@ -418,20 +440,21 @@ def test_mesh_panel_bomb_is_a_limit_error() -> None:
     # protocol for designs, and the memory bound of the hardening worker applies all the same.
     import json
     import os
-    import subprocess
     import sys
 
+    from hang_guard import run as guarded
     from hardening import MEMORY_BOUND_BYTES, REPO
 
     el = box(-200, -200, 200, 200)
     env = {**os.environ, "OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1",
            "PYTHONPATH": os.pathsep.join([str(REPO), os.environ.get("PYTHONPATH", "")])}
-    run = subprocess.run([sys.executable, "-c", _MESH_BOMB, el.wkt, str(MEMORY_BOUND_BYTES)], capture_output=True,
-                         text=True, timeout=MESH_BOMB_GUARD_S, env=env, cwd=REPO)
+    run = guarded([sys.executable, "-c", _MESH_BOMB, el.wkt, str(MEMORY_BOUND_BYTES)], guard_s=MESH_BOMB_GUARD_S,
+                  env=env, cwd=REPO)
     assert run.returncode == 0, run.stderr[-3000:]
     out = json.loads(run.stdout.strip().splitlines()[-1])
     print(f"\nmesh bomb: {out.get('message')} ({out['seconds']:.2f} s)")
     assert out["error_type"] == "LimitError" and out["file"] == "bomb"
     assert "B1" in out["message"] and "panels" in out["message"] and f"limit {DEFAULT_LIMITS.max_mesh_panels}" in out["message"]
     assert "estimated before meshing" in out["message"] and "max_mesh_panels" in out["expected"]
-    assert out["seconds"] < MESH_BOMB_S
+    assert out["calls"]["flat_panels"] == 0, out["calls"]  # refused from the estimate: nothing meshed
+    assert out["calls"]["estimate_panels"] >= 1, out["calls"]  # ... which was made

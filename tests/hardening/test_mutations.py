@@ -395,7 +395,7 @@ def test_the_harness_sees_a_hang_and_an_escaped_exception() -> None:
     with Worker(time_bound_s=0.001) as w:
         big = b"%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,0.1*%\nD10*\n" + b"X0Y0D02*\nX1000000Y1000000D01*\n" * 20000 + b"M02*\n"
         out = w.run("gerber", big, "slow.gbr")
-        assert out.kind == "hang"
+        assert out.kind == "hang" and "hang guard" in (out.error or "")  # the message says what it is
         assert problem(out, "slow.gbr", big) is not None
         # the worker is restarted for the next example
         w.time_bound_s = 60
@@ -406,14 +406,14 @@ def test_the_memory_bound_holds_in_the_worker() -> None:
     # RLIMIT_AS inside the worker: an allocation of 4 GiB fails there (MemoryError) instead of
     # growing the machine's memory; read_gerber turns MemoryError into a LimitError, so a bomb that
     # reaches the allocator is still a clear error. Checked with a direct allocation in the worker.
-    import subprocess
     import sys
 
+    from hang_guard import run
     from hardening import MEMORY_BOUND_BYTES, REPO
 
     code = ("import sys; sys.path.insert(0, sys.argv[1]); from hardening import _apply_memory_bound as a; "
             f"a({MEMORY_BOUND_BYTES}); \ntry:\n    b = bytearray(4 * 1024**3)\nexcept MemoryError:\n    print('refused')")
-    out = subprocess.run([sys.executable, "-c", code, str(REPO / "tests")], capture_output=True, text=True, timeout=60)
+    out = run([sys.executable, "-c", code, str(REPO / "tests")], guard_s=300)
     assert out.stdout.strip() == "refused"
 
 

@@ -40,6 +40,7 @@ def test_button_magnitudes_match_the_prototype_notes() -> None:
     assert -20.0 < 100 * (touch - base) / base < -6.0
 
 
+@pytest.mark.slow  # several field solves: the full suite (CI) runs it, the quick subset not
 def test_thicker_overlay_gives_smaller_touch_delta() -> None:
     # field knowledge (reference note): thicker overlays lower delta Cm
     d = button(estimate=FAST)
@@ -48,6 +49,7 @@ def test_thicker_overlay_gives_smaller_touch_delta() -> None:
     assert abs(est[1].touch_delta_pf) < abs(est[0].touch_delta_pf)
 
 
+@pytest.mark.slow  # several field solves: the full suite (CI) runs it, the quick subset not
 def test_higher_permittivity_overlay_raises_baseline_and_delta() -> None:
     # field knowledge (reference note): glass (higher eps) raises both baseline and delta
     d = button(estimate=FAST)
@@ -56,6 +58,7 @@ def test_higher_permittivity_overlay_raises_baseline_and_delta() -> None:
     assert abs(est[1].touch_delta_pf) > abs(est[0].touch_delta_pf)
 
 
+@pytest.mark.slow  # several field solves: the full suite (CI) runs it, the quick subset not
 def test_wider_gap_lowers_cm_and_raises_percentage() -> None:
     # field knowledge; the balance point gap ~ 0.6 x overlay is common practice (no published source)
     narrow_b, narrow_t = _touch(button(gap_mm=0.4, estimate=FAST))
@@ -64,6 +67,7 @@ def test_wider_gap_lowers_cm_and_raises_percentage() -> None:
     assert abs((wide_t - wide_b) / wide_b) > abs((narrow_t - narrow_b) / narrow_b)
 
 
+@pytest.mark.slow  # several field solves: the full suite (CI) runs it, the quick subset not
 def test_large_receiver_with_weak_return_turns_around_above_the_surface() -> None:
     # reference note: enlarging the receiver relative to the ground, with a weak return path
     # (20 pF or less), brings the turning point up to millimetres above the surface; a small
@@ -84,6 +88,7 @@ def test_large_receiver_with_weak_return_turns_around_above_the_surface() -> Non
     assert tps[1] > tps[0]
 
 
+@pytest.mark.slow  # several field solves: the full suite (CI) runs it, the quick subset not
 def test_self_button_rises_at_touch_and_driven_shield_cuts_parasitic() -> None:
     # self capacitance rises as the finger approaches (field knowledge); a shield driven at the
     # electrode's potential carries no charge difference, so the parasitic load drops
@@ -103,6 +108,7 @@ def _two_buttons():
     return make_design({"T1": a, "T2": b}, {"T1": "self", "T2": "self"}, [sa, sb], estimate={**FAST, "heights": 2})
 
 
+@pytest.mark.slow  # several field solves: the full suite (CI) runs it, the quick subset not
 def test_design_in_parallel_with_crosstalk() -> None:
     # two self buttons 14 mm apart, two worker processes: each sees the other as a neighbour and
     # the neighbour's change is smaller than its own
@@ -203,6 +209,7 @@ def test_hatched_ground_is_a_stated_sheet() -> None:
     assert gnd.area > 0.9 * (34 * 34 - np.pi * 81)
 
 
+@pytest.mark.slow  # several field solves: the full suite (CI) runs it, the quick subset not
 def test_proximity_range_grows_with_electrode_size() -> None:
     # a larger self electrode reaches further for the same hand-sized target and signal floor
     # (field knowledge: the coupling to a distant plate scales with the electrode's capacitance)
@@ -217,6 +224,7 @@ def test_proximity_range_grows_with_electrode_size() -> None:
     assert ranges[1] > ranges[0] > 10.0
 
 
+@pytest.mark.slow  # several field solves: the full suite (CI) runs it, the quick subset not
 def test_panel_estimate_on_the_demo_board_stays_within_its_factors() -> None:
     # real geometry (Gerber arcs, a ground pour with clearances, slider and mutual electrodes): the
     # demo board's five sensors, each with the full window of build_model's first mesh. Measured when
