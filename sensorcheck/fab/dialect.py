@@ -1,0 +1,45 @@
+"""Deprecated constructs and dialects the readers accept with a warning (or refuse when strict).
+
+Real boards still arrive with constructs the current specifications deprecate or never defined:
+Gerber image commands from before 2014, Excellon files whose tools live in another file, ...
+Where the meaning is known (from the specification's section on deprecated commands, or from
+what the major readers agree on), the readers read them and say so: one warning naming the file,
+the line and the construct, and what reading was taken. ``strict`` (``--strict`` on the command
+line) keeps the older behaviour for CI: the construct is refused with the same words.
+
+Strictness never depends on this: a construct of unknown meaning (an undefined aperture, a macro
+that cannot be evaluated, binary data inside the command stream, a truncated file) is refused
+either way.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from dataclasses import dataclass, field
+
+from sensorcheck.errors import InputError
+
+
+@dataclass(slots=True)
+class DialectLog:
+    """Warnings of one file read, and which constructs were read with one (for ``layers``)."""
+
+    name: str
+    strict: bool = False
+    warnings: list[str] = field(default_factory=list)
+    #: construct -> how often it was read with a warning
+    constructs: Counter[str] = field(default_factory=Counter)
+
+    def accept(self, line: int | None, construct: str, what: str, reading: str, expected: str) -> None:
+        """Read ``construct`` as ``reading`` with a warning, or refuse it when strict.
+
+        ``construct`` is a short stable name (e.g. ``"%MI (image mirror)"``) shown in tables;
+        ``what`` says what the file holds, ``reading`` how it is read; ``expected`` is what a
+        strict reader asks for instead.
+        """
+        if self.strict:
+            raise InputError(self.name, line, f"{what}: {construct} is deprecated or a dialect, refused by --strict",
+                             expected)
+        where = self.name if line is None else f"{self.name}:{line}"
+        self.warnings.append(f"{where}: {construct}: {what}; {reading}")
+        self.constructs[construct] += 1
