@@ -91,6 +91,8 @@ class Hole:
     end_y_mm: float | None = None
     function: str | None = None  # "via", "component", "mechanical" where the file says
     net: str | None = None
+    #: False: the drill file never gives this tool's size; ``diameter_mm`` is a stated default
+    size_known: bool = True
 
 
 @dataclass(frozen=True, slots=True)

@@ -15,6 +15,7 @@ either way.
 from __future__ import annotations
 
 from collections import Counter
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 
 from sensorcheck.errors import InputError
@@ -43,3 +44,22 @@ class DialectLog:
         where = self.name if line is None else f"{self.name}:{line}"
         self.warnings.append(f"{where}: {construct}: {what}; {reading}")
         self.constructs[construct] += 1
+
+
+def condense(warnings: list[str], keep: int = 5, constructs: Iterable[str] = ()) -> list[str]:
+    """At most ``keep`` warnings of each kind (kind = text without the file:line prefix, or the
+    construct a :class:`DialectLog` warning names)."""
+    seen: dict[str, int] = {}
+    out: list[str] = []
+    prefixes = tuple(f"{c}: " for c in constructs)
+    for w in warnings:
+        kind = w.split(": ", 1)[-1]
+        if prefixes and kind.startswith(prefixes):
+            kind = kind.split(": ", 1)[0]
+        seen[kind] = seen.get(kind, 0) + 1
+        if seen[kind] <= keep:
+            out.append(w)
+    for kind, count in seen.items():
+        if count > keep:
+            out.append(f"({count - keep} more: {kind})")
+    return out

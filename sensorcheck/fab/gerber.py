@@ -28,7 +28,7 @@ from shapely.geometry.base import BaseGeometry
 from sensorcheck.board.model import Feature
 from sensorcheck.errors import InputError, LimitError
 from sensorcheck.fab import gerber_geometry
-from sensorcheck.fab.dialect import DialectLog
+from sensorcheck.fab.dialect import DialectLog, condense
 from sensorcheck.fab.gerber_parser import decode_gerber, parse_gerber_text
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
@@ -83,21 +83,6 @@ def _generator(file_attributes: dict[str, list[str]], comments: list[str]) -> st
             if m:
                 return m.group(1).strip()
     return None
-
-
-def _condense(warnings: list[str], keep: int = 5) -> list[str]:
-    """At most ``keep`` warnings of each kind (kind = text without the file:line prefix)."""
-    seen: dict[str, int] = {}
-    out: list[str] = []
-    for w in warnings:
-        kind = w.split(": ", 1)[-1]
-        seen[kind] = seen.get(kind, 0) + 1
-        if seen[kind] <= keep:
-            out.append(w)
-    for kind, count in seen.items():
-        if count > keep:
-            out.append(f"({count - keep} more: {kind})")
-    return out
 
 
 def read_gerber(
@@ -186,7 +171,7 @@ def _read(data: bytes, name: str, arc_tolerance_mm: float, limits: Limits, log: 
         dark=dark,
         object_count=len(features),
         bounds_mm=bounds,  # type: ignore[arg-type]
-        warnings=_condense(parsed.warnings),
+        warnings=condense(parsed.warnings, constructs=log.constructs),
         by_net=by_net,
         constructs=sorted(log.constructs),
     )
