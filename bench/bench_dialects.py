@@ -43,6 +43,8 @@ def kind_of(path: Path, data: bytes) -> str | None:
     """'gerber' or 'excellon' when the content (or, for drill names, the name) says so, else None."""
     content = sniff(data[:65536])
     ident = identify(path.name, data[:65536])
+    if ident.role is None and ident.kind is None and "job file" in (ident.note or ""):
+        return None  # the early Gerber-syntax job file: Gerber syntax, but no image
     if content in ("gerber", "excellon"):
         return content
     if ident.kind in ("gerber", "excellon") and content not in ("gbrjob", "ipc356", "pnp", "gencad", "empty"):
@@ -72,9 +74,9 @@ def census(folder: Path, strict: bool, listing: bool) -> dict[str, Counter[str] 
         shown = str(path.relative_to(folder))
         try:
             if kind == "gerber":
-                got = read_gerber(data, shown, **({"strict": strict} if strict else {}))
+                got = read_gerber(data, shown, **({"strict": True} if strict else {}))
             else:
-                got = read_excellon(data, shown, **({"strict": strict} if strict else {}))
+                got = read_excellon(data, shown, **({"strict": True} if strict else {}))
         except InputError as exc:
             refused[_reason(exc)] += 1
             if listing:
