@@ -185,7 +185,10 @@ def read_excellon(
                            f"read by the digits present as format {inferred[0]}:{inferred[1]}",
                            f"at most {ints + decs} digits")
             if st.zeros == "LZ":  # leading zeros written: the number is left-aligned
-                value = sign * int(digits) / 10 ** (len(digits) - ints)
+                if len(digits) <= ints + decs:
+                    value = sign * int(digits.ljust(ints + decs, "0")) / 10**decs
+                else:
+                    value = sign * int(digits) / 10 ** (len(digits) - ints)
             else:
                 value = sign * int(digits) / 10**decs
         value *= MM_PER_INCH if st.inch else 1.0

@@ -15,8 +15,14 @@ What this subclass changes, each pinned by a test in tests/fab/test_gerber_parse
 * the objects made by copying (block flashes, step-and-repeat) are counted against
   ``limits.max_expanded_objects`` before they are made: a file of a few bytes cannot place
   millions of objects whose geometry would take minutes (``ParseResult.expanded_objects``);
-* a file without M02 is refused as truncated; incremental notation, conflicting units, a missing
-  unit or coordinate format, unknown statements and binary data are refused with the line;
+* a file without M02 is refused as truncated; incremental notation, a missing unit or coordinate
+  format, unknown statements and binary data are refused with the line;
+* deprecated constructs of known meaning (Gerber spec 2023.08 chapter 8) are read with a warning
+  naming the file, line and construct, or refused when strict (:mod:`sensorcheck.fab.dialect`):
+  the image commands AS/MI/SF/OF/IR/RO/IP (kept out of gerbonara's coordinate mapping and applied
+  to the whole image afterwards: :class:`ImageTransform`), IN/LN, several G codes in one command,
+  coordinate words out of order, coordinates without a D code, an AD before MO, a mid-file MO
+  change, NUL padding after the last command; arcs with non-circular apertures in the geometry;
 * aperture macros are parsed by our own small parser (gerbonara's goes through ``ast`` for every
   number, which was three quarters of its parse time on real files, and prints a debug line to
   stdout for every macro polygon);
