@@ -18,6 +18,8 @@ from collections import Counter
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 
+import re
+
 from sensorcheck.errors import InputError
 
 
@@ -63,3 +65,23 @@ def condense(warnings: list[str], keep: int = 5, constructs: Iterable[str] = ())
         if count > keep:
             out.append(f"({count - keep} more: {kind})")
     return out
+
+
+def line_of(head: bytes) -> int:
+    """The 1-based line at the end of ``head``, whichever of LF, CR LF or CR ends its lines."""
+    return head.count(b"\n") + head.count(b"\r") - head.count(b"\r\n") + 1
+
+
+def strip_padding(data: bytes, log: DialectLog | None) -> bytes:
+    """``data`` without the NUL (and CP/M end-of-file 0x1a) bytes some exporters and file transfers
+    append after the last command: dropped with a warning (refused when strict). Binary bytes
+    before the end stay for the reader to refuse."""
+    body = data.rstrip(b"\x00\x1a \t\r\n")
+    tail = data[len(body):]
+    if not re.search(rb"[\x00\x1a]", tail):
+        return data
+    if log is not None:
+        padding = tail.count(b"\x00") + tail.count(b"\x1a")
+        log.accept(line_of(body), "NUL padding after the last command", f"{padding} NUL/0x1a bytes end the file",
+                   "ignored: padding, not content", "a text file that ends after its last command")
+    return body + b"\n"

@@ -33,7 +33,7 @@ from dataclasses import dataclass, field
 
 from sensorcheck.board.model import Hole, SourceRef
 from sensorcheck.errors import InputError, LimitError
-from sensorcheck.fab.dialect import DialectLog, condense
+from sensorcheck.fab.dialect import DialectLog, condense, strip_padding
 from sensorcheck.fab.identify import generator_from_attributes, head_file_attributes
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
@@ -130,6 +130,7 @@ def read_excellon(
     if not data.strip():
         raise InputError(name, None, "the drill file is empty", "an Excellon program (M48 header, tools, holes, M30)")
     log = DialectLog(name, strict)
+    data = strip_padding(data, log)
     text = data.decode("latin-1")
     if "\r" in text:  # CR LF and bare CR (old Mac) line ends
         text = text.replace("\r\n", "\n").replace("\r", "\n")
@@ -456,7 +457,19 @@ def read_excellon(
                 continue  # a bare coordinate in rout mode moves (tool up) or routs linearly (tool down)
             add(st.x, st.y, idx)
             continue
-        # a tool selection with a coordinate on the same line ("T1X1.0Y2.0") is not common: refuse clearly
+        m = re.match(r"^T(\d{1,6})([XY].*)$", ln)
+        if m and _COORD_RE.match(m.group(2)):
+            # a tool selection and a hole on one line ("T2X1.0Y2.0"): select, then drill
+            log.accept(idx, "tool selection and hole on one line", f"{raw_line.strip()[:30]!r}",
+                       "the tool is selected, then the hole drilled", "T<n> on a line of its own")
+            st.tool = int(m.group(1))
+            if st.tool != 0 and st.tool not in tools:
+                sized_elsewhere(st.tool, idx)
+            mc = _COORD_RE.match(m.group(2))
+            assert mc is not None
+            st.x, st.y = move(mc.group(1), mc.group(2), idx)
+            add(st.x, st.y, idx)
+            continue
         raise InputError(name, idx, f"unexpected {raw_line.strip()[:40]!r}",
                          "an Excellon command: tool selection T<n>, coordinates X..Y.., G85 slot, "
                          "G00/G01/G02/G03 rout, M15/M16, M30")

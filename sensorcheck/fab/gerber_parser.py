@@ -45,7 +45,7 @@ from gerbonara.rs274x import GerberFile, GerberParser, GraphicsState
 from gerbonara.utils import MM, Inch, InterpMode
 
 from sensorcheck.errors import InputError, LimitError
-from sensorcheck.fab.dialect import DialectLog
+from sensorcheck.fab.dialect import DialectLog, line_of, strip_padding
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
 #: identity aperture transformation: (mirror x, mirror y, rotation in degrees ccw, scale)
@@ -539,6 +539,10 @@ class SensorcheckGerberParser(GerberParser):
         Read with a warning (refused when strict); :meth:`_reordered` does the same for coordinate
         words in another order than X, Y, I, J.
         """
+        if "*" in cmd and not cmd.startswith("AM"):
+            # several parameters in one %...% block ("%FSLAX24Y24*MOIN*%", "%SFA1B1*ASAXBY*%"),
+            # which RS-274X allowed from the start: each read in turn (a macro's '*' are its own)
+            return [p for part in cmd.split("*") if part.strip() for p in self._statements(part.strip())]
         if cmd[:1] != "G" or "G" not in cmd[1:]:
             return [cmd]  # the common case, kept cheap
         parts: list[str] = []
@@ -1004,17 +1008,10 @@ def decode_gerber(data: bytes, name: str, log: DialectLog | None = None) -> str:
     file transfers add: dropped with a warning (``log``; refused when strict). Binary bytes inside
     the command stream stay refused. Line ends may be LF, CR LF or a bare CR (old Mac style).
     """
-    body = data.rstrip(b"\x00\x1a \t\r\n")
-    if len(body) != len(data) and re.search(rb"[\x00\x1a]", data[len(body):]):
-        line = _line_count(data[:len(body)])
-        padding = data[len(body):].count(b"\x00") + data[len(body):].count(b"\x1a")
-        if log is not None:
-            log.accept(line, "NUL padding after the last command", f"{padding} NUL/0x1a bytes end the file",
-                       "ignored: padding, not content", "a text file that ends after M02*")
-        data = body + b"\n"
+    data = strip_padding(data, log)
     bad = re.search(rb"[\x00-\x08\x0b\x0e-\x1f\x7f]", data)
     if bad is not None:
-        line = _line_count(data[:bad.start()])
+        line = line_of(data[:bad.start()])
         raise InputError(name, line, f"binary data (byte 0x{data[bad.start()]:02x}) in a Gerber file",
                          "text (Gerber RS-274X is ASCII)")
     try:
@@ -1024,11 +1021,6 @@ def decode_gerber(data: bytes, name: str, log: DialectLog | None = None) -> str:
     if "\r" in text:  # CR LF and bare CR (old Mac) line ends: lines counted right in every message
         text = text.replace("\r\n", "\n").replace("\r", "\n")
     return text
-
-
-def _line_count(head: bytes) -> int:
-    """The 1-based line at the end of ``head``, whichever of LF, CR LF or CR ends its lines."""
-    return head.count(b"\n") + head.count(b"\r") - head.count(b"\r\n") + 1
 
 
 def parse_gerber_text(text: str, name: str, limits: Limits = DEFAULT_LIMITS, *,

@@ -448,3 +448,14 @@ def test_report_file_list_carries_the_warnings(tmp_path: Path) -> None:
     assert entry["warnings"] and entry["warnings"][0].startswith("old-F_Cu.gtl:3: %LN (load name)")
     strict = check_board(tmp_path, CheckOptions(estimate=False, strict=True))
     assert any(f.rule_id == "input.unreadable" and "refused by --strict" in f.message for f in strict.findings)
+
+
+def test_several_parameters_in_one_block() -> None:
+    # RS-274X parameter blocks may hold several parameters ("%FSLAX24Y24*MOIN*%"): each is read
+    got = read_gerber(b"%FSLAX24Y24*MOIN*%\n%SFA1B1*ASAXBY*%\n%ADD10C,0.01*%\nD10*\nX0Y0D03*\nM02*\n", "p.gbr")
+    assert got.units == "inch" and got.bounds_mm == pytest.approx((-0.127, -0.127, 0.127, 0.127))
+
+
+def test_drill_file_nul_padding_and_tool_with_hole_on_one_line() -> None:
+    got = xread(drill("T1X1.0Y1.0\n") + b"\x00" * 64, "NUL padding after the last command")
+    assert xy(got) == [(1.0, 1.0, 0.8)] and "tool selection and hole on one line" in got.constructs
