@@ -305,6 +305,7 @@ _LEADING_MODE_G = re.compile(r"^(?P<code>G0?[123]|G7[0145]|G9[01]|G3[67])(?=G)")
 # a coordinate statement: optional G code, X/Y/I/J words in any order, optional D code
 _WORDS = re.compile(r"^(?P<g>G0?[123]|G5[45])?(?P<words>(?:[XYIJ][+-]?\d+)+)(?P<d>D0?[123])?$")
 _WORD = re.compile(r"[XYIJ][+-]?\d+")
+_DECIMAL_COORD = re.compile(r"^(?=[^.]*\.)(?:G\d+)?(?:[XYIJ][+-]?[\d.]+)+(?:D0?[123])?$")
 
 # gerbonara's warnings, said the way a board designer reads them
 _WARNING_WORDS = [
@@ -490,6 +491,10 @@ class SensorcheckGerberParser(GerberParser):
                     fixed = self._reordered(part)
                     if fixed is not None:
                         self._call(self._parse_coord, dispatch[0][0].match(fixed))
+                    elif _DECIMAL_COORD.match(part):
+                        # no reading is agreed: the FS format says integers, a point says otherwise
+                        raise self.error(f"coordinate with a decimal point {self._shorten_line()!r}",
+                                         "integer coordinates in the %FS format (spec section 4.2.2)")
                     elif _HARMLESS_UNKNOWN.match(part):
                         self.warn(f"statement {self._shorten_line()!r} ignored (it does not change the image)")
                     else:

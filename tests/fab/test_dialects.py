@@ -459,3 +459,10 @@ def test_several_parameters_in_one_block() -> None:
 def test_drill_file_nul_padding_and_tool_with_hole_on_one_line() -> None:
     got = xread(drill("T1X1.0Y1.0\n") + b"\x00" * 64, "NUL padding after the last command")
     assert xy(got) == [(1.0, 1.0, 0.8)] and "tool selection and hole on one line" in got.constructs
+
+
+def test_decimal_point_coordinates_are_refused_naming_the_construct() -> None:
+    # spec 4.2.2: coordinates are integers in the FS format; "X1.5" has no agreed reading
+    with pytest.raises(InputError) as err:
+        read_gerber(gbr("%ADD10C,1*%\nD10*\nX1.5Y2.0D03*\n"), "p.gbr")
+    assert err.value.line == 5 and "decimal point" in err.value.message
