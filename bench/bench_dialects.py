@@ -43,8 +43,8 @@ def kind_of(path: Path, data: bytes) -> str | None:
     """'gerber' or 'excellon' when the content (or, for drill names, the name) says so, else None."""
     content = sniff(data[:65536])
     ident = identify(path.name, data[:65536])
-    if ident.role is None and ident.kind is None and "job file" in (ident.note or ""):
-        return None  # the early Gerber-syntax job file: Gerber syntax, but no image
+    if ident.role is None and ident.kind is None and (ident.identified_by == "filename" or "job file" in (ident.note or "")):
+        return None  # not fabrication data by its name (aperture library, report), or the early job file
     if content in ("gerber", "excellon"):
         return content
     if ident.kind in ("gerber", "excellon") and content not in ("gbrjob", "ipc356", "pnp", "gencad", "empty"):
