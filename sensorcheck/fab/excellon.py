@@ -345,6 +345,10 @@ def read_excellon(
             if not in_header:
                 st.tool = int(m.group(1))
             continue
+        if in_header and ln.startswith("ICI"):
+            # ICI (incremental input of coordinates): ICI,ON or ICI makes coordinates incremental
+            st.absolute = ln.endswith(",OFF")
+            continue
         if in_header and ln.startswith("/"):
             log.accept(idx, "'/' line in the header", f"header line {raw_line.strip()[:30]!r}",
                        "ignored as a comment (block delete)", "comments written as ';' lines")

@@ -305,6 +305,7 @@ _LEADING_MODE_G = re.compile(r"^(?P<code>G0?[123]|G7[0145]|G9[01]|G3[67])(?=G)")
 # a coordinate statement: optional G code, X/Y/I/J words in any order, optional D code
 _WORDS = re.compile(r"^(?P<g>G0?[123]|G5[45])?(?P<words>(?:[XYIJ][+-]?\d+)+)(?P<d>D0?[123])?$")
 _WORD = re.compile(r"[XYIJ][+-]?\d+")
+_SEQUENCE_NUMBER = re.compile(r"^N\d+(?P<rest>.*)$", re.DOTALL)
 _DECIMAL_COORD = re.compile(r"^(?=[^.]*\.)(?:G\d+)?(?:[XYIJ][+-]?[\d.]+)+(?:D0?[123])?$")
 
 # gerbonara's warnings, said the way a board designer reads them
@@ -482,24 +483,8 @@ class SensorcheckGerberParser(GerberParser):
                 break
             for part in self._statements(cmd):
                 n_before = len(objects)
-                for rx, fun in dispatch:
-                    m = rx.match(part)
-                    if m is not None:
-                        self._call(fun, m)
-                        break
-                else:
-                    fixed = self._reordered(part)
-                    if fixed is not None:
-                        self._call(self._parse_coord, dispatch[0][0].match(fixed))
-                    elif _DECIMAL_COORD.match(part):
-                        # no reading is agreed: the FS format says integers, a point says otherwise
-                        raise self.error(f"coordinate with a decimal point {self._shorten_line()!r}",
-                                         "integer coordinates in the %FS format (spec section 4.2.2)")
-                    elif _HARMLESS_UNKNOWN.match(part):
-                        self.warn(f"statement {self._shorten_line()!r} ignored (it does not change the image)")
-                    else:
-                        raise self.error(f"unknown statement {self._shorten_line()!r}",
-                                         "a Gerber (RS-274X) command")
+                if not self._dispatch(part, dispatch):
+                    self._older_form(part, dispatch)
                 if len(objects) != n_before:
                     self._tag_new(n_before)
                     if len(objects) + self.sc_extra > max_objects:
@@ -525,6 +510,45 @@ class SensorcheckGerberParser(GerberParser):
         self.target.unit = self.file_settings.unit
         self.target.file_attrs = self.file_attrs
         self.target.original_path = self.filename
+
+    def _dispatch(self, part: str, dispatch: list[tuple[re.Pattern[str], Callable[[re.Match[str]], None]]]) -> bool:
+        """Run the handler of the first statement pattern ``part`` matches; False when none does."""
+        for rx, fun in dispatch:
+            m = rx.match(part)
+            if m is not None:
+                self._call(fun, m)
+                return True
+        return False
+
+    def _older_form(self, part: str, dispatch: list[tuple[re.Pattern[str], Callable[[re.Match[str]], None]]]) -> None:
+        """A statement no pattern reads: an older form of known meaning (with a warning), else refused."""
+        seq = _SEQUENCE_NUMBER.match(part)
+        if seq is not None:
+            # RS-274-D block sequence numbers (N<n>): they number blocks, nothing else
+            self.sc_dialect.accept(self.lineno, "N sequence number", f"{part[:30]!r} starts with a sequence number",
+                                   "the number is ignored", "no N codes (RS-274X)")
+            for sub in self._statements(seq["rest"]) if seq["rest"] else ():
+                if not self._dispatch(sub, dispatch):
+                    self._older_form(sub, dispatch)
+            return
+        if any(ch.isspace() for ch in part):
+            squeezed = "".join(part.split())
+            self.sc_dialect.accept(self.lineno, "spaces inside a command", f"{part[:30]!r} holds spaces or line breaks",
+                                   "read without them", "no whitespace inside a command")
+            if not self._dispatch(squeezed, dispatch):
+                self._older_form(squeezed, dispatch)
+            return
+        fixed = self._reordered(part)
+        if fixed is not None:
+            self._call(self._parse_coord, dispatch[0][0].match(fixed))
+        elif _DECIMAL_COORD.match(part):
+            # no reading is agreed: the FS format says integers, a point says otherwise
+            raise self.error(f"coordinate with a decimal point {self._shorten_line()!r}",
+                             "integer coordinates in the %FS format (spec section 4.2.2)")
+        elif _HARMLESS_UNKNOWN.match(part):
+            self.warn(f"statement {self._shorten_line()!r} ignored (it does not change the image)")
+        else:
+            raise self.error(f"unknown statement {self._shorten_line()!r}", "a Gerber (RS-274X) command")
 
     def _call(self, fun: Callable[[re.Match[str]], None], m: re.Match[str] | None) -> None:
         """Run one statement's handler; gerbonara's SyntaxError/ValueError/... become ours, with the line."""

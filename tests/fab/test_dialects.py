@@ -466,3 +466,17 @@ def test_decimal_point_coordinates_are_refused_naming_the_construct() -> None:
     with pytest.raises(InputError) as err:
         read_gerber(gbr("%ADD10C,1*%\nD10*\nX1.5Y2.0D03*\n"), "p.gbr")
     assert err.value.line == 5 and "decimal point" in err.value.message
+
+
+def test_sequence_numbers_and_spaces_in_commands() -> None:
+    # RS-274-D sequence numbers (N10) number blocks; spaces inside a command mean nothing: the
+    # same two round pads as without them (pi/4 each)
+    got = read_gerber(gbr("%ADD10C,1*%\nD10*\nN10X0Y0D03*\nX5000000 Y0 D03*\n"), "n.gbr")
+    assert {"N sequence number", "spaces inside a command"} <= set(got.constructs)
+    assert got.object_count == 2 and got.dark.area == pytest.approx(2 * math.pi / 4, rel=CIRCLE_REL)
+
+
+def test_excellon_ici_on_makes_coordinates_incremental() -> None:
+    # Excellon header ICI,ON: coordinates are increments from the previous hole: (1,1) then (3,1)
+    got = xread(drill("T1\nX1.0Y1.0\nX2.0\n", head="M48\nMETRIC\nICI,ON\nT1C0.8\n%\n"))
+    assert xy(got) == [(1.0, 1.0, 0.8), (3.0, 1.0, 0.8)]
