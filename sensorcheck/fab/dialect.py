@@ -76,6 +76,8 @@ def strip_padding(data: bytes, log: DialectLog | None) -> bytes:
     """``data`` without the NUL (and CP/M end-of-file 0x1a) bytes some exporters and file transfers
     append after the last command: dropped with a warning (refused when strict). Binary bytes
     before the end stay for the reader to refuse."""
+    if b"\x00" not in data[-65536:] and b"\x1a" not in data[-65536:]:
+        return data  # the common case: no copy of a large file
     body = data.rstrip(b"\x00\x1a \t\r\n")
     tail = data[len(body):]
     if not re.search(rb"[\x00\x1a]", tail):
