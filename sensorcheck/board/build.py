@@ -15,8 +15,10 @@ After reading, the board is checked for things a reader cannot see alone:
 from __future__ import annotations
 
 import hashlib
+import re
 from collections.abc import Callable, Mapping
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import shapely
@@ -168,7 +170,7 @@ def load_board(
 
 def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], limits: Limits, say: Progress,
               strict: bool = False) -> None:
-    from sensorcheck.fab.excellon import read_excellon, read_tool_table
+    from sensorcheck.fab.excellon import read_drill_parameters, read_excellon, read_tool_table
     from sensorcheck.fab.gerber import read_gerber
     from sensorcheck.fab.ipc356 import read_ipc356
     from sensorcheck.fab.jobfile import read_jobfile
@@ -263,7 +265,8 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
                 info.units, info.object_count = g.units, len(holes)
             elif ident.kind == "excellon":
                 ex = read_excellon(data, shown, plated_hint=ident.plated, limits=limits, strict=strict,
-                                   tool_table_mm=_companion_tools(f, files, read_tool_table, limits))
+                                   tool_table_mm=_companion_tools(f, files, read_tool_table, limits),
+                                   format_hint=_drill_parameters(f, data, files, read_drill_parameters, limits))
                 info.warnings = list(ex.warnings)
                 drill_holes[shown] = ex.holes
                 info.units, info.object_count = ex.units, len(ex.holes)
@@ -378,6 +381,22 @@ def _companion_tools(drill: InputFile, files: list[InputFile], read_tool_table: 
             continue
         if table:
             return table
+    return None
+
+
+def _drill_parameters(drill: InputFile, data: bytes, files: list[InputFile],
+                      read_drill_parameters: Callable[[bytes, str], Any], limits: Limits) -> Any:
+    """The number format from an ``nc_param.txt`` beside a drill file that states no units itself."""
+    if re.search(rb"^\s*(?:INCH|METRIC|M71|M72)\b", data[:65536], re.M):
+        return None
+    folder = drill.name.rpartition("/")[0]
+    for f in files:
+        if f.error or f.note or f.name.rpartition("/")[0] != folder or f.name.rpartition("/")[2].lower() != "nc_param.txt":
+            continue
+        try:
+            return read_drill_parameters(read_bytes(f, limits)[:100_000], safe_name(f.name))
+        except (OSError, SensorcheckError):
+            return None
     return None
 
 

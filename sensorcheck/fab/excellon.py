@@ -122,10 +122,13 @@ def _function_name(text: str | None) -> str | None:
 def read_excellon(
     data: bytes, name: str, *, plated_hint: bool | None = None, limits: Limits = DEFAULT_LIMITS,
     strict: bool = False, tool_table_mm: Mapping[int, float] | None = None,
+    format_hint: DrillFormat | None = None,
 ) -> ExcellonRead:
     """Read an Excellon drill file. ``plated_hint`` (from the file name) is used only where neither
     the tool nor the file says whether holes are plated. ``tool_table_mm`` (tool number -> diameter
     in mm, from a companion tool file: :func:`read_tool_table`) sizes tools the file never defines.
+    ``format_hint`` (from a drill parameter file beside it: :func:`read_drill_parameters`) gives the
+    units, digits and zeros a file without a header states nowhere itself.
     ``strict`` refuses the dialects listed in the module docstring instead of reading them."""
     if not data.strip():
         raise InputError(name, None, "the drill file is empty", "an Excellon program (M48 header, tools, holes, M30)")
@@ -145,6 +148,14 @@ def read_excellon(
     file_plated = out.plated if ff and ff[0] in ("plated", "nonplated") else plated_hint
 
     st = _State()
+    if format_hint is not None:
+        log.accept(None, "number format from a parameter file",
+                   f"units and number format taken from {format_hint.source}",
+                   f"{'inch' if format_hint.inch else 'mm'}, {format_hint.int_digits}:{format_hint.dec_digits}, "
+                   f"{'leading' if format_hint.zeros == 'LZ' else 'trailing'} zeros written, until the file says otherwise",
+                   "INCH/METRIC with LZ/TZ in an M48 header")
+        st.inch, st.zeros = format_hint.inch, format_hint.zeros
+        st.int_digits, st.dec_digits = format_hint.int_digits, format_hint.dec_digits
     tools: dict[int, _Tool] = {}
     pending_plated: bool | None = None  # from the last ;TYPE= comment (Altium)
     pending_ta: tuple[bool | None, str | None] | None = None  # from the last TA.AperFunction comment
@@ -498,6 +509,35 @@ def _first_units_inch(lines: list[str]) -> bool:
         if ln.startswith(("METRIC", "M71")):
             return False
     return True
+
+
+@dataclass(frozen=True, slots=True)
+class DrillFormat:
+    """Units and number format of drill files, from a parameter file written beside them."""
+
+    inch: bool
+    int_digits: int
+    dec_digits: int
+    zeros: str  # "LZ": leading zeros written, "TZ": trailing zeros written
+    source: str
+
+
+def read_drill_parameters(data: bytes, source: str) -> DrillFormat | None:
+    """The number format of an ``nc_param.txt`` style file (one ``KEY value`` per line), e.g.
+    ``FORMAT 2.5``, ``OUTPUT-UNITS ENGLISH|METRIC``, ``SUPPRESS-LEAD-ZEROES YES|NO`` (the keys as
+    Allegro-family exports write them, from memory). None without a FORMAT line."""
+    values: dict[str, str] = {}
+    for raw in data.decode("latin-1").replace("\r", "\n").split("\n")[:500]:
+        parts = raw.split()
+        if len(parts) >= 2:
+            values[parts[0].upper()] = parts[1].upper()
+    m = re.fullmatch(r"(\d)\.(\d)", values.get("FORMAT", ""))
+    if m is None:
+        return None
+    inch = values.get("OUTPUT-UNITS", "ENGLISH") != "METRIC"
+    # leading zeros suppressed: trailing ones are written (Excellon "TZ"), and the reverse
+    zeros = "LZ" if values.get("SUPPRESS-LEAD-ZEROES", "YES") == "NO" else "TZ"
+    return DrillFormat(inch, int(m.group(1)), int(m.group(2)), zeros, source)
 
 
 def read_tool_table(data: bytes) -> dict[int, float]:

@@ -480,3 +480,23 @@ def test_excellon_ici_on_makes_coordinates_incremental() -> None:
     # Excellon header ICI,ON: coordinates are increments from the previous hole: (1,1) then (3,1)
     got = xread(drill("T1\nX1.0Y1.0\nX2.0\n", head="M48\nMETRIC\nICI,ON\nT1C0.8\n%\n"))
     assert xy(got) == [(1.0, 1.0, 0.8), (3.0, 1.0, 0.8)]
+
+
+def test_number_format_from_a_parameter_file_beside_a_headerless_drill_file(tmp_path: Path) -> None:
+    # a headerless drill file (tools sized in "; Holesize" comments) and an nc_param.txt saying
+    # FORMAT 2.5, inch, leading zeros suppressed (keys as Allegro-family exports write them, from
+    # memory): "X100000" is 1.00000 inch = 25.4 mm. Without the parameter file the default 2.4
+    # would read it as 10 inch: the reason the file is looked for.
+    from sensorcheck.board.build import load_board
+    from sensorcheck.fab.excellon import read_drill_parameters
+
+    (tmp_path / "board-1-2.drl").write_bytes(
+        b"; Holesize 1. = 35.000000 Tolerance = +0.000000/-0.000000 PLATED MILS Quantity = 1\n%\nG90\nT1\nX100000Y50000\nM30\n")
+    (tmp_path / "nc_param.txt").write_bytes(
+        b"FORMAT                  2.5\nOUTPUT-UNITS            ENGLISH\nSUPPRESS-LEAD-ZEROES    YES\n")
+    fmt = read_drill_parameters((tmp_path / "nc_param.txt").read_bytes(), "nc_param.txt")
+    assert fmt is not None and (fmt.inch, fmt.int_digits, fmt.dec_digits, fmt.zeros) == (True, 2, 5, "TZ")
+    board = load_board(tmp_path)
+    assert [(round(h.x_mm, 4), round(h.y_mm, 4), round(h.diameter_mm, 4)) for h in board.holes] == [(25.4, 12.7, 0.889)]
+    info = next(f for f in board.files if f.path == "board-1-2.drl")
+    assert any("number format from a parameter file" in w for w in info.warnings)
