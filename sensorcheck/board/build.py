@@ -18,7 +18,7 @@ import hashlib
 import re
 from collections.abc import Callable, Mapping
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 import shapely
@@ -33,6 +33,9 @@ from sensorcheck.errors import InputError, SensorcheckError
 from sensorcheck.fab.archive import InputFile, open_input, read_bytes, read_head, safe_name
 from sensorcheck.fab.identify import Identification, check_layer_map, identify, job_file_functions, sniff
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
+
+if TYPE_CHECKING:
+    from sensorcheck.fab.excellon import DrillFormat
 
 Progress = Callable[[str], None]
 
@@ -385,7 +388,7 @@ def _companion_tools(drill: InputFile, files: list[InputFile], read_tool_table: 
 
 
 def _drill_parameters(drill: InputFile, data: bytes, files: list[InputFile],
-                      read_drill_parameters: Callable[[bytes, str], Any], limits: Limits) -> Any:
+                      read_drill_parameters: Callable[[bytes, str], DrillFormat | None], limits: Limits) -> DrillFormat | None:
     """The number format from an ``nc_param.txt`` beside a drill file that states no units itself."""
     if re.search(rb"^\s*(?:INCH|METRIC|M71|M72)\b", data[:65536], re.M):
         return None
