@@ -37,6 +37,8 @@ class CheckOptions:
     with_drawing: bool = False
     timestamp: str | None = None
     baseline: frozenset[str] | None = None
+    #: refuse deprecated Gerber constructs and Excellon dialects instead of reading them with a warning
+    strict: bool = False
 
 
 def _rings(geom: BaseGeometry | None, tolerance_mm: float = 0.02) -> list[list[tuple[float, float]]]:
@@ -83,7 +85,7 @@ def build_design_for(path: str | Path, config_file: Path | None = None, *, layer
 
 
 def _design_and_config(path: Path, config_file: Path | None, layer_map: dict[str, str],
-                       progress: Progress | None) -> tuple[Any, Any]:
+                       progress: Progress | None, strict: bool = False) -> tuple[Any, Any]:
     from sensorcheck.board.build import load_board
     from sensorcheck.design.config import find_config, load_config
     from sensorcheck.design.sensors import build_design
@@ -94,6 +96,8 @@ def _design_and_config(path: Path, config_file: Path | None, layer_map: dict[str
     config = load_config(config_file, known_rules=known_rules())
     merged_map = {**config.file_overrides, **layer_map}
     kwargs: dict[str, Any] = {"layer_map": merged_map or None, "progress": progress}
+    if strict:
+        kwargs["strict"] = True
     limits = getattr(config, "limits", None)
     if limits is not None:
         kwargs["limits"] = limits
@@ -209,7 +213,8 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         rules=catalogue(),
     )
     try:
-        design, config = _design_and_config(path, options.config_file, options.layer_map, progress)
+        design, config = _design_and_config(path, options.config_file, options.layer_map, progress,
+                                            strict=options.strict)
     except SensorcheckError as err:
         if isinstance(err, ConfigError):
             result.config_file = err.file
@@ -235,6 +240,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
                 "identified_by": info.identified_by,
                 "error": info.error,
                 "note": info.note,
+                **({"warnings": list(info.warnings)} if info.warnings else {}),
             }
         )
         if info.error:

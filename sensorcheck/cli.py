@@ -47,6 +47,8 @@ def _parser() -> argparse.ArgumentParser:
     sub = p.add_subparsers(dest="command", required=True)
 
     layer_map_help = "force files matching GLOB to be read as LAYER (e.g. '*.gtl=top-copper'); repeatable"
+    strict_help = ("refuse deprecated Gerber constructs and Excellon dialects (image commands, tools sized "
+                   "nowhere, G93 ...) instead of reading them with a warning")
 
     chk = sub.add_parser("check", help="check one or more boards against the capacitive layout rules")
     chk.add_argument("paths", nargs="+", metavar="PATH", help="folder or .zip of fabrication outputs (several: batch)")
@@ -64,6 +66,7 @@ def _parser() -> argparse.ArgumentParser:
     chk.add_argument("--exit-zero", action="store_true", help="exit 0 even with findings (input errors still exit 2)")
     chk.add_argument("--baseline", type=Path, help="a previous JSON report: only findings not in it can fail the run")
     chk.add_argument("--layer-map", action="append", default=[], metavar="GLOB=LAYER", help=layer_map_help)
+    chk.add_argument("--strict", action="store_true", help=strict_help)
     chk.add_argument("--no-estimate", action="store_true", help="skip the field-solver estimates (geometry rules only)")
     chk.add_argument("--timestamp", action="store_true", help="put the run time into the reports (off: byte-identical reports)")
     chk.add_argument("--jobs", type=int, default=None, help="parallel processes for several boards (default: cores)")
@@ -72,6 +75,7 @@ def _parser() -> argparse.ArgumentParser:
     lay.add_argument("path", help="folder or .zip of fabrication outputs")
     lay.add_argument("--format", choices=["text", "json"], default="text")
     lay.add_argument("--layer-map", action="append", default=[], metavar="GLOB=LAYER", help=layer_map_help)
+    lay.add_argument("--strict", action="store_true", help=strict_help)
 
     est = sub.add_parser("estimate", help="field-solver estimates per sensor and the finger approach curves")
     est.add_argument("path", help="folder or .zip of fabrication outputs")
@@ -120,6 +124,7 @@ def _run_check(args: argparse.Namespace) -> int:
         with_drawing=any(s.split(":", 1)[0] == "html" for s in specs),
         timestamp=None,
         baseline=baseline,
+        strict=args.strict,
     )
     if args.timestamp:
         import datetime as dt

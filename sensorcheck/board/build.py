@@ -15,8 +15,10 @@ After reading, the board is checked for things a reader cannot see alone:
 from __future__ import annotations
 
 import hashlib
+import re
 from collections.abc import Callable, Mapping
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import shapely
@@ -32,6 +34,9 @@ from sensorcheck.fab.archive import InputFile, open_input, read_bytes, read_head
 from sensorcheck.fab.identify import Identification, check_layer_map, identify, job_file_functions, sniff
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 from sensorcheck.materials import FR4_EPSILON_R
+
+if TYPE_CHECKING:
+    from sensorcheck.fab.excellon import DrillFormat
 
 Progress = Callable[[str], None]
 
@@ -146,15 +151,19 @@ def load_board(
     limits: Limits = DEFAULT_LIMITS,
     stackup_override: Stackup | None = None,
     progress: Progress | None = None,
+    strict: bool = False,
 ) -> Board:
-    """Read every file of a folder or .zip of fabrication outputs into a Board."""
+    """Read every file of a folder or .zip of fabrication outputs into a Board.
+
+    ``strict``: deprecated Gerber constructs and Excellon dialects are refused (an error for that
+    file) instead of read with a warning (``FileInfo.warnings``)."""
     if layer_map:
         check_layer_map(layer_map)
     say = progress or (lambda _msg: None)
     p = Path(path)
     with open_input(p, limits=limits) as files:
         board = Board(name=_board_name(p), source=safe_name(str(path)))
-        _read_all(board, files, dict(layer_map or {}), limits, say)
+        _read_all(board, files, dict(layer_map or {}), limits, say, strict)
     # The config's stackup is there for a job file that is missing *or wrong*: when given, it wins.
     if stackup_override is not None:
         board.stackup = stackup_override
@@ -163,8 +172,9 @@ def load_board(
     return board
 
 
-def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], limits: Limits, say: Progress) -> None:
-    from sensorcheck.fab.excellon import read_excellon
+def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], limits: Limits, say: Progress,
+              strict: bool = False) -> None:
+    from sensorcheck.fab.excellon import read_drill_parameters, read_excellon, read_tool_table
     from sensorcheck.fab.gerber import read_gerber
     from sensorcheck.fab.ipc356 import read_ipc356
     from sensorcheck.fab.jobfile import read_jobfile
@@ -232,15 +242,14 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
             seen_content[key] = shown
             say(f"reading {shown}")
             if ident.kind == "gerber" and ident.role in _READ_ROLES:
-                g = read_gerber(data, shown, limits=limits)
+                g = read_gerber(data, shown, limits=limits, strict=strict)
+                info.warnings = list(g.warnings)
                 layer = Layer(name=ident.layer or "", function=ident.role, side=ident.side or "none", file=shown,
                               units="inch" if g.units == "inch" else "mm", generator=g.generator or ident.generator,
                               features=g.features, dark=g.dark,
                               x2_file_function=",".join(g.file_attributes.get(".FileFunction", [])) or None)
                 info.units, info.generator, info.object_count = layer.units, layer.generator, g.object_count
                 info.dark_area_mm2 = round(float(g.dark.area), 6) if g.dark is not None else 0.0
-                if g.warnings:
-                    info.note = "; ".join([*( [info.note] if info.note else []), *g.warnings[:3]])
                 if ident.role == "copper":
                     copper.append((ident, layer))
                     x2_images[id(layer)] = g.by_net  # keyed by layer name once the stack is ordered
@@ -253,12 +262,16 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
                 board.components.extend(comps)
                 info.object_count = len(comps)
             elif ident.kind == "gerber" and ident.role == "drill":
-                g = read_gerber(data, shown, limits=limits)
+                g = read_gerber(data, shown, limits=limits, strict=strict)
+                info.warnings = list(g.warnings)
                 holes = _holes_from_gerber(g.features, ident.plated, shown)
                 drill_holes[shown] = holes
                 info.units, info.object_count = g.units, len(holes)
             elif ident.kind == "excellon":
-                ex = read_excellon(data, shown, plated_hint=ident.plated, limits=limits)
+                ex = read_excellon(data, shown, plated_hint=ident.plated, limits=limits, strict=strict,
+                                   tool_table_mm=_companion_tools(f, files, read_tool_table, limits),
+                                   format_hint=_drill_parameters(f, data, files, read_drill_parameters, limits))
+                info.warnings = list(ex.warnings)
                 drill_holes[shown] = ex.holes
                 info.units, info.object_count = ex.units, len(ex.holes)
                 info.generator = info.generator or ex.generator
@@ -345,6 +358,50 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
     for layer in board.copper_layers():
         info = infos[_key_of(infos, layer.file)]
         info.nets = sorted(layer.by_net)
+
+
+#: names of the tool files some exporters write beside an Excellon file that selects tools it
+#: never sizes (a drill rack / tool list: "T01 0.0350in" lines), common practice
+_TOOL_FILE_SUFFIXES = (".dri", ".tol", ".rack", ".tools", ".tool", ".txt", ".lst")
+
+
+def _companion_tools(drill: InputFile, files: list[InputFile], read_tool_table: Callable[[bytes], dict[int, float]],
+                     limits: Limits) -> dict[int, float] | None:
+    """Tool sizes from a tool file beside ``drill``: same folder, same stem or a name saying tools."""
+    folder, _, base = drill.name.rpartition("/")
+    stem = base.rsplit(".", 1)[0].lower()
+    for f in files:
+        if f is drill or f.error or f.note:
+            continue
+        f_folder, _, f_base = f.name.rpartition("/")
+        low = f_base.lower()
+        if f_folder != folder or not low.endswith(_TOOL_FILE_SUFFIXES):
+            continue
+        if not (low.rsplit(".", 1)[0] == stem or "tool" in low or "rack" in low):
+            continue
+        try:
+            table = read_tool_table(read_bytes(f, limits)[:200_000])
+        except (OSError, SensorcheckError):
+            continue
+        if table:
+            return table
+    return None
+
+
+def _drill_parameters(drill: InputFile, data: bytes, files: list[InputFile],
+                      read_drill_parameters: Callable[[bytes, str], DrillFormat | None], limits: Limits) -> DrillFormat | None:
+    """The number format from an ``nc_param.txt`` beside a drill file that states no units itself."""
+    if re.search(rb"^\s*(?:INCH|METRIC|M71|M72)\b", data[:65536], re.M):
+        return None
+    folder = drill.name.rpartition("/")[0]
+    for f in files:
+        if f.error or f.note or f.name.rpartition("/")[0] != folder or f.name.rpartition("/")[2].lower() != "nc_param.txt":
+            continue
+        try:
+            return read_drill_parameters(read_bytes(f, limits)[:100_000], safe_name(f.name))
+        except (OSError, SensorcheckError):
+            return None
+    return None
 
 
 def _key_of(infos: dict[str, FileInfo], shown: str) -> str:

@@ -91,6 +91,8 @@ class Hole:
     end_y_mm: float | None = None
     function: str | None = None  # "via", "component", "mechanical" where the file says
     net: str | None = None
+    #: False: the drill file never gives this tool's size; ``diameter_mm`` is a stated default
+    size_known: bool = True
 
 
 @dataclass(frozen=True, slots=True)
@@ -172,6 +174,8 @@ class FileInfo:
     nets: list[str] = field(default_factory=list)
     note: str | None = None  # why it was not understood, or what was odd
     error: str | None = None  # an InputError's text when the file could not be read
+    #: the reader's warnings (file:line: construct: what; how it was read), at most five of a kind
+    warnings: list[str] = field(default_factory=list)
 
 
 @dataclass(slots=True)

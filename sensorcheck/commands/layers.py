@@ -1,7 +1,8 @@
 """``sensorcheck layers PATH``: how each fabrication file was identified and read.
 
 Per file: layer, side, function, how it was identified, units, generator, object count, dark
-copper area (mm2) and nets; then everything that was not understood. Text goes through rich
+copper area (mm2) and nets; the readers' warnings (deprecated constructs and dialects read, each
+with its file, line and construct); then everything that was not understood. Text goes through rich
 tables (plain when not a terminal); JSON is deterministic (sorted keys, no timestamps).
 Exit 2 when any file had an error (after printing everything), else 0.
 """
@@ -34,6 +35,7 @@ def board_summary(board: Board) -> dict[str, Any]:
             "nets": list(f.nets),
             "note": f.note,
             "error": f.error,
+            "warnings": list(f.warnings),
         })
     stack = board.stackup
     return {
@@ -105,6 +107,8 @@ def print_text(board: Board, out: TextIO) -> None:
             console.print(f"ERROR {escape(f.error)}")
         elif f.note:
             console.print(f"note  {escape(f.path)}: {escape(f.note)}")
+        for w in f.warnings:  # each names the file, the line and the construct read
+            console.print(f"warning {escape(w)}")
     if unused:
         console.print(f"Identified, not used by the checks ({len(unused)}):")
         for f in unused:
@@ -136,7 +140,7 @@ def run(args: argparse.Namespace) -> int:
     from sensorcheck.fab.identify import parse_layer_map
 
     layer_map = parse_layer_map(list(getattr(args, "layer_map", None) or []))
-    board = load_board(args.path, layer_map=layer_map or None)
+    board = load_board(args.path, layer_map=layer_map or None, strict=bool(getattr(args, "strict", False)))
     if getattr(args, "format", "text") == "json":
         json.dump(board_summary(board), sys.stdout, sort_keys=True, indent=2, ensure_ascii=True)
         sys.stdout.write("\n")

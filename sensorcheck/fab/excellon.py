@@ -13,6 +13,13 @@ Our own reader (small, strict, with line numbers in every error). It understands
 * hits, ``R`` repeats, ``G85`` slots, routed slots (``G00`` + ``M15`` + ``G01``/``G02``/``G03`` +
   ``M16``/``M17``; arcs by end point and ``A`` radius or ``I``/``J`` centre), ``G90``/``G91``.
 
+Dialects of known meaning are read with a warning naming the file, line and construct
+(:mod:`sensorcheck.fab.dialect`; ``strict`` refuses them): ``G93`` zero set, feed and speed codes,
+tools never defined (a companion tool table, sizes declared in comments, else a stated default
+size, every such hole flagged), coordinates with more digits than the declared format (read by
+the digits present, the format inferred), ``/`` lines in the header, a hole before any tool
+selection, conflicting ``;FILE_FORMAT`` comments.
+
 Anything else in the body is an :class:`~sensorcheck.errors.InputError` naming the file, the line
 and what was expected; so is a file that ends without ``M30`` (likely truncated).
 """
@@ -21,10 +28,12 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 from sensorcheck.board.model import Hole, SourceRef
 from sensorcheck.errors import InputError, LimitError
+from sensorcheck.fab.dialect import DialectLog, condense, strip_padding
 from sensorcheck.fab.identify import generator_from_attributes, head_file_attributes
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
@@ -44,6 +53,10 @@ class ExcellonRead:
     tools_mm: dict[int, float] = field(default_factory=dict)
     #: file-level plating from X2 (True/False), None for mixed or unknown
     plated: bool | None = None
+    #: what a user must see: dialects read (file:line: construct: ...), at most five of each kind
+    warnings: list[str] = field(default_factory=list)
+    #: dialect constructs read with a warning (sensorcheck.fab.dialect), each named once
+    constructs: list[str] = field(default_factory=list)
 
 
 @dataclass(slots=True)
@@ -51,6 +64,8 @@ class _Tool:
     diameter: float  # in file units at definition time, converted to mm on definition
     plated: bool | None
     function: str | None
+    #: False: the file never gives the size (a default was taken): every hole is flagged
+    size_known: bool = True
 
 
 @dataclass(slots=True)
@@ -79,7 +94,17 @@ _MAX_NUMBER_CHARS = 24
 _MAX_COORD_MM = 10_000.0
 _FILE_FORMAT_RE = re.compile(r"FILE_FORMAT\s*=\s*(\d+)\s*:\s*(\d+)", re.I)
 _APERFUNCTION_RE = re.compile(r"#@!\s*TA\.AperFunction\s*,\s*([^,\s]+)\s*(?:,\s*([^,\s]+))?(?:\s*,\s*([^,\s]+))?", re.I)
-_UNITS_RE = re.compile(r"^(INCH|METRIC)(?:,(LZ|TZ))?(?:,(0+)\.(0+))?(?:,(LZ|TZ))?$")
+#: units lines: INCH/METRIC or M72/M71 (Excellon's inch/metric codes), zeros and a digit pattern in
+#: either order (``METRIC,TZ,000.000``, ``M71,TZ``, ``INCH,00.0000,LZ``)
+_UNITS_RE = re.compile(r"^(INCH|METRIC|M71|M72)(?:,(LZ|TZ))?(?:,(0+)\.(0+))?(?:,(LZ|TZ))?$")
+#: hole sizes declared in comments: "; Holesize 1. = 35.000000 Tolerance = ... PLATED MILS" (Allegro
+#: and PADS list their tools this way) and "T1 0.800mm" / "T01 0.0350in" lines of a tool table
+_HOLESIZE_RE = re.compile(r"Holesize\s*(\d+)\.?\s*=\s*([\d.]+).*?\b(MILS?|MM|INCH|IN)\b", re.I)
+_TOOL_TABLE_RE = re.compile(r"^\s*T(\d+)\s*(?:C\s*)?[:=,]?\s*([\d.]+)\s*(MILS?|MM|INCH|IN|\"|)\s*(?:\s.*)?$", re.I)
+#: feed (F), spindle speed (S) and similar machine words: no effect on where holes are
+_MACHINE_WORD_RE = re.compile(r"(?<![A-Z])[FS][+-]?\d+(?:\.\d*)?")
+#: the size taken for a tool the file never sizes (0.3 mm: a common small via drill, common practice)
+DEFAULT_UNKNOWN_TOOL_MM = 0.3
 _HEADER_WORD_RE = re.compile(r"^(FMAT|VER|ICI|DETECT|ATC|BLKD|SBK|TCST|AFS|OSTOP|RUNTIME|CP|OM48|M47|G90|G91|G93|G05|G81|M71|M72|R,)")
 
 
@@ -95,13 +120,26 @@ def _function_name(text: str | None) -> str | None:
 
 
 def read_excellon(
-    data: bytes, name: str, *, plated_hint: bool | None = None, limits: Limits = DEFAULT_LIMITS
+    data: bytes, name: str, *, plated_hint: bool | None = None, limits: Limits = DEFAULT_LIMITS,
+    strict: bool = False, tool_table_mm: Mapping[int, float] | None = None,
+    format_hint: DrillFormat | None = None,
 ) -> ExcellonRead:
     """Read an Excellon drill file. ``plated_hint`` (from the file name) is used only where neither
-    the tool nor the file says whether holes are plated."""
+    the tool nor the file says whether holes are plated. ``tool_table_mm`` (tool number -> diameter
+    in mm, from a companion tool file: :func:`read_tool_table`) sizes tools the file never defines.
+    ``format_hint`` (from a drill parameter file beside it: :func:`read_drill_parameters`) gives the
+    units, digits and zeros a file without a header states nowhere itself.
+    ``strict`` refuses the dialects listed in the module docstring instead of reading them."""
     if not data.strip():
         raise InputError(name, None, "the drill file is empty", "an Excellon program (M48 header, tools, holes, M30)")
+    log = DialectLog(name, strict)
+    data = strip_padding(data, log)
     text = data.decode("latin-1")
+    if "\r" in text:  # CR LF and bare CR (old Mac) line ends
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
+    declared_mm: dict[int, float] = {}  # tool sizes declared in comments ("; Holesize 1. = 35 ... MILS")
+    number_format: tuple[int, int, int, str] | None = None  # ints, decs, line, how it was written
+    zero_set = (0.0, 0.0)  # G93: where the program zero lies (mm)
     attrs = head_file_attributes(data[:65536])
     out = ExcellonRead(name=name, units="inch", generator=generator_from_attributes(attrs), file_attributes=attrs)
     ff = [v.lower() for v in attrs.get(".FileFunction", [])]
@@ -110,12 +148,28 @@ def read_excellon(
     file_plated = out.plated if ff and ff[0] in ("plated", "nonplated") else plated_hint
 
     st = _State()
+    if format_hint is not None:
+        log.accept(None, "number format from a parameter file",
+                   f"units and number format taken from {format_hint.source}",
+                   f"{'inch' if format_hint.inch else 'mm'}, {format_hint.int_digits}:{format_hint.dec_digits}, "
+                   f"{'leading' if format_hint.zeros == 'LZ' else 'trailing'} zeros written, until the file says otherwise",
+                   "INCH/METRIC with LZ/TZ in an M48 header")
+        st.inch, st.zeros = format_hint.inch, format_hint.zeros
+        st.int_digits, st.dec_digits = format_hint.int_digits, format_hint.dec_digits
     tools: dict[int, _Tool] = {}
     pending_plated: bool | None = None  # from the last ;TYPE= comment (Altium)
     pending_ta: tuple[bool | None, str | None] | None = None  # from the last TA.AperFunction comment
     in_header = False
     header_seen = False
     holes: list[Hole] = []
+
+    def set_format(ints: int, decs: int, line: int, written: str) -> None:
+        nonlocal number_format
+        if number_format is not None and number_format[:2] != (ints, decs):
+            log.accept(line, "conflicting number formats", f"{written} after {number_format[3]} (line {number_format[2]})",
+                       f"the later one, {ints}:{decs}, applies from this line on", "one number format per file")
+        number_format = (ints, decs, line, written)
+        st.int_digits, st.dec_digits = ints, decs
 
     def number(raw: str, line: int, axis: str) -> float:
         if len(raw) > _MAX_NUMBER_CHARS:
@@ -133,11 +187,20 @@ def read_excellon(
                 raise InputError(name, line, f"bad number {raw!r} for {axis}", "digits")
             ints = st.int_digits if st.int_digits is not None else (2 if st.inch else 3)
             decs = st.dec_digits if st.dec_digits is not None else (4 if st.inch else 3)
+            if len(digits) > ints + decs:
+                # more digits than the declared format: read by the digits present. With leading zeros
+                # written the integer digits are fixed, so the extra ones are decimals; with trailing
+                # zeros written the decimals are fixed (an emulated export writing a wider format)
+                inferred = (ints, len(digits) - ints) if st.zeros == "LZ" else (len(digits) - decs, decs)
+                log.accept(line, "coordinate longer than the format",
+                           f"{axis} {raw!r} has {len(digits)} digits, more than the format {ints}:{decs}",
+                           f"read by the digits present as format {inferred[0]}:{inferred[1]}",
+                           f"at most {ints + decs} digits")
             if st.zeros == "LZ":  # leading zeros written: the number is left-aligned
-                if len(digits) > ints + decs:
-                    raise InputError(name, line, f"{raw!r} has more digits than the format {ints}:{decs}",
-                                     f"at most {ints + decs} digits")
-                value = sign * int(digits.ljust(ints + decs, "0")) / 10**decs
+                if len(digits) <= ints + decs:
+                    value = sign * int(digits.ljust(ints + decs, "0")) / 10**decs
+                else:
+                    value = sign * int(digits) / 10 ** (len(digits) - ints)
             else:
                 value = sign * int(digits) / 10**decs
         value *= MM_PER_INCH if st.inch else 1.0
@@ -167,13 +230,35 @@ def read_excellon(
         tools[num] = _Tool(dia * (MM_PER_INCH if st.inch else 1.0), plated, function)
         pending_ta = None
 
+    def sized_elsewhere(num: int, line: int) -> _Tool:
+        """A tool the file selects but never defines: from the companion table, a comment, or a default."""
+        if tool_table_mm and num in tool_table_mm:
+            dia, size_known = tool_table_mm[num], True
+            log.accept(line, "tool sized by a companion tool file", f"tool T{num} is not defined in the file",
+                       f"its size, {dia:g} mm, is taken from the tool file beside it", f"T{num}C<diameter> in the header")
+        elif num in declared_mm:
+            dia, size_known = declared_mm[num], True
+            log.accept(line, "tool sized in a comment", f"tool T{num} is defined only in a header comment",
+                       f"its size there, {dia:g} mm, is taken", f"T{num}C<diameter> in the header")
+        else:
+            dia, size_known = DEFAULT_UNKNOWN_TOOL_MM, False
+            log.accept(line, "tool never sized", f"tool T{num} is selected but its size is given nowhere",
+                       f"its holes are drawn {dia:g} mm wide (a stated default) and flagged as of unknown size",
+                       f"T{num}C<diameter> in the header, or a tool file beside the drill file")
+        tools[num] = _Tool(dia, pending_plated, None, size_known)
+        return tools[num]
+
     def current_tool(line: int) -> tuple[int, _Tool]:
         if st.tool is None or st.tool == 0:
-            raise InputError(name, line, "a hole before any tool was selected", "a tool selection (T1) first")
+            # the machine drills with whatever tool is loaded: read as the first tool of the table
+            first = next(iter(tools), None)
+            log.accept(line, "hole before any tool selection", "a hole comes before any tool is selected",
+                       f"drilled with the first tool of the header (T{first})" if first is not None
+                       else "drilled with a tool of unknown size", "a tool selection (T1) first")
+            st.tool = first if first is not None else 1
         tool = tools.get(st.tool)
         if tool is None:
-            raise InputError(name, line, f"tool T{st.tool} is used but never defined",
-                             f"T{st.tool}C<diameter> in the header")
+            tool = sized_elsewhere(st.tool, line)
         return st.tool, tool
 
     def add(x: float, y: float, line: int, end: tuple[float, float] | None = None) -> None:
@@ -181,9 +266,11 @@ def read_excellon(
         plated = tool.plated if tool.plated is not None else file_plated
         if len(holes) >= limits.max_holes:
             raise LimitError(name, line, f"more than {limits.max_holes} holes", "fewer holes (limits.max_holes)")
+        zx, zy = zero_set
         holes.append(Hole(
-            x_mm=x, y_mm=y, diameter_mm=tool.diameter, plated=plated, source=SourceRef(name, line),
-            end_x_mm=end[0] if end else None, end_y_mm=end[1] if end else None, function=tool.function,
+            x_mm=x + zx, y_mm=y + zy, diameter_mm=tool.diameter, plated=plated, source=SourceRef(name, line),
+            end_x_mm=end[0] + zx if end else None, end_y_mm=end[1] + zy if end else None, function=tool.function,
+            size_known=tool.size_known,
         ))
 
     def move(xs: str | None, ys: str | None, line: int) -> tuple[float, float]:
@@ -215,7 +302,14 @@ def read_excellon(
                 ints, decs = m.group(1), m.group(2)
                 if len(ints) > 2 or len(decs) > 2 or not (0 < int(ints) <= 9 and 0 < int(decs) <= 9):
                     raise InputError(name, idx, f"number format {ints}:{decs}", "digits per part between 1 and 9")
-                st.int_digits, st.dec_digits = int(ints), int(decs)
+                set_format(int(ints), int(decs), idx, f";FILE_FORMAT={ints}:{decs}")
+            m = _HOLESIZE_RE.search(body)
+            if m:
+                unit = m.group(3).upper()
+                k = 0.0254 if unit.startswith("MIL") else (MM_PER_INCH if unit.startswith("IN") else 1.0)
+                size = float(m.group(2)) * k if m.group(2).count(".") <= 1 else 0.0
+                if 0 < size < 254:
+                    declared_mm[int(m.group(1))] = size
             m = _APERFUNCTION_RE.search(body)
             if m:
                 kind = m.group(1).lower()
@@ -225,6 +319,19 @@ def read_excellon(
                 pass  # KiCad's description; the INCH/METRIC line decides
             continue
         ln = ln.upper().replace(" ", "")
+        if ln.startswith("G93"):
+            # G93 zero set (Excellon CNC-7 programming manual, "G93 Zero Set"): X/Y place the program
+            # zero; later coordinates are relative to it, so a hole lies at coordinate + offset.
+            # (A reader that ignores G93 puts holes at the coordinates; with G93X0Y0 both agree.)
+            m = _COORD_RE.match(ln[3:])
+            if m is None:
+                raise InputError(name, idx, f"bad zero set {raw_line.strip()[:40]!r}", "G93X<x>Y<y>")
+            zero_set = (number(m.group(1), idx, "X") if m.group(1) else 0.0,
+                        number(m.group(2), idx, "Y") if m.group(2) else 0.0)
+            log.accept(idx, "G93 zero set", f"G93 places the program zero at ({zero_set[0]:g}, {zero_set[1]:g}) mm",
+                       "holes lie at their coordinates plus this offset" if zero_set != (0.0, 0.0)
+                       else "at the origin: coordinates unchanged", "coordinates without G93")
+            continue
         if ln == "M48":
             in_header = True
             header_seen = True
@@ -236,15 +343,12 @@ def read_excellon(
             continue
         m = _UNITS_RE.match(ln)
         if m:
-            st.inch = m.group(1) == "INCH"
+            st.inch = m.group(1) in ("INCH", "M72")
             zeros = m.group(2) or m.group(5)
             if zeros:
                 st.zeros = zeros
             if m.group(3):
-                st.int_digits, st.dec_digits = len(m.group(3)), len(m.group(4))
-            continue
-        if ln in ("M71", "M72"):
-            st.inch = ln == "M72"
+                set_format(len(m.group(3)), len(m.group(4)), idx, raw_line.strip())
             continue
         m = _TOOL_DEF_RE.match(ln)
         if m and "C" in m.group(2):
@@ -252,19 +356,36 @@ def read_excellon(
             if not in_header:
                 st.tool = int(m.group(1))
             continue
+        if in_header and ln.startswith("ICI"):
+            # ICI (incremental input of coordinates): ICI,ON or ICI makes coordinates incremental
+            st.absolute = ln.endswith(",OFF")
+            continue
+        if in_header and ln.startswith("/"):
+            log.accept(idx, "'/' line in the header", f"header line {raw_line.strip()[:30]!r}",
+                       "ignored as a comment (block delete)", "comments written as ';' lines")
+            continue
         if in_header:
-            if _HEADER_WORD_RE.match(ln) or _TOOL_DEF_RE.match(ln) or re.match(r"^[A-Z]{2,}[A-Z0-9,.=:+-]*$", ln):
+            if _HEADER_WORD_RE.match(ln) or _TOOL_DEF_RE.match(ln) or _TOOL_SEL_RE.match(ln) \
+                    or re.match(r"^[A-Z]{2,}[A-Z0-9,.=:+-]*$", ln):
                 continue  # other header settings (feeds, checks, machine options) do not change holes
             raise InputError(name, idx, f"unexpected header line {raw_line.strip()[:40]!r}",
                              "header settings (INCH/METRIC, tool definitions T1C...) up to '%'")
         if st.ended:
             raise InputError(name, idx, "content after the end of program (M30)", "nothing after M30")
+        if ("F" in ln or "S" in ln) and not ln.startswith("M"):
+            # feed rate and spindle speed words (F, S) set how the machine drills, not where: dropped
+            bare = _MACHINE_WORD_RE.sub("", ln) if not ln.startswith("T") else re.sub(r"(?<=\d)[FS][\d.]+", "", ln)
+            if bare != ln:
+                log.accept(idx, "feed or speed code", f"{raw_line.strip()[:30]!r} sets a feed or speed",
+                           "ignored: it does not move a hole", "coordinates and tool selections only")
+                ln = bare
+                if not ln:
+                    continue
         m = _TOOL_SEL_RE.match(ln)
         if m:
             st.tool = int(m.group(1))
             if st.tool != 0 and st.tool not in tools:
-                raise InputError(name, idx, f"tool T{st.tool} selected but never defined",
-                                 f"T{st.tool}C<diameter> in the header")
+                sized_elsewhere(st.tool, idx)
             continue
         if ln in ("M30", "M00"):
             st.ended = True
@@ -288,9 +409,7 @@ def read_excellon(
             st.tool_down = False
             st.raised = True
             continue
-        if ln.startswith(("M47", "M97", "M98", "G04", "M45", "M01", "M02", "G93", "M06", "M09", "M25", "M08", "M01", "M50", "M51", "M52")) and not ln.startswith(("M02X", "M02Y")):
-            if ln.startswith("G93"):
-                raise InputError(name, idx, "zero-set offset (G93) is not supported", "coordinates without G93")
+        if ln.startswith(("M47", "M97", "M98", "G04", "M45", "M01", "M02", "M06", "M09", "M25", "M08", "M01", "M50", "M51", "M52")) and not ln.startswith(("M02X", "M02Y")):
             if ln.startswith(("M25", "M01", "M02", "M08")):
                 raise InputError(name, idx, "pattern repeat blocks (M25/M01/M02/M08) are not supported",
                                  "plain coordinates")
@@ -353,7 +472,19 @@ def read_excellon(
                 continue  # a bare coordinate in rout mode moves (tool up) or routs linearly (tool down)
             add(st.x, st.y, idx)
             continue
-        # a tool selection with a coordinate on the same line ("T1X1.0Y2.0") is not common: refuse clearly
+        m = re.match(r"^T(\d{1,6})([XY].*)$", ln)
+        if m and _COORD_RE.match(m.group(2)):
+            # a tool selection and a hole on one line ("T2X1.0Y2.0"): select, then drill
+            log.accept(idx, "tool selection and hole on one line", f"{raw_line.strip()[:30]!r}",
+                       "the tool is selected, then the hole drilled", "T<n> on a line of its own")
+            st.tool = int(m.group(1))
+            if st.tool != 0 and st.tool not in tools:
+                sized_elsewhere(st.tool, idx)
+            mc = _COORD_RE.match(m.group(2))
+            assert mc is not None
+            st.x, st.y = move(mc.group(1), mc.group(2), idx)
+            add(st.x, st.y, idx)
+            continue
         raise InputError(name, idx, f"unexpected {raw_line.strip()[:40]!r}",
                          "an Excellon command: tool selection T<n>, coordinates X..Y.., G85 slot, "
                          "G00/G01/G02/G03 rout, M15/M16, M30")
@@ -365,17 +496,67 @@ def read_excellon(
     out.units = "inch" if _first_units_inch(lines) else "mm"
     out.holes = holes
     out.tools_mm = {n: t.diameter for n, t in tools.items()}
+    out.warnings = condense(log.warnings, constructs=log.constructs)
+    out.constructs = sorted(log.constructs)
     return out
 
 
 def _first_units_inch(lines: list[str]) -> bool:
     for raw in lines:
         ln = raw.strip().upper()
-        if ln.startswith("INCH") or ln == "M72":
+        if ln.startswith(("INCH", "M72")):
             return True
-        if ln.startswith("METRIC") or ln == "M71":
+        if ln.startswith(("METRIC", "M71")):
             return False
     return True
+
+
+@dataclass(frozen=True, slots=True)
+class DrillFormat:
+    """Units and number format of drill files, from a parameter file written beside them."""
+
+    inch: bool
+    int_digits: int
+    dec_digits: int
+    zeros: str  # "LZ": leading zeros written, "TZ": trailing zeros written
+    source: str
+
+
+def read_drill_parameters(data: bytes, source: str) -> DrillFormat | None:
+    """The number format of an ``nc_param.txt`` style file (one ``KEY value`` per line), e.g.
+    ``FORMAT 2.5``, ``OUTPUT-UNITS ENGLISH|METRIC``, ``SUPPRESS-LEAD-ZEROES YES|NO`` (the keys as
+    Allegro-family exports write them, from memory). None without a FORMAT line."""
+    values: dict[str, str] = {}
+    for raw in data.decode("latin-1").replace("\r", "\n").split("\n")[:500]:
+        parts = raw.split()
+        if len(parts) >= 2:
+            values[parts[0].upper()] = parts[1].upper()
+    m = re.fullmatch(r"(\d)\.(\d)", values.get("FORMAT", ""))
+    if m is None:
+        return None
+    inch = values.get("OUTPUT-UNITS", "ENGLISH") != "METRIC"
+    # leading zeros suppressed: trailing ones are written (Excellon "TZ"), and the reverse
+    zeros = "LZ" if values.get("SUPPRESS-LEAD-ZEROES", "YES") == "NO" else "TZ"
+    return DrillFormat(inch, int(m.group(1)), int(m.group(2)), zeros, source)
+
+
+def read_tool_table(data: bytes) -> dict[int, float]:
+    """Tool sizes (mm) from a companion tool file: lines ``T1 0.800mm``, ``T01 0.0350in``, ``T2 35mil``,
+    ``T3C0.8`` (a unit of its own, else mm when the size is over 0.2, else inch: a drill of under
+    0.2 mm or over 0.2 inch is rare, common practice). Empty when no line reads as a tool size."""
+    table: dict[int, float] = {}
+    for raw in data.decode("latin-1").replace("\r", "\n").split("\n")[:2000]:
+        m = _TOOL_TABLE_RE.match(raw.strip().lstrip(";").strip())
+        if m is None or m.group(2).count(".") > 1:
+            continue
+        size, unit = float(m.group(2)), m.group(3).upper()
+        if unit.startswith("MIL"):
+            size *= 0.0254
+        elif unit in ("IN", "INCH", '"') or (not unit and size < 0.2):
+            size *= MM_PER_INCH
+        if 0 < size < 254:
+            table[int(m.group(1))] = size
+    return table
 
 
 def _arc_pieces(start, end, clockwise, a_raw, i_raw, j_raw, number, line, name):  # type: ignore[no-untyped-def]

@@ -3,7 +3,7 @@
 CONTRACT (the Gerber reader fills it in; other modules rely on this signature):
 
     read_gerber(data: bytes, name: str, *, arc_tolerance_mm: float = 0.001,
-                limits: Limits = DEFAULT_LIMITS) -> GerberRead
+                limits: Limits = DEFAULT_LIMITS, strict: bool = False) -> GerberRead
 
 ``name`` is the file name shown in errors (path or archive member).  Raises
 sensorcheck.errors.InputError (file, line, expected) for anything it cannot read.
@@ -28,6 +28,7 @@ from shapely.geometry.base import BaseGeometry
 from sensorcheck.board.model import Feature
 from sensorcheck.errors import InputError, LimitError
 from sensorcheck.fab import gerber_geometry
+from sensorcheck.fab.dialect import DialectLog, condense
 from sensorcheck.fab.gerber_parser import decode_gerber, parse_gerber_text
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
@@ -52,6 +53,8 @@ class GerberRead:
     #: final dark image per net (None: objects without a net), as images_by_net(features) gives it;
     #: added by the Gerber reader (default empty) so the connectivity step need not union again
     by_net: dict[str | None, BaseGeometry] = field(default_factory=dict)
+    #: deprecated constructs read with a warning (sensorcheck.fab.dialect), each named once
+    constructs: list[str] = field(default_factory=list)
 
 
 def images_by_net(features: list[Feature]) -> dict[str | None, BaseGeometry]:
@@ -82,23 +85,9 @@ def _generator(file_attributes: dict[str, list[str]], comments: list[str]) -> st
     return None
 
 
-def _condense(warnings: list[str], keep: int = 5) -> list[str]:
-    """At most ``keep`` warnings of each kind (kind = text without the file:line prefix)."""
-    seen: dict[str, int] = {}
-    out: list[str] = []
-    for w in warnings:
-        kind = w.split(": ", 1)[-1]
-        seen[kind] = seen.get(kind, 0) + 1
-        if seen[kind] <= keep:
-            out.append(w)
-    for kind, count in seen.items():
-        if count > keep:
-            out.append(f"({count - keep} more: {kind})")
-    return out
-
-
 def read_gerber(
-    data: bytes, name: str, *, arc_tolerance_mm: float = 0.001, limits: Limits = DEFAULT_LIMITS
+    data: bytes, name: str, *, arc_tolerance_mm: float = 0.001, limits: Limits = DEFAULT_LIMITS,
+    strict: bool = False,
 ) -> GerberRead:
     """Read one Gerber file into features (exact shapely geometry, mm), its dark image and per-net images.
 
@@ -108,14 +97,16 @@ def read_gerber(
 
     Warnings a user must see (ignored deprecated statements, empty image, arcs off their circle,
     an extent no board has, holes ignored in draws ...) are in ``GerberRead.warnings``, at most
-    five of each kind plus a count.
+    five of each kind plus a count. Deprecated constructs of known meaning (image commands, older
+    syntax, NUL padding ...: :mod:`sensorcheck.fab.dialect`) are read with a warning and named in
+    ``GerberRead.constructs``; ``strict`` refuses them instead.
     """
     if not arc_tolerance_mm > 0:
         raise ValueError("arc_tolerance_mm must be > 0")
     if len(data) > limits.max_file_bytes:
         raise LimitError(name, None, f"file of {len(data)} bytes", f"at most limits.max_file_bytes = {limits.max_file_bytes}")
     with _gc_paused():
-        return _read(data, name, arc_tolerance_mm, limits)
+        return _read(data, name, arc_tolerance_mm, limits, DialectLog(name, strict))
 
 
 @contextmanager
@@ -135,13 +126,14 @@ def _gc_paused() -> Iterator[None]:
             gc.enable()
 
 
-def _read(data: bytes, name: str, arc_tolerance_mm: float, limits: Limits) -> GerberRead:
-    text = decode_gerber(data, name)
+def _read(data: bytes, name: str, arc_tolerance_mm: float, limits: Limits, log: DialectLog) -> GerberRead:
+    text = decode_gerber(data, name, log)
     if not text.strip():
         raise InputError(name, 1, "empty file", "Gerber commands ending with M02*")
     try:
-        parsed = parse_gerber_text(text, name, limits)
+        parsed = parse_gerber_text(text, name, limits, log=log)
         features = gerber_geometry.objects_to_features(parsed, name, arc_tolerance_mm, limits=limits)
+        features = gerber_geometry.image_transformed(features, parsed.image)
         # the parser's objects are not needed past this point: free them before the unions,
         # which is where a large layer reaches its peak memory
         parsed.gerber.objects = []
@@ -179,6 +171,7 @@ def _read(data: bytes, name: str, arc_tolerance_mm: float, limits: Limits) -> Ge
         dark=dark,
         object_count=len(features),
         bounds_mm=bounds,  # type: ignore[arg-type]
-        warnings=_condense(parsed.warnings),
+        warnings=condense(parsed.warnings, constructs=log.constructs),
         by_net=by_net,
+        constructs=sorted(log.constructs),
     )

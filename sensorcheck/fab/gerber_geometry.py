@@ -38,6 +38,7 @@ from sensorcheck.board.model import Feature, ObjectKind, Polarity, SourceRef
 from sensorcheck.errors import InputError, LimitError
 from sensorcheck.fab.gerber_parser import (
     IDENTITY_XFORM,
+    ImageTransform,
     MacroAperture,
     ParseResult,
     StandardAperture,
@@ -493,7 +494,8 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float,
         line = d.get("_sc_line")
         k = MM_PER_INCH if obj.unit == Inch else 1.0
         if t is go.Flash:
-            shape = cache_for(obj.unit).shape(obj.aperture, d.get("_sc_xform", IDENTITY_XFORM), line)
+            # an aperture keeps the unit it was defined in (a mid-file %MO change leaves it as it was)
+            shape = cache_for(getattr(obj.aperture, "unit", obj.unit)).shape(obj.aperture, d.get("_sc_xform", IDENTITY_XFORM), line)
             count = shape_vertices.get(id(shape))
             if count is None:
                 count = shape_vertices[id(shape)] = int(shapely.get_num_coordinates(shape))
@@ -510,12 +512,13 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float,
             if ap.hole and any(ap.hole):
                 parsed.warnings.append(f"{name}:{line}: aperture D{ap.original_number} has a hole; "
                                        "a draw sweeps the solid shape (the hole is ignored)")
+            ka = MM_PER_INCH if ap.unit == Inch else 1.0
             if ap.shape == "C":  # a circle sweeps a stadium: built directly, grouped by radius
-                key: Any = ("C", ap.params[0] * k * xform[3])
+                key: Any = ("C", ap.params[0] * ka * xform[3])
                 shape = None
                 budget.add(stadium_vertices(key[1] / 2, tol), line)
             else:
-                shape = cache_for(obj.unit).shape(ap, xform, line, solid=True)
+                shape = cache_for(ap.unit).shape(ap, xform, line, solid=True)
                 key = id(shape)
                 count = hull_vertices.get(key)
                 if count is None:
@@ -527,14 +530,15 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float,
             grp[1].append(i)
             grp[2].append((obj.x1 * k, obj.y1 * k, obj.x2 * k, obj.y2 * k))
             scale = xform[3]
-            widths[i] = (ap.params[0] if ap.shape in "CP" else min(ap.params[0], ap.params[1])) * k * scale
+            widths[i] = (ap.params[0] if ap.shape in "CP" else min(ap.params[0], ap.params[1])) * ka * scale
         elif t is go.Arc:
             ap = obj.aperture
-            if not isinstance(ap, StandardAperture) or ap.shape != "C":
-                raise InputError(name, line, "an arc is drawn with a non-circular aperture",
+            if not isinstance(ap, StandardAperture):  # a macro's or block's sweep has no agreed reading
+                raise InputError(name, line, "an arc is drawn with a macro or block aperture",
                                  "a circle aperture for circular interpolation (Gerber spec section 4.7.2)")
-            scale = d.get("_sc_xform", IDENTITY_XFORM)[3]
-            r = ap.params[0] * k * scale / 2
+            xform = d.get("_sc_xform", IDENTITY_XFORM)
+            scale = xform[3]
+            ka = MM_PER_INCH if ap.unit == Inch else 1.0
             x1, y1, x2, y2 = obj.x1 * k, obj.y1 * k, obj.x2 * k, obj.y2 * k
             cx, cy = x1 + obj.cx * k, y1 + obj.cy * k
             r1, r2 = math.hypot(x1 - cx, y1 - cy), math.hypot(x2 - cx, y2 - cy)
@@ -543,6 +547,25 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float,
                 # (allowing for rounding to the file's coordinate resolution)
                 parsed.warnings.append(f"{name}:{line}: arc radii differ ({r1:.4f} mm at the start, "
                                        f"{r2:.4f} mm at the end); drawn as a spiral between them")
+            if ap.shape != "C":
+                # Gerber spec 2023.08 section 4.7.2 asks for a circle aperture for arcs; older files
+                # use rectangles and obrounds. A draw's image is its aperture swept along the path
+                # (section 4.7): the (convex) solid shape swept along the arc, flattened within the
+                # arc tolerance, as the union of its sweeps along each chord.
+                parsed.dialect.accept(line, "arc with a non-circular aperture",
+                                      f"an arc is drawn with the {ap.shape} aperture D{ap.original_number}",
+                                      "the aperture's solid shape is swept along the arc",
+                                      "a circle aperture for arcs")
+                shape = cache_for(ap.unit).shape(ap, xform, line, solid=True)
+                reach = float(np.abs(shapely.get_coordinates(shape)).max()) if not shape.is_empty else 0.0
+                pts = arc_points(x1, y1, x2, y2, cx, cy, obj.clockwise, tol, extra_radius=reach)
+                paths[i] = shapely.linestrings(pts)
+                widths[i] = (ap.params[0] if ap.shape == "P" else min(ap.params[0], ap.params[1])) * ka * scale
+                seg = np.concatenate((pts[:-1], pts[1:]), axis=1)
+                geoms[i] = shapely.union_all(swept_convex(seg, shape)) if not shape.is_empty else EMPTY
+                budget.add(int(shapely.get_num_coordinates(geoms[i])), line)
+                continue
+            r = ap.params[0] * ka * scale / 2
             pts = arc_points(x1, y1, x2, y2, cx, cy, obj.clockwise, tol, extra_radius=r)
             path = shapely.linestrings(pts)
             paths[i] = path
@@ -571,11 +594,7 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float,
         elif shape.is_empty:
             hull = [EMPTY] * len(idx)
         else:
-            v = np.asarray(shapely.get_coordinates(shapely.convex_hull(shape)))
-            p1 = seg_arr[:, None, 0:2] + v[None, :, :]
-            p2 = seg_arr[:, None, 2:4] + v[None, :, :]
-            pts = np.concatenate((p1, p2), axis=1)
-            hull = shapely.convex_hull(shapely.multipoints(pts))
+            hull = swept_convex(seg_arr, shape)
         lines = shapely.linestrings(seg_arr.reshape(-1, 2, 2))
         for j, i in enumerate(idx):
             geoms[i] = hull[j]
@@ -630,6 +649,57 @@ def objects_to_features(parsed: ParseResult, name: str, arc_tolerance_mm: float,
             width_mm=widths[i],
             path=paths[i],
         ))
+    return features
+
+
+def swept_convex(seg: np.ndarray, shape: BaseGeometry) -> np.ndarray:
+    """Polygons swept by ``shape`` (convex, or its convex hull) along segments (x1, y1, x2, y2).
+
+    The sweep of a convex shape along a segment is the convex hull of the shape at both ends.
+    """
+    v = np.asarray(shapely.get_coordinates(shapely.convex_hull(shape)))
+    p1 = seg[:, None, 0:2] + v[None, :, :]
+    p2 = seg[:, None, 2:4] + v[None, :, :]
+    return shapely.convex_hull(shapely.multipoints(np.concatenate((p1, p2), axis=1)))
+
+
+def image_transformed(features: list[Feature], image: ImageTransform) -> list[Feature]:
+    """The features with the file's deprecated image commands applied (see ImageTransform).
+
+    The affine part (AS, MI, SF, OF, IR/RO) maps every coordinate of every geometry and path; a
+    negative image (IPNEG) becomes a dark box around all objects, first in file order, with every
+    object's polarity inverted after it (so a dark object clears the box, a clear one adds back).
+    """
+    if not image.is_identity():
+        m = np.array([[0.0, 1.0], [1.0, 0.0]]) if image.swap_axes else np.eye(2)
+        m = np.diag([-1.0 if image.mirror_a else 1.0, -1.0 if image.mirror_b else 1.0]) @ m
+        m = np.diag([image.scale_a, image.scale_b]) @ m
+        k = MM_PER_INCH if image.offset_unit == Inch else 1.0
+        off = np.array(image.offset, dtype=float) * k
+        t = math.radians(image.rotation_deg)
+        rot = np.array([[math.cos(t), -math.sin(t)], [math.sin(t), math.cos(t)]])
+        if image.rotation_deg % 90 == 0:  # exact quarter turns: no 6e-17 residues
+            rot = np.round(rot)
+        m, off = rot @ m, rot @ off
+
+        def fn(c: np.ndarray) -> np.ndarray:
+            return c @ m.T + off
+
+        geoms = shapely.transform(np.array([f.geometry for f in features], dtype=object), fn)
+        width_k = min(abs(image.scale_a), abs(image.scale_b))
+        for f, g in zip(features, geoms):
+            f.geometry = g
+            if f.path is not None:
+                f.path = shapely.transform(f.path, fn)
+            if f.width_mm is not None:
+                f.width_mm *= width_k
+    if image.negative and features:
+        bounds = shapely.total_bounds(np.array([f.geometry for f in features], dtype=object))
+        for f in features:
+            f.polarity = "clear" if f.polarity == "dark" else "dark"
+        if np.isfinite(bounds).all():
+            box = shapely.box(*bounds)
+            features = [Feature(geometry=box, polarity="dark", kind="region", source=features[0].source), *features]
     return features
 
 

@@ -15,8 +15,14 @@ What this subclass changes, each pinned by a test in tests/fab/test_gerber_parse
 * the objects made by copying (block flashes, step-and-repeat) are counted against
   ``limits.max_expanded_objects`` before they are made: a file of a few bytes cannot place
   millions of objects whose geometry would take minutes (``ParseResult.expanded_objects``);
-* a file without M02 is refused as truncated; incremental notation, conflicting units, a missing
-  unit or coordinate format, unknown statements and binary data are refused with the line;
+* a file without M02 is refused as truncated; incremental notation, a missing unit or coordinate
+  format, unknown statements and binary data are refused with the line;
+* deprecated constructs of known meaning (Gerber spec 2023.08 chapter 8) are read with a warning
+  naming the file, line and construct, or refused when strict (:mod:`sensorcheck.fab.dialect`):
+  the image commands AS/MI/SF/OF/IR/RO/IP (kept out of gerbonara's coordinate mapping and applied
+  to the whole image afterwards: :class:`ImageTransform`), IN/LN, several G codes in one command,
+  coordinate words out of order, coordinates without a D code, an AD before MO, a mid-file MO
+  change, NUL padding after the last command; arcs with non-circular apertures in the geometry;
 * aperture macros are parsed by our own small parser (gerbonara's goes through ``ast`` for every
   number, which was three quarters of its parse time on real files, and prints a debug line to
   stdout for every macro polygon);
@@ -28,6 +34,7 @@ Nothing here knows about shapely; :mod:`sensorcheck.fab.gerber_geometry` convert
 from __future__ import annotations
 
 import copy
+import dataclasses
 import math
 import re
 from dataclasses import dataclass, field
@@ -38,6 +45,7 @@ from gerbonara.rs274x import GerberFile, GerberParser, GraphicsState
 from gerbonara.utils import MM, Inch, InterpMode
 
 from sensorcheck.errors import InputError, LimitError
+from sensorcheck.fab.dialect import DialectLog, line_of, strip_padding
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
 #: identity aperture transformation: (mirror x, mirror y, rotation in degrees ccw, scale)
@@ -292,6 +300,14 @@ _DECIMAL = r"[\+-]?(?:\d+\.?\d*|\.\d+)"
 # statements some generators write that mean nothing for the image (kept, with a warning)
 _HARMLESS_UNKNOWN = re.compile(r"^(?:IPPOS|IPNEG|INV?.*|LN.*|G90|M01|G04.*|ICAS|AS.*|MI.*|SF.*|OF.*|IR.*)$")
 
+# a mode G code followed by another G code in one command (RS-274-D blocks)
+_LEADING_MODE_G = re.compile(r"^(?P<code>G0?[123]|G7[0145]|G9[01]|G3[67])(?=G)")
+# a coordinate statement: optional G code, X/Y/I/J words in any order, optional D code
+_WORDS = re.compile(r"^(?P<g>G0?[123]|G5[45])?(?P<words>(?:[XYIJ][+-]?\d+)+)(?P<d>D0?[123])?$")
+_WORD = re.compile(r"[XYIJ][+-]?\d+")
+_SEQUENCE_NUMBER = re.compile(r"^N\d+(?P<rest>.*)$", re.DOTALL)
+_DECIMAL_COORD = re.compile(r"^(?=[^.]*\.)(?:G\d+)?(?:[XYIJ][+-]?[\d.]+)+(?:D0?[123])?$")
+
 # gerbonara's warnings, said the way a board designer reads them
 _WARNING_WORDS = [
     ("D01 interpolation with a zero-size aperture", "a draw with a zero-size aperture adds nothing to the image"),
@@ -321,6 +337,38 @@ class ParseResult:
     comments: list[str] = field(default_factory=list)
     #: objects made by copying (block flashes, step-and-repeat), held to limits.max_expanded_objects
     expanded_objects: int = 0
+    #: the deprecated image-wide commands (AS, MI, SF, OF, IR, RO, IP), applied to the final geometry
+    image: "ImageTransform" = field(default_factory=lambda: ImageTransform())
+    #: deprecated constructs read with a warning (or refused when strict); shares ``warnings``
+    dialect: DialectLog = field(default_factory=lambda: DialectLog(""))
+
+
+@dataclass(slots=True)
+class ImageTransform:
+    """The deprecated image-wide commands of a file (Gerber spec 2023.08 section 8.1).
+
+    They apply to the whole image, aperture shapes included (a mirrored film mirrors the pads
+    too), so they are applied to the final geometry, in this order (gerbonara 1.6.3's
+    ``GraphicsState._update_xform`` order, which rotates the offset with the image): axis swap
+    (AS), mirror (MI), scale (SF), offset (OF), rotation (IR and the older RO, counter-clockwise
+    about the origin). A negative image (IPNEG) is the box of the objects with the objects cut
+    out of it.
+    """
+
+    swap_axes: bool = False
+    mirror_a: bool = False
+    mirror_b: bool = False
+    scale_a: float = 1.0
+    scale_b: float = 1.0
+    #: offset as written and the unit it is written in (None: the file's unit once set)
+    offset: tuple[float, float] = (0.0, 0.0)
+    offset_unit: Any = None
+    rotation_deg: float = 0.0
+    negative: bool = False
+
+    def is_identity(self) -> bool:
+        return (not self.swap_axes and not self.mirror_a and not self.mirror_b and self.scale_a == 1.0
+                and self.scale_b == 1.0 and self.offset == (0.0, 0.0) and self.rotation_deg % 360 == 0)
 
 
 class SensorcheckGraphicsState(GraphicsState):
@@ -381,15 +429,22 @@ class SensorcheckGerberParser(GerberParser):
         "aperture_mirroring": r"^LM(?P<mirror>N|XY|X|Y)$",
         "aperture_rotation": fr"^LR(?P<angle>{_DECIMAL})$",
         "aperture_scaling": fr"^LS(?P<scale>{_DECIMAL})$",
+        "layer_rotation": fr"^ROA?(?P<angle>{_DECIMAL})$",
         **{k: v for k, v in GerberParser.STATEMENT_REGEXES.items() if k != "coord"},
     }
 
-    def __init__(self, target: GerberFile, name: str, limits: Limits = DEFAULT_LIMITS) -> None:
+    def __init__(self, target: GerberFile, name: str, limits: Limits = DEFAULT_LIMITS, *, strict: bool = False) -> None:
         super().__init__(target, include_dir=None)
         self.graphics_state = SensorcheckGraphicsState(warn=self.warn, file_settings=self.file_settings)
         self.sc_name = name
         self.sc_limits = limits
-        self.sc_warnings: list[str] = []
+        self.sc_dialect = DialectLog(name, strict)
+        self.sc_warnings: list[str] = self.sc_dialect.warnings  # one list, in file order
+        self.sc_image = ImageTransform()
+        # apertures defined before the unit (deprecated order): given the unit once it is set
+        self.sc_unitless: list[tuple[int, int]] = []  # (D-code, line)
+        self.sc_last_op: str | None = None  # the last D01/D02/D03 written ("1", "2", "3")
+        self._coord_rx = re.compile(self.STATEMENT_REGEXES["coord"])
         self.sc_xform: tuple[bool, bool, float, float] = IDENTITY_XFORM
         self.sc_sr: tuple[int, int, float, float, int, int] | None = None  # x, y, i, j, start, line
         self.sc_blocks: list[tuple[int, int, int]] = []  # (D-code, start index, line)
@@ -426,28 +481,14 @@ class SensorcheckGerberParser(GerberParser):
             if self.eof_found:
                 after_eof = True
                 break
-            n_before = len(objects)
-            for rx, fun in dispatch:
-                m = rx.match(cmd)
-                if m is not None:
-                    try:
-                        fun(m)
-                    except InputError:
-                        raise
-                    except Exception as exc:  # gerbonara's SyntaxError/ValueError/... -> ours, with the line
-                        raise self.error(f"cannot read {self._shorten_line()!r}: {exc}",
-                                         "a valid Gerber (RS-274X) command") from exc
-                    break
-            else:
-                if _HARMLESS_UNKNOWN.match(cmd):
-                    self.warn(f"statement {self._shorten_line()!r} ignored (it does not change the image)")
-                else:
-                    raise self.error(f"unknown statement {self._shorten_line()!r}",
-                                     "a Gerber (RS-274X) command")
-            if len(objects) != n_before:
-                self._tag_new(n_before)
-                if len(objects) + self.sc_extra > max_objects:
-                    raise self._too_many_objects()
+            for part in self._statements(cmd):
+                n_before = len(objects)
+                if not self._dispatch(part, dispatch):
+                    self._older_form(part, dispatch)
+                if len(objects) != n_before:
+                    self._tag_new(n_before)
+                    if len(objects) + self.sc_extra > max_objects:
+                        raise self._too_many_objects()
         last_line = data.count("\n") + (0 if data.endswith("\n") else 1)
         if after_eof:
             self.sc_warnings.append(f"{self.sc_name}: data after M02 ignored")
@@ -458,6 +499,10 @@ class SensorcheckGerberParser(GerberParser):
                              "G37 and M02 at the end of the file", line=last_line)
         if not self.eof_found:
             raise self.error("file ends without M02: truncated?", "M02* as the last command", line=last_line)
+        if self.sc_unitless:
+            number, line = self.sc_unitless[0]
+            raise self.error(f"aperture D{number} is defined but the file never sets a unit",
+                             "%MOMM*% or %MOIN*% in the header", line=line)
         if self.sc_sr is not None:
             self._close_step_repeat()
             self._tag_new(len(objects))
@@ -465,6 +510,101 @@ class SensorcheckGerberParser(GerberParser):
         self.target.unit = self.file_settings.unit
         self.target.file_attrs = self.file_attrs
         self.target.original_path = self.filename
+
+    def _dispatch(self, part: str, dispatch: list[tuple[re.Pattern[str], Callable[[re.Match[str]], None]]]) -> bool:
+        """Run the handler of the first statement pattern ``part`` matches; False when none does."""
+        for rx, fun in dispatch:
+            m = rx.match(part)
+            if m is not None:
+                self._call(fun, m)
+                return True
+        return False
+
+    def _older_form(self, part: str, dispatch: list[tuple[re.Pattern[str], Callable[[re.Match[str]], None]]]) -> None:
+        """A statement no pattern reads: an older form of known meaning (with a warning), else refused."""
+        seq = _SEQUENCE_NUMBER.match(part)
+        if seq is not None:
+            # RS-274-D block sequence numbers (N<n>): they number blocks, nothing else
+            self.sc_dialect.accept(self.lineno, "N sequence number", f"{part[:30]!r} starts with a sequence number",
+                                   "the number is ignored", "no N codes (RS-274X)")
+            for sub in self._statements(seq["rest"]) if seq["rest"] else ():
+                if not self._dispatch(sub, dispatch):
+                    self._older_form(sub, dispatch)
+            return
+        if any(ch.isspace() for ch in part):
+            squeezed = "".join(part.split())
+            self.sc_dialect.accept(self.lineno, "spaces inside a command", f"{part[:30]!r} holds spaces or line breaks",
+                                   "read without them", "no whitespace inside a command")
+            if not self._dispatch(squeezed, dispatch):
+                self._older_form(squeezed, dispatch)
+            return
+        fixed = self._reordered(part)
+        if fixed is not None:
+            self._call(self._parse_coord, dispatch[0][0].match(fixed))
+        elif _DECIMAL_COORD.match(part):
+            # no reading is agreed: the FS format says integers, a point says otherwise
+            raise self.error(f"coordinate with a decimal point {self._shorten_line()!r}",
+                             "integer coordinates in the %FS format (spec section 4.2.2)")
+        elif _HARMLESS_UNKNOWN.match(part):
+            self.warn(f"statement {self._shorten_line()!r} ignored (it does not change the image)")
+        else:
+            raise self.error(f"unknown statement {self._shorten_line()!r}", "a Gerber (RS-274X) command")
+
+    def _call(self, fun: Callable[[re.Match[str]], None], m: re.Match[str] | None) -> None:
+        """Run one statement's handler; gerbonara's SyntaxError/ValueError/... become ours, with the line."""
+        try:
+            fun(m)  # type: ignore[arg-type]
+        except InputError:
+            raise
+        except Exception as exc:
+            raise self.error(f"cannot read {self._shorten_line()!r}: {exc}", "a valid Gerber (RS-274X) command") from exc
+
+    def _statements(self, cmd: str) -> list[str]:
+        """One command as the statements it holds, for the older RS-274-D word order.
+
+        * ``G75G03I150J0X3550Y1701D01``: RS-274-D blocks hold several codes; a mode G code
+          (G01-G03, G74/G75, G70/G71, G90/G91, G36/G37) before another G code is its own statement
+          (Gerber spec 2023.08 section 8.3.1 deprecates even G01-G03 with D01 in one command);
+        Read with a warning (refused when strict); :meth:`_reordered` does the same for coordinate
+        words in another order than X, Y, I, J.
+        """
+        if "*" in cmd and not cmd.startswith("AM"):
+            # several parameters in one %...% block ("%FSLAX24Y24*MOIN*%", "%SFA1B1*ASAXBY*%"),
+            # which RS-274X allowed from the start: each read in turn (a macro's '*' are its own)
+            return [p for part in cmd.split("*") if part.strip() for p in self._statements(part.strip())]
+        if cmd[:1] != "G" or "G" not in cmd[1:]:
+            return [cmd]  # the common case, kept cheap
+        parts: list[str] = []
+        rest = cmd
+        while (m := _LEADING_MODE_G.match(rest)) is not None:
+            parts.append(m["code"])
+            rest = rest[m.end("code"):]
+        if parts:
+            self.sc_dialect.accept(self.lineno, "several G codes in one command",
+                                   f"{cmd[:40]!r} combines {len(parts) + 1} codes",
+                                   "each code read in turn, as an RS-274-D block",
+                                   "one G code per command (e.g. G75*G03X..Y..I..J..D01*)")
+        parts.append(rest)
+        return parts
+
+    def _reordered(self, cmd: str) -> str | None:
+        """A coordinate statement with its words put in X, Y, I, J order (None: not one)."""
+        rest = cmd
+        m = _WORDS.match(rest)
+        if m is not None and m["words"]:
+            words = _WORD.findall(m["words"])
+            letters = [w[0] for w in words]
+            twice = [ch for ch in "XYIJ" if letters.count(ch) > 1]
+            if twice:  # which of the two was meant is not known: refused
+                raise self.error(f"coordinate {twice[0]} given twice in {rest[:40]!r}",
+                                 "each of X, Y, I, J at most once per statement")
+            ordered = sorted(words, key=lambda w: "XYIJ".index(w[0]))
+            if ordered != words:
+                self.sc_dialect.accept(self.lineno, "coordinate words out of order",
+                                       f"{rest[:40]!r} writes {''.join(letters)}",
+                                       "each word read by its letter (X, Y, I, J)", "X, Y, I, J in this order")
+                return (m["g"] or "") + "".join(ordered) + (m["d"] or "")
+        return None
 
     def _too_many_objects(self) -> LimitError:
         limit = self.sc_limits.max_gerber_objects
@@ -572,10 +712,33 @@ class SensorcheckGerberParser(GerberParser):
             if raw and len(raw.lstrip("+-").lstrip("0")) > _MAX_COORD_DIGITS:
                 raise self.error(f"{axis} coordinate of {len(raw.lstrip('+-'))} digits",
                                  f"at most {_MAX_COORD_DIGITS} significant digits (format 6.6 at most)")
+        if op is None and (groups[2] or groups[4] or groups[6] or groups[8]):
+            match = self._modal_operation(match)
+            op = match.groups()[9]
+        if op is not None:
+            self.sc_last_op = op
         region = self.current_region
         super()._parse_coord(match)
         if self.current_region is not region and self.current_region is not None:
             self._tag_region(self.current_region)
+
+    def _modal_operation(self, match: re.Match[str]) -> re.Match[str]:
+        """A coordinate statement without D code, given the operation code it repeats.
+
+        Gerber spec 2023.08 section 8.3.2 (deprecated): after a D01 the D01 is modal. RS-274-D,
+        which the older files follow, makes every D code modal, and gerbonara 1.6.3 repeats the
+        last one for the files it knows (an implied double D02 in a Mentor export): so the last
+        D01/D02/D03 repeats. With no D code before it, a move (D02): nothing is drawn that the
+        file does not say (a reading of our own; the spec leaves it undefined).
+        """
+        op = self.sc_last_op or "2"
+        self.sc_dialect.accept(self.lineno, "coordinates without a D code",
+                               f"{match.string[:40]!r} has no operation code",
+                               f"read as D0{op} ({'the last operation code repeats' if self.sc_last_op else 'a move: no D code before it'})",
+                               "an explicit D01, D02 or D03 on every coordinate statement")
+        fixed = self._coord_rx.match(match.string + "D0" + op)
+        assert fixed is not None
+        return fixed
 
     def _parse_region_start(self, match: re.Match[str]) -> None:
         super()._parse_region_start(match)
@@ -671,7 +834,12 @@ class SensorcheckGerberParser(GerberParser):
     def _parse_aperture_definition(self, match: re.Match[str]) -> None:
         shape = match["shape"]
         if self.file_settings.unit is None:
-            raise self.error("aperture defined before the unit", "%MOMM*% or %MOIN*% before any aperture")
+            # Gerber spec 2023.08 section 4.2.1: MO is a file-wide setting, written once in the header;
+            # an aperture defined before it takes the unit the file then sets (objects before the unit
+            # stay refused: their coordinates have no unit yet)
+            self.sc_dialect.accept(self.lineno, "%AD before %MO", f"aperture D{match['number']} is defined before the unit",
+                                   "its sizes are read in the unit the file sets next", "%MO before the first %AD")
+            self.sc_unitless.append((int(match["number"]), self.lineno))
         params = tuple(float(v) for v in match["modifiers"].strip(" ,").split("X")) if match["modifiers"] else ()
         number = int(match["number"])
         for p in params:
@@ -720,9 +888,27 @@ class SensorcheckGerberParser(GerberParser):
     def _set_unit(self, unit: Any, written: str) -> None:
         current = self.file_settings.unit
         if current is not None and current != unit:
-            raise self.error(f"{written} conflicts with the unit set before ({current.shorthand})",
-                             "one unit for the whole file")
+            # Gerber spec 2023.08 section 4.2.1 allows MO once per file; older files switch mid-file.
+            # Read as gerbv and gerbonara do: what comes after is in the new unit, what came before
+            # keeps its own (every object and aperture carries the unit it was made in).
+            self.sc_dialect.accept(self.lineno, "mid-file %MO change",
+                                   f"{written} changes the unit from {current.shorthand} to {unit.shorthand}",
+                                   "what follows is read in the new unit, what came before keeps its own",
+                                   "one unit for the whole file")
+            point = self.graphics_state.point
+            if point is not None:  # the current point, kept in file units, is the same place in the new unit
+                k = current.convert_to(unit, 1.0)
+                self.graphics_state.point = (point[0] * k, point[1] * k)
         self.graphics_state.unit = self.file_settings.unit = unit
+        if self.sc_unitless:
+            for number, _line in self.sc_unitless:
+                ap = self.aperture_map[number]
+                self.aperture_map[number] = new = dataclasses.replace(ap, unit=unit)
+                if self.graphics_state.aperture is ap:
+                    self.graphics_state.aperture = new
+            self.sc_unitless = []
+        if self.sc_image.offset_unit is None:
+            self.sc_image.offset_unit = unit
 
     def _parse_unit_mode(self, match: re.Match[str]) -> None:
         self._set_unit(MM if match["unit"] == "MM" else Inch, f"%MO{match['unit']}*%")
@@ -734,33 +920,93 @@ class SensorcheckGerberParser(GerberParser):
     def _parse_old_unit(self, match: re.Match[str]) -> None:
         self._set_unit(Inch if match["mode"] == "G70" else MM, match["mode"])
 
-    # Deprecated image-wide commands (spec 2023.08 section 8.1): gerbonara maps coordinates
-    # through IR/MI/SF but not the aperture shapes, and treats IPNEG as inverted object
-    # polarity (a negative image has a dark background). Anything but the neutral value
-    # would be misread, so it is refused.
+    # Deprecated image-wide commands (spec 2023.08 section 8.1). gerbonara maps coordinates through
+    # IR/MI/SF/OF but not the aperture shapes: its graphics state is kept neutral here, and the
+    # whole image (shapes included) is transformed after the geometry is built (ImageTransform).
+    def _image_command(self, construct: str, written: str, neutral: bool, reading: str, expected: str) -> None:
+        if neutral:
+            return
+        if self.target.objects or self.current_region is not None:
+            # the spec makes these image-wide; a change after objects has no agreed reading
+            raise self.error(f"{written} after graphical objects: the image transformation changes mid-file",
+                             f"{construct} in the header, before any object")
+        self.sc_dialect.accept(self.lineno, construct, f"{written} (deprecated image command)", reading, expected)
+
     def _parse_image_polarity(self, match: re.Match[str]) -> None:
-        if match["polarity"] != "POS":
-            raise self.error("negative image polarity (%IPNEG*%, deprecated) is not supported",
-                             "%IPPOS*% or no IP command")
+        negative = match["polarity"] == "NEG"
+        self._image_command("%IPNEG (negative image)", f"%IP{match['polarity']}*%", negative == self.sc_image.negative,
+                            "drawn as the box around the objects with the objects cut out of it",
+                            "%IPPOS*% or no IP command")
+        self.sc_image.negative = negative
+
+    def _rotation(self, construct: str, written: str, angle: float, expected: str) -> None:
+        if angle % 90 != 0:
+            raise self.error(f"{written}: rotation by {angle:g} degrees", "0, 90, 180 or 270 degrees")
+        self._image_command(construct, written, angle % 360 == self.sc_image.rotation_deg % 360,
+                            f"the image is rotated by {angle % 360:g} degrees counter-clockwise about the origin",
+                            expected)
+        self.sc_image.rotation_deg = angle % 360
 
     def _parse_image_rotation(self, match: re.Match[str]) -> None:
-        if int(match["rotation"]) % 360 != 0:
-            raise self.error(f"image rotation %IR{match['rotation']}*% (deprecated) is not supported",
-                             "%IR0*% or no IR command")
+        self._rotation("%IR (image rotation)", f"%IR{match['rotation']}*%", float(match["rotation"]),
+                       "%IR0*% or no IR command")
+
+    def _parse_layer_rotation(self, match: re.Match[str]) -> None:
+        # RO (rotate), an RS-274X parameter of the 1990s that gerbv reads as a rotation of the layer
+        # about the origin, counter-clockwise in degrees (from memory of gerbv's reader); read like IR
+        self._rotation("%RO (rotation)", f"%RO{match['angle']}*%", float(match["angle"]), "no RO command")
 
     def _parse_mirror_image(self, match: re.Match[str]) -> None:
-        if (match["ma"] or "0") != "0" or (match["mb"] or "0") != "0":
-            raise self.error("image mirroring (%MI...*%, deprecated) is not supported", "%MIA0B0*% or no MI command")
+        # a missing A or B is 0 (no mirroring) in the specification (gerbonara 1.6.3 takes B as 1)
+        ma, mb = (match["ma"] or "0") == "1", (match["mb"] or "0") == "1"
+        self._image_command("%MI (image mirror)", f"%MIA{int(ma)}B{int(mb)}*%",
+                            (ma, mb) == (self.sc_image.mirror_a, self.sc_image.mirror_b),
+                            f"the image is mirrored{' in x' if ma else ''}{' and' if ma and mb else ''}"
+                            f"{' in y' if mb else ''} about the origin", "%MIA0B0*% or no MI command")
+        self.sc_image.mirror_a, self.sc_image.mirror_b = ma, mb
 
     def _parse_scale_factor(self, match: re.Match[str]) -> None:
         a = float(match["sa"]) if match["sa"] else 1.0
         b = float(match["sb"]) if match["sb"] else 1.0
-        if a != 1.0 or b != 1.0:
-            raise self.error("image scaling (%SF...*%, deprecated) is not supported", "%SFA1B1*% or no SF command")
+        if not (0 < a <= _MAX_APERTURE_SCALE and 0 < b <= _MAX_APERTURE_SCALE):
+            raise self.error(f"image scale %SFA{a:g}B{b:g}*%", f"scale factors > 0 and at most {_MAX_APERTURE_SCALE:g}")
+        self._image_command("%SF (image scale)", f"%SFA{a:g}B{b:g}*%", (a, b) == (self.sc_image.scale_a, self.sc_image.scale_b),
+                            f"the whole image (apertures too) is scaled by {a:g} in x and {b:g} in y about the origin",
+                            "%SFA1B1*% or no SF command")
+        self.sc_image.scale_a, self.sc_image.scale_b = a, b
+
+    def _parse_offset(self, match: re.Match[str]) -> None:
+        a = float(match["a"]) if match["a"] else 0.0
+        b = float(match["b"]) if match["b"] else 0.0
+        if not (abs(a) <= _MAX_APERTURE_PARAM and abs(b) <= _MAX_APERTURE_PARAM):
+            raise self.error(f"image offset %OFA{a:g}B{b:g}*%", f"an offset of at most {_MAX_APERTURE_PARAM:g}")
+        self._image_command("%OF (image offset)", f"%OFA{a:g}B{b:g}*%", (a, b) == self.sc_image.offset,
+                            f"the image is moved by ({a:g}, {b:g}) in the file's unit", "%OFA0B0*% or no OF command")
+        self.sc_image.offset = (a, b)
+        self.sc_image.offset_unit = self.file_settings.unit
 
     def _parse_axis_selection(self, match: re.Match[str]) -> None:
-        if match["axes"] != "AXBY":
-            raise self.error("axis swap (%ASAYBX*%, deprecated) is not supported", "%ASAXBY*% or no AS command")
+        swap = match["axes"] == "AYBX"
+        self._image_command("%AS (axis select)", f"%AS{match['axes']}*%", swap == self.sc_image.swap_axes,
+                            "x and y are swapped (A data on the y axis)", "%ASAXBY*% or no AS command")
+        self.sc_image.swap_axes = swap
+
+    def _parse_allegro_legacy_params(self, match: re.Match[str]) -> None:
+        self._parse_image_rotation(match)
+        self._parse_offset(match)
+        self._parse_image_polarity(match)
+        self._parse_mirror_image(match)
+        self._parse_scale_factor(match)
+
+    def _parse_image_name(self, match: re.Match[str]) -> None:
+        # spec 2023.08 section 8.1 (IN): a name for the image, no effect on it
+        self.sc_dialect.accept(self.lineno, "%IN (image name)", f"%IN{match['name'][:30]}*%", "ignored: a name does not change the image",
+                               "a G04 comment or the .FileFunction attribute")
+
+    def _parse_load_name(self, match: re.Match[str]) -> None:
+        # spec 2023.08 section 8.1 (LN): names the objects that follow, no effect on the image
+        self.sc_dialect.accept(self.lineno, "%LN (load name)", f"%LN{match['name'][:30]}*%", "ignored: a name does not change the image",
+                               "a G04 comment")
 
     def _parse_include_file(self, match: re.Match[str]) -> None:
         raise self.error("include files (IF) are not read", "a self-contained Gerber file")
@@ -784,27 +1030,40 @@ class SensorcheckGerberParser(GerberParser):
         super()._parse_attribute(match)
 
 
-def decode_gerber(data: bytes, name: str) -> str:
-    """Bytes -> text, refusing binary data with the line of the first bad byte."""
+def decode_gerber(data: bytes, name: str, log: DialectLog | None = None) -> str:
+    """Bytes -> text, refusing binary data with the line of the first bad byte.
+
+    NUL (and CP/M end-of-file 0x1a) bytes after the last command are padding some exporters and
+    file transfers add: dropped with a warning (``log``; refused when strict). Binary bytes inside
+    the command stream stay refused. Line ends may be LF, CR LF or a bare CR (old Mac style).
+    """
+    data = strip_padding(data, log)
     bad = re.search(rb"[\x00-\x08\x0b\x0e-\x1f\x7f]", data)
     if bad is not None:
-        line = data.count(b"\n", 0, bad.start()) + 1
+        line = line_of(data[:bad.start()])
         raise InputError(name, line, f"binary data (byte 0x{data[bad.start()]:02x}) in a Gerber file",
                          "text (Gerber RS-274X is ASCII)")
     try:
-        return data.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        line = data.count(b"\n", 0, exc.start) + 1
-        try:
-            return data.decode("latin-1")
-        except UnicodeDecodeError:  # pragma: no cover - latin-1 decodes every byte
-            raise InputError(name, line, "not UTF-8 text", "a UTF-8 text file") from exc
+        text = data.decode("utf-8")
+    except UnicodeDecodeError:
+        text = data.decode("latin-1")  # every byte decodes: a comment in a legacy code page
+    if "\r" in text:  # CR LF and bare CR (old Mac) line ends: lines counted right in every message
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
+    return text
 
 
-def parse_gerber_text(text: str, name: str, limits: Limits = DEFAULT_LIMITS) -> ParseResult:
-    """Parse Gerber text with our parser subclass; InputError for anything it cannot read."""
+def parse_gerber_text(text: str, name: str, limits: Limits = DEFAULT_LIMITS, *,
+                      log: DialectLog | None = None) -> ParseResult:
+    """Parse Gerber text with our parser subclass; InputError for anything it cannot read.
+
+    ``log`` carries the warnings (and strictness) of the file's reading so far (see decode_gerber);
+    by default a new, lenient one.
+    """
     target = GerberFile()
-    parser = SensorcheckGerberParser(target, name, limits)
+    parser = SensorcheckGerberParser(target, name, limits, strict=log.strict if log is not None else False)
+    if log is not None:
+        parser.sc_dialect = log
+        parser.sc_warnings = log.warnings
     try:
         parser.parse(text, filename=name)
     except InputError:
@@ -821,5 +1080,7 @@ def parse_gerber_text(text: str, name: str, limits: Limits = DEFAULT_LIMITS) -> 
     attrs = {k: list(v) for k, v in parser.file_attrs.items()}
     decimals = parser.file_settings.number_format[1] or 6
     resolution_mm = 10.0**-decimals * (25.4 if units == "inch" else 1.0)
+    if parser.sc_image.offset_unit is None:
+        parser.sc_image.offset_unit = unit
     return ParseResult(target, units, resolution_mm, attrs, parser.sc_warnings, list(target.comments),
-                       expanded_objects=parser.sc_expanded)
+                       expanded_objects=parser.sc_expanded, image=parser.sc_image, dialect=parser.sc_dialect)

@@ -572,6 +572,12 @@ def identify(
         if by_name.note and content != "excellon":  # weak extension (.txt ...): the content must agree
             return _by_content(name, content, generator, by_name)
         return replace(by_name, kind="excellon", note=None, generator=generator)
+    if by_name.role == "job" and content == "gerber":
+        # the job file's early form in Gerber syntax (%TJ attributes, before the JSON job format):
+        # no reader for it, so not understood rather than a broken JSON job file
+        return Identification(name, None, None, identified_by="content", generator=generator,
+                              note="Gerber job file in the early Gerber syntax (%TJ attributes): not read "
+                                   "(the JSON job file is)")
     if by_name.role in ("job", "netlist", "components"):
         return by_name
     if by_name.kind == "gerber":  # a Gerber layer by name (or a Gerber name without a side)

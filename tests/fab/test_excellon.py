@@ -178,10 +178,7 @@ def test_number_formats() -> None:
         (b"", None, "Excellon program"),
         (b"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR", 1, "Excellon text"),  # \x89 on line 1
         (b"M48\nMETRIC\nT1C0.8\n%\nT1\nX1.0Y1.0\nX2.0Y", 7, "M30"),  # truncated: no M30
-        (b"M48\nMETRIC\nT1C0.8\n%\nT2\nX1.0Y1.0\nM30\n", 5, "T2C"),  # undefined tool
-        (b"M48\nMETRIC\nT1\n%\nM30\n", 3, None),  # tool without diameter is read as a selection
         (b"M48\nMETRIC\nT1C0.8\n%\nT1\nhello world\nM30\n", 6, "an Excellon command"),
-        (b"M48\nMETRIC\nT1C0.8\n%\nX1.0Y1.0\nM30\n", 5, "tool selection"),
         (b"M48\nMETRIC\nT1C0.8\n%\nT1\nX1.0Y1.0\nM30\nX2.0Y2.0\n", 8, "nothing after M30"),
         (b"just some text\nthat is not a drill file\n", 1, None),
     ],
@@ -196,6 +193,21 @@ def test_bad_drill_files_name_file_line_and_expectation(data: bytes, line: int |
     if expected is not None:
         assert expected in (err.expected or "")
     assert err.expected
+
+
+@pytest.mark.parametrize(
+    "data, line, expected",
+    [
+        (b"M48\nMETRIC\nT1C0.8\n%\nT2\nX1.0Y1.0\nM30\n", 5, "T2C"),  # undefined tool
+        (b"M48\nMETRIC\nT1C0.8\n%\nX1.0Y1.0\nM30\n", 5, "tool selection"),  # hole before a tool
+    ],
+)
+def test_dialects_refused_when_strict(data: bytes, line: int, expected: str) -> None:
+    # read with a warning by default (tests/fab/test_dialects.py); --strict refuses them as before
+    with pytest.raises(InputError) as exc:
+        read_excellon(data, "bad.drl", strict=True)
+    assert exc.value.line == line and expected in (exc.value.expected or "")
+    assert "refused by --strict" in exc.value.message
 
 
 # --- robustness: mutated real files either read or raise our InputError (issue 6, item 1) ----------

@@ -30,12 +30,12 @@ def mm(v: float) -> str:
     return str(round(v * 1_000_000))
 
 
-def refused(data: bytes, limits: Limits | None = None) -> InputError:
+def refused(data: bytes, limits: Limits | None = None, strict: bool = False) -> InputError:
     with pytest.raises(InputError) as err:
         if limits is None:
-            read_gerber(data, "bad.gbr")
+            read_gerber(data, "bad.gbr", strict=strict)
         else:
-            read_gerber(data, "bad.gbr", limits=limits)
+            read_gerber(data, "bad.gbr", limits=limits, strict=strict)
     assert err.value.file == "bad.gbr"
     return err.value
 
@@ -81,9 +81,10 @@ def test_missing_unit_before_aperture() -> None:
 
 
 @pytest.mark.parametrize("second", ["%MOIN*%", "G70*"])
-def test_conflicting_units(second: str) -> None:
-    e = refused(gbr(f"%ADD10C,1*%\n{second}\nD10*\nX0Y0D03*\n"))
-    assert e.line == 4 and "conflicts" in e.message
+def test_conflicting_units_refused_when_strict(second: str) -> None:
+    # read with a warning by default (tests/fab/test_dialects.py); --strict keeps the refusal
+    e = refused(gbr(f"%ADD10C,1*%\n{second}\nD10*\nX0Y0D03*\n"), strict=True)
+    assert e.line == 4 and "refused by --strict" in e.message
 
 
 def test_same_unit_twice_is_fine() -> None:
@@ -117,9 +118,10 @@ def test_empty_file() -> None:
     assert refused(b"  \n").line == 1
 
 
-def test_arc_with_rectangle_is_refused() -> None:
-    # spec section 4.7.2: circular interpolation needs a circle aperture.
-    e = refused(gbr("%ADD10R,1X1*%\nD10*\nG75*\nG03*\nX0Y0D02*\nX2000000Y0I1000000J0D01*\n"))
+def test_arc_with_rectangle_is_refused_when_strict() -> None:
+    # spec section 4.7.2: circular interpolation needs a circle aperture (read with a warning by
+    # default: tests/fab/test_dialects.py).
+    e = refused(gbr("%ADD10R,1X1*%\nD10*\nG75*\nG03*\nX0Y0D02*\nX2000000Y0I1000000J0D01*\n"), strict=True)
     assert e.line == 8
 
 
@@ -224,10 +226,10 @@ def test_generator_from_file_attribute_or_comment() -> None:
 
 
 @pytest.mark.parametrize("cmd", ["%IPNEG*%", "%IR90*%", "%MIA1B0*%", "%SFA2B1*%", "%ASAYBX*%"])
-def test_deprecated_image_transformations_are_refused(cmd: str) -> None:
-    # spec section 8.1 (deprecated commands): these change the whole image; gerbonara would apply
-    # them to coordinates only (or flip object polarity for IPNEG), a silent misread.
-    e = refused(gbr(f"{cmd}\n%ADD10R,1X2*%\nD10*\nX0Y0D03*\n"))
+def test_deprecated_image_transformations_are_refused_when_strict(cmd: str) -> None:
+    # spec section 8.1 (deprecated commands): these change the whole image; read by default
+    # (tests/fab/test_dialects.py), refused by --strict.
+    e = refused(gbr(f"{cmd}\n%ADD10R,1X2*%\nD10*\nX0Y0D03*\n"), strict=True)
     assert e.line == 3
 
 
