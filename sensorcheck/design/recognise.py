@@ -56,6 +56,7 @@ from sensorcheck.design.sensors import (
     CROSS_LAYER_GAP_MM,
     FACING_GAP_MM,
     SEGMENT_GAP_MAX_MM,
+    TRACE_WIDTH_MAX_MM,
     arrange,
     cluster_nodes,
     facing_nodes,
@@ -202,6 +203,11 @@ def _piece_rejection(board: Board, la: Layer, p: Polygon, paste: BaseGeometry, e
                      holes: list[tuple[Point, float]], pins: list[tuple[Point, str]]) -> str | None:
     if p.area < MIN_PAD_MM2:
         return f"{p.area:.1f} mm2: smaller than an electrode (a via or a small part's pad)"
+    rect = p.minimum_rotated_rectangle
+    if isinstance(rect, Polygon):
+        (x0, y0), (x1, y1), (x2, y2) = shapely.get_coordinates(rect)[:3].tolist()
+        if min(math.hypot(x1 - x0, y1 - y0), math.hypot(x2 - x1, y2 - y1)) <= TRACE_WIDTH_MAX_MM:
+            return f"a line at most {TRACE_WIDTH_MAX_MM:g} mm wide: routing, not area copper"
     if p.area < PIN_PAD_MAX_MM2:
         for pt, who in pins:
             if p.contains(pt):
@@ -260,6 +266,10 @@ def _candidates(board: Board, nets: Iterable[str], rec: Recognition) -> dict[str
                 rec.rejected.append(Rejected(net, la.name, "only lines: a routing or jumper line between parts, "
                                                            "not area copper"))
     return out
+
+
+def _is_proximity_name(net: str) -> bool:
+    return re.search(r"PROX|HANDSENSE|HAND_SENSE|PRESENCE", net.upper()) is not None
 
 
 def _main_cand(cands: list[_Cand]) -> _Cand:
@@ -382,6 +392,10 @@ def recognise(board: Board, named_roles: dict[str, str] | None = None) -> Recogn
             if not any(x.net == n for x in rec.rejected):
                 rec.rejected.append(Rejected(n, "-", "its name suggests a sensor but it has no copper on an "
                                                      "outer layer"))
+    # proximity electrodes the names call so but whose copper is not here (a wire or the case)
+    prox = [n for n, r in named.items() if r == "self" and n not in cands and _is_proximity_name(n)
+            and n in set(board.net_names())]
+    rec.rejected = [x for x in rec.rejected if x.net not in prox]
     paste = {la.name: _side_union(board, "paste", la.side) for la in _outer(board)}
     named_tx = sorted((n for n, r in named.items() if r == "transmitter"), key=natural_key)
     named_rx = sorted((n for n, r in named.items() if r == "receiver"), key=natural_key)
@@ -393,6 +407,12 @@ def recognise(board: Board, named_roles: dict[str, str] | None = None) -> Recogn
     # self sensors
     rest = {n: cs for n, cs in cands.items() if n not in used}
     found.extend(_self_sensors(board, rest, named, rec))
+    for n in sorted(prox, key=natural_key):
+        la = next(la for la in board.copper_layers() if n in la.by_net)
+        found.append(Found(name="", kind="proximity", layer=la.name, face="", nets=(n,),
+                           evidence=["a proximity electrode by name; only thin copper of it is on this board (the "
+                                     "electrode itself is likely a wire, a spring or the case)"],
+                           review=["no area copper of it on the board: check where its electrode is"]))
     _name_and_face(board, found, cands)
     rec.sensors = found
     return rec
@@ -587,7 +607,7 @@ def _self_sensors(board: Board, cands: dict[str, list[_Cand]], named: dict[str, 
         filled = Polygon(big.exterior)
         solidity = big.area / filled.area if filled.area > 0 else 1.0
         name_says = named.get(n)
-        if re.search(r"PROX|HANDSENSE|HAND_SENSE|PRESENCE", n.upper()):
+        if _is_proximity_name(n):
             kind, why = "proximity", "a proximity electrode by name"
         elif c.area > MAX_BUTTON_MM2:
             kind, why = "proximity", f"one electrode of {c.area:.0f} mm2 (over {MAX_BUTTON_MM2:g}): a proximity electrode"
