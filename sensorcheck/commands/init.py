@@ -440,6 +440,6 @@ def run(args: argparse.Namespace, *, loader: Callable[[Path], Board] | None = No
         return 0
     _write_atomic(output, text)
     review = sum(1 for line in text.splitlines() if "REVIEW:" in line)
-    print(f"wrote {output}: {review} item(s) marked REVIEW to check", file=sys.stderr)
+    print(f"wrote {output}: {review} item(s) marked REVIEW to check")
     return 0
 

@@ -1,0 +1,64 @@
+"""Sensor recognition (`sensorcheck init`'s config, loaded and built as a user's first check would)
+against truth from outside the recogniser:
+
+- synthetic boards (tests/recognition/synth_boards.py): the answer is known by construction; every
+  kind on a named and an unnamed board, in mm and inch, on both faces (Gerber X2 files read by the
+  real reader);
+- corpus boards (../shared/corpus, skipped without it): tests/corpus/truth/<board>.toml, written
+  from what the boards' designers published (corpus README).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from sensorcheck.board.build import load_board
+from sensorcheck.commands.init import starter_config
+from sensorcheck.design.config import load_config
+from sensorcheck.design.sensors import build_design
+from tests.recognition.synth_boards import variants, write_board
+from tests.recognition.truth import TRUTH_DIR, load_truth, score
+
+#: variants the recogniser gets wrong today (kept visible, not hidden): issue 12 follow-up
+KNOWN_WRONG = {
+    ("mutual-keys", False): "the unnamed interdigitated comb key is not recognised (one of three keys missed)",
+    ("matrix", False): "the unnamed two-layer matrix is found, but not with all of its rows and columns",
+}
+
+
+def _design(folder: Path, tmp_path: Path):
+    board = load_board(folder)
+    cfg = tmp_path / "sensorcheck.toml"
+    cfg.write_text(starter_config(board), encoding="utf-8")
+    return build_design(board, load_config(cfg))
+
+
+@pytest.mark.parametrize(("kind", "named", "units", "face"), variants(),
+                         ids=[f"{k}-{'named' if n else 'unnamed'}-{u}-{f}" for k, n, u, f in variants()])
+def test_synthetic_board(kind: str, named: bool, units: str, face: str, tmp_path: Path) -> None:
+    # source: the board is made with these sensors (synth_boards.py), nothing else that senses
+    if (kind, named) in KNOWN_WRONG:
+        pytest.xfail(KNOWN_WRONG[(kind, named)])
+    truth = write_board(tmp_path / "board", kind, named=named, units=units, face=face)
+    sc = score(kind, _design(tmp_path / "board", tmp_path), truth)
+    assert (sc.right, sc.false) == (sc.truth, 0), sc.details
+
+
+CORPUS_BELOW = {
+    "b08-usb-key": "its three touch electrodes are not told from the other copper (no net names, no help)",
+}
+
+
+@pytest.mark.corpus
+@pytest.mark.parametrize("board_id", sorted(p.stem for p in TRUTH_DIR.glob("*.toml")))
+def test_corpus_board_against_its_designers(board_id: str, shared_dir: Path, tmp_path: Path) -> None:
+    fab = shared_dir / "corpus" / board_id / "fab"
+    if not fab.is_dir():
+        pytest.skip(f"{board_id} not in the corpus")
+    if board_id in CORPUS_BELOW:
+        pytest.xfail(CORPUS_BELOW[board_id])
+    # source: tests/corpus/truth/<board>.toml, from the corpus README's "sensors on the board"
+    sc = score(board_id, _design(fab, tmp_path), load_truth(TRUTH_DIR / f"{board_id}.toml"))
+    assert sc.share >= 0.8, sc.details
