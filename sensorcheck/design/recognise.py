@@ -57,6 +57,7 @@ from sensorcheck.design.sensors import (
     FACING_GAP_MM,
     SEGMENT_GAP_MAX_MM,
     TRACE_WIDTH_MAX_MM,
+    _polys,
     arrange,
     cluster_nodes,
     facing_nodes,
@@ -130,17 +131,6 @@ class Recognition:
 def is_unnamed(net: str) -> bool:
     """Copper no net name was found for carries a geometry id (``~n...``)."""
     return net.startswith("~")
-
-
-def _polys(geom: BaseGeometry) -> list[Polygon]:
-    if geom.is_empty:
-        return []
-    if isinstance(geom, Polygon):
-        return [geom]
-    out: list[Polygon] = []
-    for g in getattr(geom, "geoms", []):
-        out.extend(_polys(g))
-    return out
 
 
 def _outer(board: Board) -> list[Layer]:
