@@ -55,6 +55,7 @@ from sensorcheck.design.roles import natural_key
 from sensorcheck.design.sensors import (
     CROSS_LAYER_GAP_MM,
     FACING_GAP_MM,
+    NODE_CORE_RADIUS_MM,
     SEGMENT_GAP_MAX_MM,
     TRACE_WIDTH_MAX_MM,
     _polys,
@@ -77,11 +78,12 @@ COMPONENT_HOLE_MM = 0.5  # a plated hole at least this wide in a small piece: a 
 TH_PAD_MAX_MM2 = 25.0
 FINGER_ASPECT = 2.5  # long and thin pieces touching the board edge: connector fingers
 EDGE_TOUCH_MM = 1.0
-FINGER_WIDTH_MAX_MM = 2.2  # connector fingers (USB plugs, card edges) are at most this wide
+FINGER_WIDTH_MAX_MM = 2.4  # connector fingers (USB plugs, card edges) are at most this wide
 POUR_SPAN = 0.5
-POUR_MIN_PIECES = 4
+POUR_MIN_PIECES = 3
 POUR_MIN_SHARE = 0.05  # and covers at least this share of the board's box
 PIN_PAD_MAX_MM2 = 20.0  # a smaller piece holding a part's pin (netlist) is that part's pad
+COMB_FILL = 0.3  # thin copper filling this share of its hull is a comb or spiral, not a line
 LOOP_SOLIDITY = 0.35  # a proximity loop: its copper fills at most this share of its outline
 MAX_COORDINATES = 20000  # a net with more outline points is a pour or lettering, not an electrode
 _POWER_RE = re.compile(r"(GND|VCC|VDD|VSS|VBAT|VBUS|VIN|VOUT|^\+|^-|(^|[_.])[0-9]+V[0-9]*([_.]|$)|^V[0-9])")
@@ -218,8 +220,21 @@ def _piece_rejection(board: Board, la: Layer, p: Polygon, paste: BaseGeometry, e
     return None
 
 
-def _candidates(board: Board, nets: Iterable[str], rec: Recognition) -> dict[str, list[_Cand]]:
-    """Electrode copper per net on the outer layers (see the module docstring, step 2)."""
+def _comb_like(geom: BaseGeometry) -> bool:
+    """Thin copper that still covers an area (comb teeth, a spiral): its hull holds a node core and its
+    copper fills at least :data:`COMB_FILL` of the hull (a routed line fills far less)."""
+    hull = geom.convex_hull
+    if not isinstance(hull, Polygon) or hull.area < (2 * NODE_CORE_RADIUS_MM) ** 2:
+        return False
+    return geom.area >= COMB_FILL * hull.area and not hull.buffer(-NODE_CORE_RADIUS_MM).is_empty
+
+
+def _candidates(board: Board, nets: Iterable[str], rec: Recognition,
+                combs: dict[str, list[_Cand]] | None = None) -> dict[str, list[_Cand]]:
+    """Electrode copper per net on the outer layers (see the module docstring, step 2); thin copper that
+    covers an area (combs, spirals) goes to ``combs``: it can face another net as a mutual key."""
+    if combs is None:
+        combs = {}
     edge = board.outline.boundary if board.outline is not None and not board.outline.is_empty else None
     holes = [(Point(h.x_mm, h.y_mm), h.diameter_mm) for h in board.holes
              if h.function != "via" and h.plated is not False]
@@ -250,6 +265,8 @@ def _candidates(board: Board, nets: Iterable[str], rec: Recognition) -> dict[str
             if keep:
                 geom = shapely.union_all(keep)
                 out.setdefault(net, []).append(_Cand(net, la.name, geom, geom.area))
+            elif electrode.is_empty and _comb_like(g):
+                combs.setdefault(net, []).append(_Cand(net, la.name, g, g.area))
             elif why:
                 rec.rejected.append(Rejected(net, la.name, "; ".join(sorted(set(why)))))
             elif electrode.is_empty:
@@ -376,7 +393,8 @@ def recognise(board: Board, named_roles: dict[str, str] | None = None) -> Recogn
     skip = {n for n, r in named.items() if r in (*_REFERENCE, "aggressor", "skip")} | set(rec.reference)
     looked = [n for n in board.net_names() if n not in skip
               and not (_POWER_RE.search(n.upper().rsplit("/", 1)[-1]) and named.get(n) is None)]
-    cands = _candidates(board, looked, rec)
+    combs: dict[str, list[_Cand]] = {}
+    cands = _candidates(board, looked, rec, combs)
     for n, r in named.items():
         if r in ("self", "transmitter", "receiver") and n not in cands and n in set(board.net_names()):
             if not any(x.net == n for x in rec.rejected):
@@ -389,7 +407,12 @@ def recognise(board: Board, named_roles: dict[str, str] | None = None) -> Recogn
     paste = {la.name: _side_union(board, "paste", la.side) for la in _outer(board)}
     named_tx = sorted((n for n, r in named.items() if r == "transmitter"), key=natural_key)
     named_rx = sorted((n for n, r in named.items() if r == "receiver"), key=natural_key)
-    pairs = _pairs(board, cands, named_tx, named_rx, paste)
+    pairs = _pairs(board, {**combs, **cands}, named_tx, named_rx, paste)
+    paired = {x for p in pairs for x in (p.a, p.b)}
+    for n, cs in combs.items():  # a comb facing another net is an electrode after all
+        if n in paired and n not in cands:
+            cands[n] = cs
+            rec.rejected = [x for x in rec.rejected if x.net != n]
     used: set[str] = set()
     found: list[Found] = []
     for comp in _components(pairs):
@@ -466,6 +489,14 @@ def _read_mutual(board: Board, pairs: list[_Pair], cands: dict[str, list[_Cand]]
     # TX side: by name, else by fan-out, else by who surrounds whom
     sides = [[n for n in nets if side[n] == k] for k in (0, 1)]
     tx_side, how, ambiguous = _tx_side(sides, named, adj, geom)
+    layer_of = {x: (_main_cand(cands[x]).layer if x in cands else "") for x in nets}
+    side_layers = [{layer_of[x] for x in sd} for sd in sides]
+    if ambiguous and len(side_layers[0] | side_layers[1]) == 2 and not side_layers[0] & side_layers[1]:
+        area = [sum(_main_cand(cands[x]).area for x in sd if x in cands) for sd in sides]
+        if area[0] != area[1]:
+            # two layers: the side with more copper is nearer the touch, and is taken as the RX
+            tx_side = 0 if area[0] < area[1] else 1
+            how = "by layer (the side with more copper faces the touch: RX; the one under it: TX)"
     txs, rxs = sides[tx_side], sides[1 - tx_side]
     # touching nodes with 2+ nets each side: a matrix (touchpad); else keys
     nodes = [Node(tx=p.a if p.a in txs else p.b, rx=p.b if p.a in txs else p.a, tx_layer=p.layer_a,
@@ -518,7 +549,7 @@ def _tx_side(sides: list[list[str]], named: dict[str, str], adj: dict[str, set[s
         a, b = sides[k], sides[1 - k]
         if all(any(_surrounds(geom[x], geom[y]) for y in adj[x]) for x in a) and not any(
                 _surrounds(geom[y], geom[x]) for y in b for x in adj[y]):
-            return k, "by shape (the TX surrounds the RX)", fan[0] == fan[1]
+            return k, "by shape (the TX surrounds the RX)", False
     if fan[0] != fan[1] and count[0] != count[1]:
         k = 0 if count[0] < count[1] else 1
         return k, "by fan-out (the fewer, more shared lines are taken as TX)", True

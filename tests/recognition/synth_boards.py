@@ -100,8 +100,8 @@ def mutual_keys() -> tuple[Copper, Truth, tuple[float, float, float, float]]:
 
 
 def matrix() -> tuple[Copper, Truth, tuple[float, float, float, float]]:
-    s = {f"Net-(M1-R{k})": box(2, 4 + 7 * k, 32, 8 + 7 * k) for k in range(4)}  # rows on the sensing face
-    o = {f"Net-(M1-C{k})": box(4 + 7 * k, 2, 8 + 7 * k, 32) for k in range(4)}  # columns under them
+    s = {f"Net-(M1-R{k})": box(2, 3.5 + 7 * k, 32, 8.5 + 7 * k) for k in range(4)}  # 5 mm rows on the sensing face
+    o = {f"Net-(M1-C{k})": box(4.5 + 7 * k, 2, 7.5 + 7 * k, 32) for k in range(4)}  # 3 mm columns under them
     truth = [{"kind": "matrix", "nets": ["Net-(M1-*)"], "segments": 8}]
     return {"s": s, "o": o}, truth, (0, 0, 34, 34)
 
@@ -197,7 +197,8 @@ def write_board(folder: Path, kind: str, *, named: bool, units: str, face: str) 
         if not named:
             from sensorcheck.design.roles import matches
 
-            members = [n for n in every if any(matches(n, p) for p in e.pop("nets", []))]
+            pats = e.pop("nets", [])
+            members = [n for n in every if any(matches(n, p) for p in pats)]
             e["places"] = [list(_inside(every[n])) for n in members]
         out.append(e)
     return out
