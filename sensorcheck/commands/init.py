@@ -212,7 +212,7 @@ def starter_config(board: Board, recognition: tuple[Recognition, dict[str, tuple
                 places.append((f, n, role))
                 continue
             if n not in roles or roles[n][0] != role:
-                roles[n] = (role, None, f"recognised from the copper: {f.kind} {f.name}")
+                roles[n] = (role, None, f"recognised from the copper as {f.kind} electrodes (sensors listed above)")
             if f.kind in ("slider", "wheel") and not f.tx:
                 sensor_of[n] = f.name
     grouped_nets = {n for f in groups for n in f.all_nets}

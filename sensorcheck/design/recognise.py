@@ -178,6 +178,10 @@ def reference_by_geometry(board: Board, named_roles: dict[str, str]) -> dict[str
     for net, (area, pieces) in sorted(best.items(), key=lambda kv: -kv[1][0]):
         if pieces < POUR_MIN_PIECES or area < POUR_MIN_SHARE * w * h:
             continue
+        if _POWER_RE.search(net.upper().rsplit("/", 1)[-1]):
+            out[net] = ("ground", f"a supply pour by name spanning the board ({area:.0f} mm2): a reference for "
+                                  "the sensors as ground is")
+            continue
         out[net] = ("ground", f"copper spanning the board ({area:.0f} mm2 in {pieces} pieces and openings, "
                               "reaching many parts): a ground pour or hatch; could be a driven shield")
     return out
