@@ -58,6 +58,7 @@ from sensorcheck.design.sensors import (
     NODE_CORE_RADIUS_MM,
     SEGMENT_GAP_MAX_MM,
     TRACE_WIDTH_MAX_MM,
+    _cluster_pieces,
     _polys,
     arrange,
     cluster_nodes,
@@ -586,25 +587,11 @@ def _self_sensors(board: Board, cands: dict[str, list[_Cand]], named: dict[str, 
         taken.update(members)
     # 2. by geometry: neighbours on one layer in a row or round a circle
     free = [n for n in nets if n not in taken]
-    parent = {n: n for n in free}
-
-    def find(x: str) -> str:
-        while parent[x] != x:
-            parent[x] = parent[parent[x]]
-            x = parent[x]
-        return x
-
-    if len(free) > 1:
-        geoms = [main[n].geometry for n in free]
-        tree = shapely.STRtree(geoms)
-        for i, g in enumerate(geoms):
-            for j in tree.query(g, predicate="dwithin", distance=SEGMENT_GAP_MAX_MM):
-                if main[free[i]].layer == main[free[int(j)]].layer:
-                    parent[find(free[i])] = find(free[int(j)])
-    groups: dict[str, list[str]] = {}
-    for n in free:
-        groups.setdefault(find(n), []).append(n)
-    for members in groups.values():
+    groups: list[list[str]] = []
+    for layer in sorted({main[n].layer for n in free}):
+        on = [n for n in free if main[n].layer == layer]
+        groups += [[on[i] for i in idx] for idx in _cluster_pieces([main[n].geometry for n in on], SEGMENT_GAP_MAX_MM)]
+    for members in groups:
         if len(members) < 3:
             continue
         segs = [Electrode(net=n, role="self", layer=main[n].layer, geometry=main[n].geometry) for n in members]

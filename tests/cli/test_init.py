@@ -185,3 +185,14 @@ def test_explain_lists_sensors_evidence_and_rejected_copper(tmp_path: Path, caps
     assert "mutual-node" in text and "TX: TX1" in text and "RX: RX1" in text  # the ring round the disc
     assert "evidence:" in text and "rejected" in text
     assert "UART_TX on top-copper: only lines" in text  # a line between parts: looked at and rejected
+
+
+def test_cli_folder_without_fabrication_data_is_exit_2(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    """Through the real reader: a folder holding no Gerber, drill or netlist file writes nothing, exit 2."""
+    pytest.importorskip("sensorcheck.board.build")
+    from sensorcheck.cli import main
+
+    (tmp_path / "readme.txt").write_text("no fabrication data here\n")
+    assert main(["init", str(tmp_path)]) == 2
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["readme.txt"]
+    assert capsys.readouterr().out == ""
