@@ -379,9 +379,9 @@ def _bipartite(nets: list[str], adj: dict[str, set[str]]) -> dict[str, int] | No
 
 
 def _surrounds(a: BaseGeometry, b: BaseGeometry) -> bool:
-    """Does ``a`` surround ``b`` (b's centre inside a's outline filled)?"""
+    """Does ``a`` surround ``b`` (a piece of b inside a's outline filled)?"""
     filled = shapely.union_all([Polygon(p.exterior) for p in _polys(a)])
-    return filled.contains(b.centroid) and filled.area > b.area
+    return any(filled.contains(p.representative_point()) and filled.area > p.area for p in _polys(b))
 
 
 # --------------------------------------------------------------------------- recognise

@@ -94,9 +94,23 @@ def mutual_keys() -> tuple[Copper, Truth, tuple[float, float, float, float]]:
         "Net-(K3-Pad1)": _comb(45, 3, 4, up=True),
         "Net-(K3-Pad2)": _comb(46.5, 3.5, 3, up=False).difference(box(40, 3, 70, 4.5)),
     }
-    truth = [{"kind": "mutual-node", "nets": ["Net-(K1-Pad?)"]}, {"kind": "mutual-node", "nets": ["Net-(K2-Pad?)"]},
-             {"kind": "mutual-node", "nets": ["Net-(K3-Pad?)"]}]
-    return {"s": s, "o": {}}, truth, (0, 0, 60, 20)
+    # two interleaved spiral arms, 0.8 mm wide, 0.8 mm apart
+    s["Net-(K4-Pad1)"], s["Net-(K4-Pad2)"] = _spiral(10, 32, 0), _spiral(10, 32, 1)
+    # crossed bars: the RX bar on the sensing face, the TX bar across it under it
+    s["Net-(K5-Pad2)"] = box(26, 30, 38, 34)
+    o = {"Net-(K5-Pad1)": box(30, 26, 34, 38)}
+    truth = [{"kind": "mutual-node", "nets": [f"Net-(K{k}-Pad?)"]} for k in range(1, 6)]
+    return {"s": s, "o": o}, truth, (0, 0, 60, 44)
+
+
+def _spiral(cx: float, cy: float, arm: int) -> BaseGeometry:
+    """One arm of a two-arm Archimedean spiral (pitch 3.2 mm between turns of one arm)."""
+    pts = []
+    for k in range(241):
+        t = 6 * math.pi * k / 240
+        r = 1.5 + 1.6 / math.pi * t
+        pts.append((cx + r * math.cos(t + math.pi * arm), cy + r * math.sin(t + math.pi * arm)))
+    return LineString(pts).buffer(0.4, quad_segs=4)
 
 
 def matrix() -> tuple[Copper, Truth, tuple[float, float, float, float]]:

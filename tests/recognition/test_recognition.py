@@ -59,3 +59,39 @@ def test_corpus_board_against_its_designers(board_id: str, shared_dir: Path, tmp
     # source: tests/corpus/truth/<board>.toml, from the corpus README's "sensors on the board"
     sc = score(board_id, _design(fab, tmp_path), load_truth(TRUTH_DIR / f"{board_id}.toml"))
     assert sc.share >= 0.8, sc.details
+
+
+def test_scanned_keypad_keys_share_lines_and_the_ring_is_the_tx() -> None:
+    """A 3 x 2 keypad scanned by lines: each column's rings on one net, each row's centres on one net
+    (nets named as parts, so the names say nothing).  Source: the board is made so; six separate keys,
+    the ring (surrounding) side is the TX, and every key names its column and row."""
+    from sensorcheck.design.recognise import recognise
+    from tests.design.synth import disc, make_board, ring
+
+    top: dict = {}
+    for c in range(3):
+        top[f"Net-(J{c}-Pad1)"] = [ring(20 * c, 20 * r, 5, 7) for r in range(2)]
+    for r in range(2):
+        top[f"Net-(J{r + 5}-Pad2)"] = [disc(20 * c, 20 * r, 4.3) for c in range(3)]
+    rec = recognise(make_board({"top-copper": top}), {})
+    keys = [f for f in rec.sensors if f.kind == "mutual-node"]
+    assert len(keys) == 6 and len(rec.sensors) == 6
+    assert {f.tx[0] for f in keys} == {f"Net-(J{c}-Pad1)" for c in range(3)}
+    assert {f.rx[0] for f in keys} == {"Net-(J5-Pad2)", "Net-(J6-Pad2)"}
+    assert all("by shape" in f.evidence[0] and not f.review for f in keys)
+    assert len({(f.tx, f.rx) for f in keys}) == 6  # each column-row crossing once
+
+
+def test_keys_whose_sides_cannot_be_told_say_so() -> None:
+    """Two crossed bars (one per layer) without names: nothing tells TX from RX; the key is found and
+    the choice is marked for review.  Source: the board is made so."""
+    from shapely.geometry import box
+
+    from sensorcheck.design.recognise import recognise
+    from tests.design.synth import make_board
+
+    board = make_board({"top-copper": {"~na": box(0, 4, 12, 8)}, "bottom-copper": {"~nb": box(4, 0, 8, 12)}})
+    rec = recognise(board, {})
+    (key,) = rec.sensors
+    assert key.kind == "mutual-node" and key.review
+    assert any("TX" in r and "RX" in r for r in key.review)
