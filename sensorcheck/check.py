@@ -186,7 +186,7 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
                 name=sensor.name,
                 kind=sensor.kind,
                 layer=sensor.layer,
-                nets=sensor.nets,
+                nets=tuple(design.labels.get(n, n) for n in sensor.nets),  # unnamed copper: S1.3
                 box_mm=tuple(round(v, 3) for v in b) if b else None,  # type: ignore[arg-type]
                 values=values,
                 outline_rings=_rings(outline),

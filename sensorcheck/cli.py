@@ -90,8 +90,11 @@ def _parser() -> argparse.ArgumentParser:
 
     init = sub.add_parser("init", help="write a starter sensorcheck.toml from what the board holds")
     init.add_argument("path", help="folder or .zip of fabrication outputs")
-    init.add_argument("--output", type=Path, help="where to write (default: PATH/sensorcheck.toml)")
-    init.add_argument("--force", action="store_true", help="overwrite an existing file")
+    init.add_argument("--output", type=Path, help="write the config to this file (default: standard output)")
+    init.add_argument("--force", action="store_true", help="overwrite an existing --output file")
+    init.add_argument("--explain", action="store_true",
+                      help="print the recognition report: each sensor's kind, nets, face and evidence, and the "
+                           "copper rejected")
     return p
 
 

@@ -1,7 +1,10 @@
-"""``sensorcheck init PATH [--output FILE] [--force]``: write a starter sensorcheck.toml.
+"""``sensorcheck init PATH [--output FILE] [--force] [--explain]``: a starter sensorcheck.toml.
 
-Net names are grouped by the role their names suggest; the stackup is taken from the job
-file when there is one.  Every guess carries a ``# REVIEW:`` comment saying why it was made,
+The sensors are recognised from the copper (``design/recognise.py``); net names, where the
+board has them, suggest roles first.  The config goes to standard output, or to ``--output``
+(never over an existing file without ``--force``, never into the input folder unless asked);
+``--explain`` prints the recognition report.  The stackup is taken from the job file when there
+is one.  Every guess carries a ``# REVIEW:`` comment saying why it was made,
 and what cannot be guessed from fabrication data (the overlay, a battery-powered product)
 is written commented out with a ``# REVIEW:`` line saying what to fill in.  The file loads
 with :func:`sensorcheck.design.config.load_config` as written.
@@ -25,7 +28,7 @@ from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Board, Stackup
 from sensorcheck.design.roles import matches, natural_key
-from sensorcheck.design.sensors import split_electrode
+from sensorcheck.design.recognise import Found, Recognition, is_unnamed, recognise
 
 _COPPER_RE = re.compile(r"^(top|bottom|inner[1-9][0-9]*)-copper$")
 _STACKUP_KINDS = ("copper", "dielectric", "mask", "silk", "paste", "other")
@@ -104,107 +107,6 @@ def guess_roles(nets: list[str]) -> dict[str, tuple[str, str | None, str]]:
     return out
 
 
-#: electrode-like copper (what init proposes for nets whose names say nothing): one solid piece of
-#: 20-900 mm2 (a 5-34 mm disc), at most two holes (LED windows), compact (its outline fills at least
-#: 70 % of its convex hull) and no longer than 5x its width (slider segments are long)
-ELECTRODE_AREA_MM2 = (20.0, 900.0)
-MAX_HOLES = 2
-MIN_SOLIDITY = 0.7
-MAX_ASPECT = 5.0
-MAX_COORDINATES = 5000
-_POWER_RE = re.compile(r"(GND|VCC|VDD|VSS|VBAT|VBUS|VIN|VOUT|^\+|^-|(^|[_.])[0-9]+V[0-9]*([_.]|$)|^V[0-9])")
-
-
-@dataclass(frozen=True, slots=True)
-class Candidate:
-    net: str
-    layer: str
-    x_mm: float
-    y_mm: float
-    area_mm2: float
-    geometry: BaseGeometry
-
-
-def _runs(cands: list[Candidate]) -> dict[str, tuple[str, list[str]]]:
-    """Unnamed candidates that sit next to each other in a line or around a circle (as slider and
-    wheel segments do): net -> (sensor name, member nets in position order)."""
-    from sensorcheck.design.model import Electrode
-    from sensorcheck.design.sensors import SEGMENT_GAP_MAX_MM, arrange
-
-    parent = list(range(len(cands)))
-
-    def find(i: int) -> int:
-        while parent[i] != i:
-            parent[i] = parent[parent[i]]
-            i = parent[i]
-        return i
-
-    for i, a in enumerate(cands):
-        for j in range(i + 1, len(cands)):
-            b = cands[j]
-            if a.layer == b.layer and a.geometry.distance(b.geometry) <= SEGMENT_GAP_MAX_MM:
-                parent[find(i)] = find(j)
-    groups: dict[int, list[int]] = {}
-    for i in range(len(cands)):
-        groups.setdefault(find(i), []).append(i)
-    out: dict[str, tuple[str, list[str]]] = {}
-    counts = {"slider": 0, "wheel": 0}
-    for idx in sorted(groups.values(), key=lambda g: (-cands[g[0]].y_mm, cands[g[0]].x_mm)):
-        if len(idx) < 3:
-            continue
-        segs = [Electrode(net=cands[i].net, role="self", layer=cands[i].layer, geometry=cands[i].geometry) for i in idx]
-        arr = arrange(segs, require_adjacent=True)
-        if arr is None:
-            continue
-        counts[arr.kind] += 1
-        name = f"{'S' if arr.kind == 'slider' else 'W'}{counts[arr.kind]}"
-        members = [segs[k].net for k in arr.order]
-        for n in members:
-            out[n] = (name, members)
-    return out
-
-
-def electrode_candidates(board: Board, skip: set[str]) -> list[Candidate]:
-    """Nets (named or not) on an outer copper layer with one electrode-like solid piece."""
-    cu = board.copper_layers()
-    outer = [cu[0], cu[-1]] if len(cu) > 1 else cu[:1]
-    out: list[Candidate] = []
-    seen: set[str] = set()
-    for la in outer:
-        for net in sorted(la.by_net, key=natural_key):
-            if net in skip or net in seen:
-                continue
-            last = net.upper().rsplit("/", 1)[-1]
-            if _POWER_RE.search(last) or last.startswith("UNCONNECTED"):
-                continue
-            geom = la.by_net[net]
-            if geom.is_empty or geom.area < ELECTRODE_AREA_MM2[0] or geom.area > 4 * ELECTRODE_AREA_MM2[1]:
-                continue
-            if shapely.get_num_coordinates(geom) > MAX_COORDINATES:
-                continue  # hatch, pour or lettering: not a plain electrode (and slow to open)
-            electrode, _trace = split_electrode(la, net)
-            polys = list(getattr(electrode, "geoms", [electrode]))
-            if len(polys) != 1 or electrode.is_empty:
-                continue
-            poly = polys[0]
-            if not (ELECTRODE_AREA_MM2[0] <= poly.area <= ELECTRODE_AREA_MM2[1]) or len(poly.interiors) > MAX_HOLES:
-                continue
-            filled = Polygon(poly.exterior)
-            if filled.area < MIN_SOLIDITY * filled.convex_hull.area:
-                continue
-            rect = filled.minimum_rotated_rectangle
-            if not isinstance(rect, Polygon):
-                continue
-            xs, ys = rect.exterior.coords.xy
-            sides = sorted(((xs[i + 1] - xs[i]) ** 2 + (ys[i + 1] - ys[i]) ** 2) ** 0.5 for i in range(2))
-            if sides[0] <= 0 or sides[1] / sides[0] > MAX_ASPECT:
-                continue
-            pt = poly.representative_point()
-            out.append(Candidate(net, la.name, round(pt.x, 3), round(pt.y, 3), poly.area, poly))
-            seen.add(net)
-    return out
-
-
 def _stem(net: str) -> str | None:
     m = re.match(r"^(.*?[A-Za-z])[_\-.]?(\d+)$", net)
     return m.group(1) if m else None
@@ -269,29 +171,68 @@ def _stackup_lines(stackup: Stackup | None) -> list[str]:
     return lines
 
 
-def _face_guess(board: Board, roles: dict[str, tuple[str, str | None, str]]) -> tuple[str, str]:
-    sensing = [n for n, (r, _, _) in roles.items() if r in ("self", "receiver", "transmitter")]
-    cu = board.copper_layers()
-    if not cu or not sensing:
-        return "top", "no sensor nets recognised: top is the usual touched face"
-    top = sum(cu[0].by_net[n].area for n in sensing if n in cu[0].by_net)
-    bottom = sum(cu[-1].by_net[n].area for n in sensing if n in cu[-1].by_net) if len(cu) > 1 else 0.0
-    if bottom > top:
-        return "bottom", f"more sensor copper on the bottom layer ({bottom:.0f} mm2) than on top ({top:.0f} mm2)"
-    return "top", f"more sensor copper on the top layer ({top:.0f} mm2) than on the bottom ({bottom:.0f} mm2)"
+def _role_name(role: str) -> str:
+    return {"transmitter": "transmitter", "receiver": "receiver"}.get(role, role)
 
 
-def starter_config(board: Board) -> str:
-    """The text of a starter sensorcheck.toml for ``board`` (deterministic: no date, sorted)."""
-    nets = [n for n in board.net_names() if not n.startswith("~")]
+def recognise_board(board: Board) -> tuple[Recognition, dict[str, tuple[str, str | None, str]]]:
+    """What :mod:`sensorcheck.design.recognise` finds on ``board``, and the roles the names suggest."""
+    nets = [n for n in board.net_names() if not is_unnamed(n)]
     roles = guess_roles(nets)
-    cands = electrode_candidates(board, set(roles))
-    unnamed = [c for c in cands if c.net.startswith("~")]
-    for c in cands:
-        if not c.net.startswith("~"):
-            roles[c.net] = ("self", None, "the name says nothing, but the net has one solid electrode-like pad "
-                            "(5-34 mm across) on an outer layer; remove any that are not electrodes")
-    face, face_why = _face_guess(board, {**roles, **{c.net: ("self", None, "") for c in unnamed}})
+    return recognise(board, {n: r for n, (r, _, _) in roles.items()}), roles
+
+
+def _sensor_comment(f: Found) -> str:
+    nets = ", ".join(f.all_nets[:8]) + (" ..." if len(f.all_nets) > 8 else "")
+    return _comment(f"{f.name}: {f.kind} on the {f.face} ({nets}); " + "; ".join(f.evidence))
+
+
+def starter_config(board: Board, recognition: tuple[Recognition, dict[str, tuple[str, str | None, str]]] | None = None
+                   ) -> str:
+    """The text of a starter sensorcheck.toml for ``board`` (deterministic: no date, sorted)."""
+    rec, name_roles = recognition if recognition is not None else recognise_board(board)
+    nets = [n for n in board.net_names() if not is_unnamed(n)]
+    sensing = {n for f in rec.sensors for n in f.all_nets}
+    rejected_named = sorted({r.net for r in rec.rejected if r.net in name_roles and r.net not in sensing
+                             and name_roles[r.net][0] in ("self", "transmitter", "receiver")}, key=natural_key)
+    # roles of named nets: names first, then what the copper said
+    roles: dict[str, tuple[str, str | None, str]] = {n: v for n, v in name_roles.items() if n not in rejected_named}
+    sensor_of: dict[str, str] = {}
+    groups: list[Found] = []
+    places: list[tuple[Found, str, str]] = []  # (sensor, net, role)
+    for f in rec.sensors:
+        mutual_segments = f.kind in ("slider", "wheel") and bool(f.tx)
+        if mutual_segments or (f.kind == "proximity" and not any(re.search(r"PROX|HAND|PRESENCE", n.upper())
+                                                                 for n in f.nets)):
+            groups.append(f)
+            continue
+        for n in f.all_nets:
+            role = "transmitter" if n in f.tx else ("receiver" if n in f.rx else "self")
+            if is_unnamed(n):
+                places.append((f, n, role))
+                continue
+            if n not in roles or roles[n][0] != role:
+                roles[n] = (role, None, f"recognised from the copper as {f.kind} electrodes (sensors listed above)")
+            if f.kind in ("slider", "wheel") and not f.tx:
+                sensor_of[n] = f.name
+    grouped_nets = {n for f in groups for n in f.all_nets}
+    for n in grouped_nets:
+        roles.pop(n, None)
+    for n, (role, why) in rec.reference.items():
+        if not is_unnamed(n):
+            roles[n] = (role, None, why)
+    faces = {f.face for f in rec.sensors}
+    face_count = {fc: sum(1 for f in rec.sensors if f.face == fc) for fc in ("top", "bottom")}
+    face = "bottom" if face_count["bottom"] > face_count["top"] else "top"
+    if not rec.sensors:
+        face_why = "no sensors recognised: top is the usual touched face"
+    elif len(faces) == 1:
+        face_why = f"every recognised sensor has its electrodes on the {face} copper"
+    else:
+        other = [f.name for f in rec.sensors if f.face != face]
+        face_why = (f"{face_count[face]} sensor(s) face the {face}, but {', '.join(other)} have their electrodes "
+                    f"only or mostly on the other face: the check takes one touched face per board, so check "
+                    f"those with a second config (face = \"{'top' if face == 'bottom' else 'bottom'}\")")
     lines: list[str] = [
         f"# sensorcheck.toml: starter config written by `sensorcheck init` for {_comment(board.name)}.",
         "# Every guess is marked REVIEW with the reason; check each before trusting a report.",
@@ -299,7 +240,7 @@ def starter_config(board: Board) -> str:
         'profile = "default"',
         "",
         "[board]",
-        f"# REVIEW: {face_why}",
+        f"# REVIEW: {_comment(face_why)}",
         f"face = {_q(face)}",
         "",
         "# REVIEW: the overlay (cover plate over the touch face) is not in fabrication data. Without it,",
@@ -313,30 +254,37 @@ def starter_config(board: Board) -> str:
         "",
     ]
     lines += _stackup_lines(board.stackup)
-    lines += ["[roles]"]
+    lines.append(f"# Recognised from the copper: {len(rec.sensors)} sensor(s) "
+                 "(`sensorcheck init --explain` lists the evidence and the copper rejected):")
+    for f in rec.sensors:
+        lines.append(f"#   {_sensor_comment(f)}")
+        for r in f.review:
+            lines.append(f"#   REVIEW: {f.name}: {_comment(r)}")
+    lines += ["", "[roles]"]
     if not nets:
         lines += ["# REVIEW: the board carries no net names (no Gerber X2 net attributes, no IPC-D-356 netlist);",
-                  "# give roles by place instead, one per electrode:"]
+                  "# roles are given by place below, one per electrode:"]
     by_role: dict[str, list[str]] = {}
     for net in sorted(roles, key=natural_key):
         by_role.setdefault(roles[net][0], []).append(net)
-    segment_groups = _segment_groups(by_role.get("self", []))
     for role in ("transmitter", "receiver", "self", "shield", "guard", "ground"):
         members = by_role.get(role, [])
         if not members:
             continue
         whys = sorted({roles[n][2] for n in members})
-        lines.append(f"# REVIEW: {len(members)} net(s): {_comment('; '.join(whys))}")
-        if role == "self" and segment_groups:
-            grouped = {n for _, _, ms in segment_groups for n in ms}
-            items = [_q(p) for p in _patterns([n for n in members if n not in grouped], nets)]
-            for name, kind, ms in segment_groups:
-                lines.append(f"# REVIEW: {', '.join(ms)}: one {kind} by name ('{name}'); its segments are "
-                             "ordered by their position on the board")
-                items += [f"{{pattern = {_q(p)}, sensor = {_q(name)}}}" for p in _patterns(ms, nets)]
-            lines.append(f"self = [{', '.join(items)}]")
-            continue
-        lines.append(f"{role} = [{', '.join(_q(p) for p in _patterns(members, nets))}]")
+        shown = whys[:6] + ([f"and {len(whys) - 6} more reasons"] if len(whys) > 6 else [])
+        lines.append(f"# REVIEW: {len(members)} net(s): {_comment('; '.join(shown))}")
+        named_groups: dict[str, list[str]] = {}
+        for n in members:
+            if n in sensor_of:
+                named_groups.setdefault(sensor_of[n], []).append(n)
+        plain = [n for n in members if n not in sensor_of]
+        items = [_q(p) for p in _patterns(plain, nets)]
+        for name, ms in sorted(named_groups.items(), key=lambda kv: natural_key(kv[0])):
+            lines.append(f"# REVIEW: {', '.join(ms[:8])}{' ...' if len(ms) > 8 else ''}: one sensor ('{name}'); "
+                         "its segments are ordered by their position on the board")
+            items += [f"{{pattern = {_q(p)}, sensor = {_q(name)}}}" for p in _patterns(ms, nets)]
+        lines.append(f"{role} = [{', '.join(items)}]")
     agg = by_role.get("aggressor", [])
     if agg:
         kinds: dict[str, list[str]] = {}
@@ -348,34 +296,43 @@ def starter_config(board: Board) -> str:
                          + (" ..." if len(kinds[kind]) > 6 else "") + ")")
             items += [f"{{pattern = {_q(p)}, kind = {_q(kind)}}}" for p in _patterns(kinds[kind], nets)]
         lines.append("aggressor = [" + ", ".join(items) + "]")
-    unassigned = [n for n in nets if n not in roles]
+    if rejected_named:
+        whys = {r.net: r.why for r in rec.rejected}
+        shown = "; ".join(f"{n}: {whys[n]}" for n in rejected_named[:6])
+        lines.append(f"# REVIEW: named like sensors but not taken, their copper is no electrode: {_comment(shown)}"
+                     + (" ..." if len(rejected_named) > 6 else ""))
+    unassigned = [n for n in nets if n not in roles and n not in grouped_nets]
     if unassigned:
         shown = ", ".join(sorted(unassigned, key=natural_key)[:12])
         lines.append(f"# REVIEW: no role guessed for {len(unassigned)} net(s) ({_comment(shown)}"
                      + (" ..." if len(unassigned) > 12 else "") + "); add any that sense or disturb")
-    if unnamed:
-        unnamed = sorted(unnamed, key=lambda c: (c.layer != face_layer_name(board, face), -c.y_mm, c.x_mm))
+    unnamed_ref = [(n, v) for n, v in rec.reference.items() if is_unnamed(n)]
+    if places or unnamed_ref:
         lines.append("")
-        lines.append(f"# REVIEW: {len(unnamed)} piece(s) of copper without a net name look like electrodes (one solid "
-                     "pad 5-34 mm across); each place below gives one the self role. Remove the ones that "
-                     "are not electrodes and rename the sensors.")
-        runs = _runs(unnamed)
-        for name in sorted({r[0] for r in runs.values()}, key=natural_key):
-            members = next(r[1] for r in runs.values() if r[0] == name)
-            kind = "slider" if name.startswith("S") else "wheel"
-            lines.append(f"# REVIEW: {len(members)} of them sit next to each other as {kind} segments do: "
-                         f"they share the sensor name {name} (one {kind}, ordered by position)")
-        order = sorted(unnamed, key=lambda c: (c.net not in runs, runs.get(c.net, ("", []))[0]))
-        k = 0
-        for c in order:
-            if c.net in runs:
-                sensor = runs[c.net][0]
+        lines.append("# REVIEW: copper without a net name; each place below gives the copper under it a role (and "
+                     "its sensor's name). Remove the ones that are wrong.")
+        for n, (role, why) in unnamed_ref:
+            la, x, y = _ref_point(board, n)
+            lines += [f"# REVIEW: {_comment(why)}", "[[roles.place]]", f"layer = {_q(la)}",
+                      f"point_mm = [{x:g}, {y:g}]", f"role = {_q(role)}"]
+        for f, n, role in places:
+            la, x, y = f.points[n]
+            lines += ["[[roles.place]]", f"layer = {_q(la)}", f"point_mm = [{x:g}, {y:g}]", f"role = {_q(role)}",
+                      f"sensor = {_q(f.name)}"]
+    if groups:
+        lines.append("")
+        for f in groups:
+            lines.append(f"# REVIEW: {_sensor_comment(f)}")
+            if any(is_unnamed(n) for n in f.all_nets):
+                where = "; ".join(f"{n} at {f.points[n][0]} ({f.points[n][1]:g}, {f.points[n][2]:g})"
+                                  for n in f.all_nets[:6] if n in f.points)
+                lines.append(f"# (unnamed copper is named by its geometry id: {_comment(where)})")
+            lines += ["[[sensors]]", f"name = {_q(f.name)}", f"kind = {_q(f.kind)}"]
+            if f.tx:
+                lines += [f"tx = [{', '.join(_q(n) for n in f.tx)}]", f"rx = [{', '.join(_q(n) for n in f.rx)}]"]
             else:
-                k += 1
-                sensor = f"E{k}"
-            lines += ["[[roles.place]]", f"layer = {_q(c.layer)}", f"point_mm = [{c.x_mm:g}, {c.y_mm:g}]",
-                      'role = "self"', f'sensor = "{sensor}"  # {c.area_mm2:.0f} mm2']
-        lines.append("")
+                lines.append(f"nets = [{', '.join(_q(n) for n in f.nets)}]")
+    lines.append("")
     lines += [
         "# For boards without net names: the copper under a point takes the role (and a sensor name).",
         "# [[roles.place]]",
@@ -384,8 +341,6 @@ def starter_config(board: Board) -> str:
         '# role = "self"',
         '# sensor = "B1"',
         "",
-    ]
-    lines += [
         "[finger]",
         "# REVIEW: a battery product on a table couples weakly to earth: give device_ground in pF",
         "# (e.g. 2.0) instead of earthed; that is what decides whether the touch signal turns around.",
@@ -405,33 +360,42 @@ def starter_config(board: Board) -> str:
     return "\n".join(lines).rstrip() + "\n"
 
 
-def face_layer_name(board: Board, face: str) -> str:
-    cu = board.copper_layers()
-    if not cu:
-        return ""
-    return cu[0].name if face == "top" else cu[-1].name
+def _ref_point(board: Board, net: str) -> tuple[str, float, float]:
+    """A point on the largest piece of ``net``'s copper (its layer, x, y)."""
+    best = max((la for la in board.copper_layers() if net in la.by_net), key=lambda la: la.by_net[net].area)
+    polys = list(getattr(best.by_net[net], "geoms", [best.by_net[net]]))
+    pt = max(polys, key=lambda p: p.area).representative_point()
+    return best.name, round(pt.x, 3) + 0.0, round(pt.y, 3) + 0.0
 
 
-def _segment_groups(self_nets: list[str]) -> list[tuple[str, str, list[str]]]:
-    """(sensor name, kind, nets) for self nets whose name stem says slider or wheel."""
-    stems: dict[str, list[str]] = {}
-    for n in self_nets:
-        st = _stem(n)
-        if st is not None and re.search(r"SLID|SLD|WHEEL|WHL|SCROLL", st.upper()):
-            stems.setdefault(st, []).append(n)
-    out: list[tuple[str, str, list[str]]] = []
-    for st, members in sorted(stems.items()):
-        kind = "wheel" if re.search(r"WHEEL|WHL", st.upper()) else "slider"
-        if len(members) < (3 if kind == "wheel" else 2):
-            continue
-        name = st.rsplit("/", 1)[-1].lower().strip("_-.") or kind
-        out.append((name, kind, sorted(members, key=natural_key)))
-    return out
-
-
-def _default_output(path: Path) -> Path:
-    return path / "sensorcheck.toml" if path.is_dir() else path.with_name("sensorcheck.toml")
-
+def explain(board: Board, recognition: tuple[Recognition, dict[str, tuple[str, str | None, str]]] | None = None
+            ) -> str:
+    """The recognition report: each sensor with kind, nets, electrodes, face and evidence; what was rejected."""
+    rec, _names = recognition if recognition is not None else recognise_board(board)
+    out = [f"Recognition report for {board.name}: {len(rec.sensors)} sensor(s)", ""]
+    for f in rec.sensors:
+        out.append(f"{f.name}  {f.kind}  face {f.face}  layer {f.layer}")
+        if f.tx:
+            out.append(f"  TX: {', '.join(f.tx)}")
+            out.append(f"  RX: {', '.join(f.rx)}")
+        else:
+            out.append(f"  electrodes: {', '.join(f.nets)}")
+        for n in f.all_nets:
+            if is_unnamed(n) and n in f.points:
+                la, x, y = f.points[n]
+                out.append(f"    {n}: unnamed copper at ({x:g}, {y:g}) on {la}")
+        for e in f.evidence:
+            out.append(f"  evidence: {_comment(e)}")
+        for r in f.review:
+            out.append(f"  REVIEW: {_comment(r)}")
+    if rec.reference:
+        out += ["", "Reference copper recognised from its geometry:"]
+        out += [f"  {n}: {role}: {_comment(why)}" for n, (role, why) in rec.reference.items()]
+    out += ["", f"Copper looked at and rejected ({len(rec.rejected)}):"]
+    for r in rec.rejected:
+        out.append(f"  {r.net} on {r.layer}: {_comment(r.why)}")
+    out += [f"note: {n}" for n in rec.notes]
+    return "\n".join(out) + "\n"
 
 def _write_atomic(target: Path, text: str) -> None:
     target.parent.mkdir(parents=True, exist_ok=True)
@@ -446,19 +410,36 @@ def _write_atomic(target: Path, text: str) -> None:
 
 
 def run(args: argparse.Namespace, *, loader: Callable[[Path], Board] | None = None) -> int:
-    """Write the starter config; 2 when the output exists and --force was not given."""
+    """Print the starter config (or write it to ``--output``; 2 when that exists and --force was not
+    given); ``--explain``: the recognition report instead.  2 when PATH holds no fabrication data."""
     path = Path(args.path)
-    output = Path(args.output) if getattr(args, "output", None) else _default_output(path)
-    if output.exists() and not getattr(args, "force", False):
+    output = Path(args.output) if getattr(args, "output", None) else None
+    if output is not None and output.exists() and not getattr(args, "force", False):
         print(f"sensorcheck: error: {output} exists; use --force to overwrite it", file=sys.stderr)
+        return 2
+    if not path.exists():
+        print(f"sensorcheck: error: {path}: no such file or folder", file=sys.stderr)
         return 2
     if loader is None:
         from sensorcheck.board.build import load_board
 
         loader = load_board
     board = loader(path)
-    text = starter_config(board)
+    if not board.copper_layers():
+        print(f"sensorcheck: error: {path}: no fabrication data found (no copper layer among "
+              f"{len(board.files)} file(s)); expected Gerber, Excellon or IPC-D-356 files", file=sys.stderr)
+        return 2
+    found = recognise_board(board)
+    if getattr(args, "explain", False):
+        sys.stdout.write(explain(board, found))
+        if output is None:
+            return 0
+    text = starter_config(board, found)
+    if output is None:
+        sys.stdout.write(text)
+        return 0
     _write_atomic(output, text)
     review = sum(1 for line in text.splitlines() if "REVIEW:" in line)
     print(f"wrote {output}: {review} item(s) marked REVIEW to check")
     return 0
+

@@ -7,6 +7,7 @@ Plain data.  ``design/config.py`` fills :class:`Config` from sensorcheck.toml,
 from __future__ import annotations
 
 import datetime as _dt
+import re
 from dataclasses import dataclass, field
 from typing import Any, Literal
 
@@ -182,9 +183,21 @@ class Design:
     sensors: list[Sensor]
     #: what was guessed or could not be decided (reported as notes)
     notes: list[str] = field(default_factory=list)
+    #: readable names of unnamed sensor copper (``~n...`` id -> ``S1.3``): see :func:`readable`
+    labels: dict[str, str] = field(default_factory=dict)
 
     def nets_with(self, role: Role) -> list[str]:
         return sorted(n for n, (r, _) in self.roles.items() if r == role)
 
     def ground_nets(self) -> list[str]:
         return self.nets_with("ground")
+
+
+_UNNAMED_ID = re.compile(r"~n[0-9a-f]{10}")
+
+
+def readable(text: str, labels: dict[str, str]) -> str:
+    """``text`` with every unnamed-copper id that has a label replaced by the label (``S1.3``)."""
+    if not labels or "~n" not in text:
+        return text
+    return _UNNAMED_ID.sub(lambda m: labels.get(m.group(0), m.group(0)), text)

@@ -52,7 +52,7 @@ from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Board, Feature, Layer
-from sensorcheck.design.model import Config, Design, Electrode, Role, Sensor, SensorGroup, SensorKind
+from sensorcheck.design.model import Config, Design, Electrode, Role, Sensor, SensorGroup, SensorKind, readable
 from sensorcheck.design.roles import assign_roles, natural_key
 from sensorcheck.design.zones import sensing_zone, zone_margin_mm
 from sensorcheck.errors import ConfigError
@@ -704,7 +704,38 @@ def build_design(board: Board, config: Config) -> Design:
     for name, count in names.items():
         if count > 1:
             notes.append(f"sensor name '{name}' is used by {count} sensors")
-    return Design(board=board, config=config, roles=roles, sensors=sensors, notes=notes)
+    design = Design(board=board, config=config, roles=roles, sensors=sensors, notes=notes)
+    design.labels = unnamed_labels(sensors)
+    design.notes = [readable(n, design.labels) for n in design.notes]
+    return design
+
+
+def unnamed_labels(sensors: Sequence[Sensor]) -> dict[str, str]:
+    """Readable names for the unnamed copper (``~n...``) of each sensor: the sensor's name alone for a
+    one-electrode sensor, else its name and an index in geometric order (slider and wheel segments in
+    their order; the rest from the top left in reading order), ``.TX``/``.RX`` for a mutual node."""
+    out: dict[str, str] = {}
+    for s in sensors:
+        unnamed = [n for n in s.nets if n.startswith("~")]
+        if not unnamed:
+            continue
+        if len(s.nets) == 1:
+            out.setdefault(unnamed[0], s.name)
+            continue
+        if s.kind == "mutual-node":
+            for e in s.electrodes:
+                if e.net.startswith("~"):
+                    out.setdefault(e.net, f"{s.name}.{'TX' if e.role == 'transmitter' else 'RX'}")
+            continue
+        if s.order:
+            ordered = [n for n in s.order if n in unnamed]
+        else:
+            centre = {e.net: e.geometry.centroid for e in s.electrodes}
+            ordered = sorted(unnamed, key=lambda n: (-round(centre[n].y, 1), round(centre[n].x, 1)))
+        index = {n: i + 1 for i, n in enumerate(s.order or ordered)}
+        for n in ordered:
+            out.setdefault(n, f"{s.name}.{index.get(n, 0)}")
+    return out
 
 
 def _role_or(roles: dict[str, tuple[Role, object]], net: str, default: Role) -> Role:

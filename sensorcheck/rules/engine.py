@@ -34,6 +34,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, Literal
 
 from sensorcheck.errors import ConfigError
+from sensorcheck.design.model import readable
 from sensorcheck.findings import (
     Finding,
     Location,
@@ -462,6 +463,8 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
     notes = [n for n in notes if settings[n.rule_id][0] != "off"]
     run.findings.extend(notes)
     assign_fingerprints(run.findings, board_name)
+    for f in run.findings:  # unnamed copper by its readable name (S1.3); nets and fingerprints keep the ids
+        f.message = readable(f.message, design.labels)
     run.findings.sort(key=sort_key)
     return run
 

@@ -140,11 +140,20 @@ def test_no_job_file_and_no_net_names(tmp_path: Path) -> None:
 def test_refuses_to_overwrite_without_force(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     out = tmp_path / "sensorcheck.toml"
     out.write_text("# mine\n")
-    assert init.run(args(tmp_path), loader=lambda p: demo_board()) == 2
+    assert init.run(args(tmp_path, out), loader=lambda p: demo_board()) == 2
     assert "--force" in capsys.readouterr().err
     assert out.read_text() == "# mine\n"
-    assert init.run(args(tmp_path, force=True), loader=lambda p: demo_board()) == 0
+    assert init.run(args(tmp_path, out, force=True), loader=lambda p: demo_board()) == 0
     assert out.read_text() != "# mine\n"
+
+
+def test_never_writes_into_the_input_folder_unless_asked(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    """Issue 12: the config goes to standard output by default; the input folder is left as it was."""
+    before = sorted(tmp_path.iterdir())
+    assert init.run(args(tmp_path), loader=lambda p: demo_board()) == 0
+    assert sorted(tmp_path.iterdir()) == before
+    printed = capsys.readouterr().out
+    assert tomllib.loads(printed)["roles"]  # the config itself, parseable
 
 
 def test_deterministic() -> None:
@@ -160,8 +169,30 @@ def test_cli_refuses_overwrite_with_exit_2(tmp_path: Path) -> None:
     assert main(["init", str(tmp_path)]) == 2
 
 
-def test_zip_input_writes_beside_the_archive(tmp_path: Path) -> None:
-    z = tmp_path / "fab.zip"
-    z.write_bytes(b"PK\x05\x06" + b"\0" * 18)
-    assert init.run(args(z), loader=lambda p: demo_board()) == 0
-    assert (tmp_path / "sensorcheck.toml").is_file()
+def test_folder_without_fabrication_data_is_exit_2(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    (tmp_path / "notes.txt").write_text("not a Gerber file\n")
+    empty = synth.make_board({})
+    assert init.run(args(tmp_path), loader=lambda p: empty) == 2
+    assert "no fabrication data" in capsys.readouterr().err
+
+
+def test_explain_lists_sensors_evidence_and_rejected_copper(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    board = demo_board()
+    ns = args(tmp_path)
+    ns.explain = True
+    assert init.run(ns, loader=lambda p: board) == 0
+    text = capsys.readouterr().out
+    assert "mutual-node" in text and "TX: TX1" in text and "RX: RX1" in text  # the ring round the disc
+    assert "evidence:" in text and "rejected" in text
+    assert "UART_TX on top-copper: only lines" in text  # a line between parts: looked at and rejected
+
+
+def test_cli_folder_without_fabrication_data_is_exit_2(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    """Through the real reader: a folder holding no Gerber, drill or netlist file writes nothing, exit 2."""
+    pytest.importorskip("sensorcheck.board.build")
+    from sensorcheck.cli import main
+
+    (tmp_path / "readme.txt").write_text("no fabrication data here\n")
+    assert main(["init", str(tmp_path)]) == 2
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["readme.txt"]
+    assert capsys.readouterr().out == ""

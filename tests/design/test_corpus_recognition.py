@@ -111,3 +111,36 @@ def test_b04_thirty_six_keys_and_hand_sense(shared_dir: Path, tmp_path: Path) ->
         assert tx.rsplit("/", 1)[-1].startswith("c") and rx.rsplit("/", 1)[-1].startswith("r")
         assert tx.rsplit("/", 1)[0] == rx.rsplit("/", 1)[0]
     assert sorted(s.name.rsplit("/", 1)[-1] for s in d.sensors if s.kind == "proximity") == ["handsense", "handsense"]
+
+
+def test_b01_jumper_lines_are_not_a_slider(shared_dir: Path, tmp_path: Path) -> None:
+    # designers' netlist (see tests/corpus/configs/b01-slider-proto.toml): SLIDER_KEY0-2 join the
+    # jumpers JP1-JP3 to the controller; they are routing, not electrodes
+    d, text = design_from_init(shared_dir, "b01-slider-proto", tmp_path)
+    assert not [s for s in d.sensors if any("SLIDER_KEY" in n for n in s.nets)]
+    assert "named like sensors but not taken" in text and "SLIDER_KEY" in text
+    # and the two mutual sliders (README: "two 7-segment mutual-capacitance sliders") are found as sliders
+    sliders = [s for s in d.sensors if s.kind == "slider"]
+    assert any(all("P9-Pad" in n for n in s.nets) for s in sliders)
+    assert any(all("P8-Pad" in n for n in s.nets) for s in sliders)
+
+
+def test_b02_buttons_on_the_bottom_are_named_in_a_review(shared_dir: Path, tmp_path: Path) -> None:
+    # issue 12: 6 of b02's 18 buttons exist only on the bottom copper
+    _, text = design_from_init(shared_dir, "b02-buttons-4layer", tmp_path)
+    (line,) = [ln for ln in text.splitlines() if "face the top, but" in ln]
+    assert line.startswith("# REVIEW:")
+    assert len(line.split("but ", 1)[1].split(" have", 1)[0].split(", ")) == 6
+    assert text.count("self-button on the bottom") == 6
+
+
+def test_b07_findings_name_the_slider_segments(shared_dir: Path, tmp_path: Path) -> None:
+    # issue 12: b07's unnamed segments were reported by their geometry ids although init named the sensor
+    from sensorcheck.rules.engine import run_rules
+
+    d, _ = design_from_init(shared_dir, "b07-slider-inch", tmp_path)
+    (s,) = [s for s in d.sensors if s.kind == "slider"]
+    assert sorted(d.labels[n] for n in s.nets) == sorted(f"{s.name}.{i}" for i in range(1, 9))
+    msgs = [f.message for f in run_rules(d).findings]
+    assert any(f"{s.name}.1" in m or f"{s.name}.8" in m for m in msgs)
+    assert not any(n in m for n in s.nets for m in msgs)
