@@ -10,7 +10,7 @@ copper layers (inner included) and drill files identified; unit errors.
 * unit errors: a drill file whose units as read differ from the ones its header states (the
   table's ``[units]``), or whose plated holes mostly miss the copper while the file carries no
   error (a silent scale error: a plated hole always has copper around it), or an outline whose
-  extent is not within a factor 2 of the copper's, with no error: "silent" ones are those with no
+  extent is about 25.4 times (or 1/25.4 of) the copper's, with no error: "silent" ones are those with no
   error on the file.
 
 Usage: ``.venv/bin/python bench/bench_identify.py [--shared ../shared] [--folder SUBSTRING]``.
@@ -141,7 +141,8 @@ def score_board(group: str, board, truth: dict[str, str], units: dict[str, str])
         if board.outline is not None and not board.outline.is_empty:
             ob, cb = board.outline.bounds, cu.bounds
             osize, csize = max(ob[2] - ob[0], ob[3] - ob[1]), max(cb[2] - cb[0], cb[3] - cb[1])
-            if csize > 0 and not 0.5 <= osize / csize <= 2.0:
+            ratio = osize / csize if csize > 0 else 1.0
+            if any(0.5 <= ratio / f <= 2.0 for f in (25.4, 1 / 25.4)):  # the same board at another scale
                 s.unit_errors += 1
                 s.silent_unit_errors += 1
                 s.problems.append(f"outline {osize:.1f} mm across against copper {csize:.1f} mm (silent)")
