@@ -273,9 +273,11 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
         if ident is not None and ident.role is None and ident.kind == "gerber":
             try:
                 g = read_gerber(read_bytes(f, limits), safe_name(f.name), limits=limits)
-                unknown_layers.append((ident, Layer(name="", function="other", side="none", file=safe_name(f.name),
-                                                    units="inch" if g.units == "inch" else "mm",
-                                                    generator=g.generator, features=g.features, dark=g.dark)))
+                unknown = Layer(name="", function="other", side="none", file=safe_name(f.name),
+                                units="inch" if g.units == "inch" else "mm", generator=g.generator,
+                                features=g.features, dark=g.dark)
+                unknown_layers.append((ident, unknown))
+                x2_images[id(unknown)] = g.by_net  # used if its content makes it copper
             except SensorcheckError:
                 pass  # not understood stays not understood; nothing claimed it
             except Exception:  # noqa: BLE001 - a reader bug on an unclaimed file must not lose the board
@@ -487,6 +489,8 @@ def _copper_by_content(copper: list[tuple[Identification, Layer]], unknown: list
             layer.function, layer.side = "copper", "inner"
             copper.append((new, layer))
             info.role, info.side, info.identified_by = "copper", "inner", "content"
+            info.units, info.object_count = layer.units, len(layer.features)
+            info.dark_area_mm2 = round(float(layer.dark.area), 6) if layer.dark is not None else 0.0
             info.note = (f"inner copper by its content ({share:.0%} of the plated holes land on it); its place in the "
                          "stack is a guess: confirm it with a layer map")
             continue
