@@ -388,12 +388,35 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
         info.layer = name
         x2_by_name[name] = x2_images[id(layer)]
         board.layers.append(layer)
+    by_name: dict[str, Layer] = {}
     for layer in others:
         info = infos[_key_of(infos, layer.file)]
+        if layer.name in claimed and layer.function == "mask" and layer.name in by_name:
+            # a stencil taken for the solder mask by its name: of two masks of one side, the one whose
+            # openings are fewer and all within the other's is the paste (stencil) layer
+            first = by_name[layer.name]
+            paste_name = layer.name.replace("-mask", "-paste")
+            stencil = resolve.stencil_of(first, layer) if paste_name not in claimed else None
+            if stencil is not None:
+                mask = first if stencil is layer else layer
+                sinfo = infos[_key_of(infos, stencil.file)]
+                stencil.name, stencil.function = paste_name, "paste"
+                sinfo.role, sinfo.layer = "paste", paste_name
+                note = f"paste (stencil) by its content: its openings lie within {mask.file}'s"
+                sinfo.note = f"{sinfo.note}; {note}" if sinfo.note else note
+                claimed[paste_name], claimed[layer.name] = stencil.file, mask.file
+                by_name[paste_name], by_name[layer.name] = stencil, mask
+                if stencil is first:
+                    board.layers.remove(first)
+                board.layers.append(stencil)
+                if mask is layer:
+                    board.layers.append(layer)
+                continue
         if layer.name in claimed:
             info.error = f"{layer.file}: also identified as {layer.name} (first: {claimed[layer.name]}); say which is which with a layer map"
             continue
         claimed[layer.name] = layer.file
+        by_name[layer.name] = layer
         board.layers.append(layer)
     order = {"top-silk": 0, "top-paste": 1, "top-mask": 2}
     board.layers.sort(key=lambda layer: (

@@ -112,6 +112,22 @@ def choose_outline(candidates: Sequence[tuple[str, bool, BaseGeometry | None]],
     return OutlineChoice(chosen, refused)
 
 
+def stencil_of(a: Layer, b: Layer) -> Layer | None:
+    """Of two layers claiming one side's solder mask, the stencil (paste) one, if the content tells.
+
+    Paste openings are made for surface-mount pads only and are the pads' size or smaller; mask
+    openings are made for every pad and via, usually a little larger (IPC-7525 and common
+    practice). So the paste image is the smaller one and lies within the mask image.
+    """
+    if a.dark is None or b.dark is None or a.dark.is_empty or b.dark.is_empty:
+        return None
+    small, large = (a, b) if a.dark.area < b.dark.area else (b, a)
+    if small.dark.area >= 0.95 * large.dark.area:  # type: ignore[union-attr]
+        return None
+    inside = small.dark.intersection(large.dark).area / small.dark.area  # type: ignore[union-attr]
+    return small if inside >= 0.9 else None
+
+
 # ----------------------------------------------------------------------------- copper by content
 
 def plated_points(holes: Iterable[Hole]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -241,3 +241,20 @@ def test_config_board_copper_layers(tmp_path: Path) -> None:
     cfg.write_text('[board]\ncopper_layers = "two"\n')
     with pytest.raises(ConfigError, match="copper_layers"):
         load_config(cfg)
+
+
+def test_a_stencil_named_like_a_mask_is_told_from_the_mask_by_content(tmp_path: Path) -> None:
+    # issue 18: "a stencil file was taken as the solder mask and the real mask refused as a duplicate".
+    # Mask openings: every pad, 0.1 mm larger; paste openings: the SMD pads only, the pad's size
+    # (IPC-7525; common practice). Both files are named as top solder mask here.
+    mask = gerber(["%ADD13R,2.200000X2.200000*%", *[flash(x, y, d=13) for x, y in PADS]])
+    paste = gerber([flash(x, y) for x, y in PADS[:10]])
+    (tmp_path / "board.GTL").write_bytes(_copper())
+    (tmp_path / "board.GBL").write_bytes(_copper())
+    (tmp_path / "board.GTS").write_bytes(paste)  # the stencil, first in file order
+    (tmp_path / "board-top-soldermask.gbr").write_bytes(mask)
+    board = load_board(tmp_path)
+    assert not _errors(board)
+    layers = {f.path: f.layer for f in board.files}
+    assert layers["board.GTS"] == "top-paste" and layers["board-top-soldermask.gbr"] == "top-mask"
+    assert {layer.name for layer in board.layers} >= {"top-paste", "top-mask"}
