@@ -531,7 +531,7 @@ def _word_extension(ext_l: str) -> bool:
             "gbrjob", "ipc356", "ipcd356"):
         return False
     known = (_FUNCTION_WORDS | _OUTLINE_WORDS | _TOP_STRONG | _BOTTOM_STRONG | _DRILL_WORDS | _INNER_WORDS
-             | _OTHER_WORDS | _PASTE_WORDS | _MASK_WORDS | _SILK_WORDS)
+             | _PASTE_WORDS | _MASK_WORDS | _SILK_WORDS)
     return ext_l in known or any(w in known for w in _split_compound(ext_l) if len(w) > 1)
 
 
