@@ -448,15 +448,15 @@ def _outline_paths(layer: Layer) -> list[BaseGeometry]:
     return [ft.path if ft.path is not None else ft.geometry.boundary for ft in layer.features]
 
 
-def _copper_bounds(copper: list[tuple[Identification, Layer]]) -> tuple[float, float, float, float] | None:
-    return _bounds_of([layer.dark.bounds for _, layer in copper if layer.dark is not None and not layer.dark.is_empty])
+def _copper_images(copper: list[tuple[Identification, Layer]]) -> list[BaseGeometry]:
+    return [layer.dark for _, layer in copper if layer.dark is not None and not layer.dark.is_empty]
 
 
 def _choose_outline(cands: list[tuple[Identification, Layer]], copper: list[tuple[Identification, Layer]],
                     others: list[Layer], infos: dict[str, FileInfo]) -> tuple[str, list[BaseGeometry], BaseGeometry | None] | None:
     """The outline among the outline candidates (content decides between mechanical layers)."""
     shapes = [(layer.file, ident.tentative, outline_polygon(_outline_paths(layer), layer.dark)[0]) for ident, layer in cands]
-    choice = resolve.choose_outline(shapes, _copper_bounds(copper))
+    choice = resolve.choose_outline(shapes, _copper_images(copper))
     for i, (ident, layer) in enumerate(cands):
         info = infos[_key_of(infos, layer.file)]
         if i in choice.refused:
@@ -501,7 +501,7 @@ def _copper_by_content(copper: list[tuple[Identification, Layer]], unknown: list
     x, y, _ = resolve.plated_points(h for holes in drill_holes.values() for h in holes)
     evidence = resolve.layer_count_evidence(idents.values(), _job_copper_count(board), job_file)
     wanted = (confirmed if confirmed is not None else evidence.copper_layers if evidence else 0) - len(copper)
-    cu_bounds = _copper_bounds(copper)
+    cu_images = _copper_images(copper)
     for ident, layer in unknown:
         info = infos[_key_of(infos, layer.file)]
         share = resolve.looks_like_copper(layer, x, y)
@@ -519,7 +519,7 @@ def _copper_by_content(copper: list[tuple[Identification, Layer]], unknown: list
             continue
         if share is not None:
             info.note = f"{info.note}; it looks like copper ({share:.0%} of the plated holes land on it): name it with a layer map"
-        elif not any(not c.tentative for c, _ in outline_cands) and resolve.thin_draws_only(layer) and resolve.encloses(outline_polygon(_outline_paths(layer), None)[0], cu_bounds):
+        elif not any(not c.tentative for c, _ in outline_cands) and resolve.thin_draws_only(layer) and resolve.encloses(outline_polygon(_outline_paths(layer), None)[0], cu_images):
             info.note = f"{info.note}; it looks like a board outline (thin closed draws around the copper)"
             layer.function, layer.name, layer.side = "outline", "outline", "none"
             new = replace(ident, role="outline", layer="outline", side="none", identified_by="content", tentative=True)

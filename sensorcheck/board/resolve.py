@@ -31,9 +31,12 @@ from sensorcheck.board.model import Hole, Layer
 from sensorcheck.fab.identify import Identification
 
 MM_PER_INCH = 25.4
-#: an outline "encloses" the copper when the copper's box lies within the outline's box grown by
+#: an outline "encloses" the copper when most of the copper lies within the outline's box grown by
 #: this much (mm) plus 2 % of the board size: pads at the very edge, outlines drawn on the centre line
 ENCLOSE_MARGIN_MM = 1.0
+#: the share of the copper area that must lie there (text or a frame beside the board is allowed:
+#: tracespace arduino-uno carries about 10 % of its top copper outside the board)
+ENCLOSE_SHARE = 0.8
 #: the widest draw an outline-by-content may use (mm): board contours are drawn thin (common practice)
 OUTLINE_MAX_WIDTH_MM = 0.5
 #: share of plated holes that must land on a layer's image for it to "look like copper"
@@ -49,17 +52,16 @@ MIN_HOLE_MM = 0.05
 
 # ----------------------------------------------------------------------------- outline by content
 
-def encloses(outline: BaseGeometry | None, copper_bounds: tuple[float, float, float, float] | None) -> bool:
-    """Does this board shape close around the copper (its box within the shape's box, and not a cut-out)?"""
-    if outline is None or outline.is_empty or copper_bounds is None:
+def encloses(outline: BaseGeometry | None, copper: Sequence[BaseGeometry]) -> bool:
+    """Does this board shape close around the copper (most of the copper's area within its box)?"""
+    images = [c for c in copper if c is not None and not c.is_empty]
+    if outline is None or outline.is_empty or not images:
         return False
     ob = outline.bounds
-    size = max(ob[2] - ob[0], ob[3] - ob[1])
-    m = ENCLOSE_MARGIN_MM + 0.02 * size
-    inside = (copper_bounds[0] >= ob[0] - m and copper_bounds[1] >= ob[1] - m and copper_bounds[2] <= ob[2] + m
-              and copper_bounds[3] <= ob[3] + m)
-    cu_area = (copper_bounds[2] - copper_bounds[0]) * (copper_bounds[3] - copper_bounds[1])
-    return inside and outline.area >= 0.25 * cu_area
+    m = ENCLOSE_MARGIN_MM + 0.02 * size_of(ob)
+    total = sum(float(c.area) for c in images)
+    inside = sum(float(shapely.clip_by_rect(c, ob[0] - m, ob[1] - m, ob[2] + m, ob[3] + m).area) for c in images)
+    return total > 0 and inside >= ENCLOSE_SHARE * total
 
 
 def thin_draws_only(layer: Layer) -> bool:
@@ -79,7 +81,7 @@ class OutlineChoice:
 
 
 def choose_outline(candidates: Sequence[tuple[str, bool, BaseGeometry | None]],
-                   copper_bounds: tuple[float, float, float, float] | None) -> OutlineChoice:
+                   copper: Sequence[BaseGeometry]) -> OutlineChoice:
     """``candidates``: (file, tentative, board shape) in file order.
 
     Files identified as the outline for sure (X2 profile, a board-outline name) are kept as they are
@@ -96,13 +98,13 @@ def choose_outline(candidates: Sequence[tuple[str, bool, BaseGeometry | None]],
         return OutlineChoice(sure[0], refused)
     if not maybe:
         return OutlineChoice(None, {})
-    if copper_bounds is None:
+    if not copper:
         if len(maybe) == 1:
             return OutlineChoice(maybe[0], {})
         for i in maybe:
             refused[i] = "a mechanical layer among several, and no copper to tell which is the outline"
         return OutlineChoice(None, refused)
-    fitting = [i for i in maybe if encloses(candidates[i][2], copper_bounds)]
+    fitting = [i for i in maybe if encloses(candidates[i][2], copper)]
     chosen = min(fitting, key=lambda i: float(candidates[i][2].area)) if fitting else None  # type: ignore[union-attr]
     for i in maybe:
         if i == chosen:
@@ -246,7 +248,7 @@ def drill_units_problem(holes: Sequence[Hole], outer_copper: Sequence[BaseGeomet
             if shares[best] >= HOLES_ON_COPPER_HIGH:
                 return (f"{shares[1.0]:.0%} of its {len(x)} plated holes land on copper{as_read}, {shares[best]:.0%} "
                         f"would if {_fmt_scale(best)} (scaled by {best:g}): the file's units look wrong")
-    if len(d):
+    if len(d) >= 5:
         med = float(np.median(d))
         if med > MAX_PLATED_HOLE_MM and MIN_HOLE_MM <= med / MM_PER_INCH <= MAX_PLATED_HOLE_MM:
             return (f"its plated holes are {med:.3g} mm across (median){as_read}, larger than any drilled hole; "

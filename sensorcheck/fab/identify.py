@@ -477,12 +477,12 @@ def identify_name(name: str) -> Identification:
     m_abs = re.fullmatch(r"(?:lyr|l)(\d+)", ext_l)
     if m_abs and 0 < int(m_abs.group(1)) <= 99:
         absolute = int(m_abs.group(1))
+    if side in ("top", "bottom"):
+        absolute = None  # "LM317_L12-B_Cu": the side word wins over a number that may be the project's
     if absolute is not None and ext_l not in _EXT_LAYERS and not re.fullmatch(r"g[a-z]*\d+", ext_l):
         # "_L02", "Layer2.pho", "copper_inner_l2", "l2_gnd.art", ".lyr3": the place in the stack
-        if absolute == 1 and side != "bottom":
+        if absolute == 1:
             return Identification(name, "copper", "gerber", "top-copper", "top", "filename", 1, True)
-        if side == "bottom":
-            return Identification(name, "copper", "gerber", "bottom-copper", "bottom", "filename", absolute, True)
         return Identification(name, "copper", "gerber", f"inner{absolute - 1}-copper", "inner", "filename",
                               absolute, True, note="inner copper by the layer number in its name")
     # extension tables (Altium/Protel, Eagle, OrCAD)
