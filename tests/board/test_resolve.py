@@ -258,3 +258,16 @@ def test_a_stencil_named_like_a_mask_is_told_from_the_mask_by_content(tmp_path: 
     layers = {f.path: f.layer for f in board.files}
     assert layers["board.GTS"] == "top-paste" and layers["board-top-soldermask.gbr"] == "top-mask"
     assert {layer.name for layer in board.layers} >= {"top-paste", "top-mask"}
+
+
+def test_artwork_files_named_after_their_planes_are_inner_copper(tmp_path: Path) -> None:
+    # issue 18: "GND2.art/PWR.art all missed" (Allegro artwork named after the layers, from memory)
+    for name in ("TOP.art", "GND2.art", "PWR.art", "BOTTOM.art"):
+        (tmp_path / name).write_bytes(_copper())
+    (tmp_path / "board.drl").write_bytes(_drill("1,4"))
+    board = load_board(tmp_path)
+    assert not _errors(board)
+    copper = [(c.name, c.file) for c in board.copper_layers()]
+    assert copper[0] == ("top-copper", "TOP.art") and copper[-1] == ("bottom-copper", "BOTTOM.art")
+    assert {f for _, f in copper[1:3]} == {"GND2.art", "PWR.art"}
+    assert all("guess" in (f.note or "") for f in board.files if f.path in ("GND2.art", "PWR.art"))
