@@ -643,6 +643,18 @@ def _sanity_checks(board: Board, infos: dict[str, FileInfo], drill_holes: dict[s
                          f"holes within {ref_name}")
         info.error = err.describe()
         drill_holes[fname] = []
+    # each copper layer against the holes that agree with the copper (the drill files kept above):
+    # a plated hole has copper on the outer layers, so an outer layer they miss unless rescaled is
+    # the file whose units are wrong
+    x, y, _ = resolve.plated_points(h for holes in drill_holes.values() for h in holes)
+    for layer in list(board.copper_layers()):
+        if layer.name not in ("top-copper", "bottom-copper") or layer.dark is None or layer.dark.is_empty:
+            continue
+        problem = resolve.copper_units_problem(layer.dark, x, y, layer.units)
+        if problem is not None:
+            info = infos[_key_of(infos, layer.file)]
+            info.error = InputError(layer.file, None, problem, "copper at the plated holes").describe()
+            board.layers.remove(layer)
     for layer in list(board.layers):
         if layer.dark is None or layer.dark.is_empty or layer.function == "outline":
             continue

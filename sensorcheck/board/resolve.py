@@ -231,6 +231,30 @@ def _fmt_scale(scale: float) -> str:
     return "read as millimetres" if scale < 1 else "read as inches"
 
 
+def rescale_fit(images: Sequence[BaseGeometry], x: np.ndarray, y: np.ndarray) -> tuple[float, float, float] | None:
+    """(share as read, scale, share scaled) when the points miss the images as read but land on them
+    scaled by 25.4 or 1/25.4 about the origin; None when they agree or there is too little to tell."""
+    if len(x) < 5 or not images:
+        return None
+    shares = {s: max(share_on(img, x, y, s) for img in images) for s in (1.0, MM_PER_INCH, 1 / MM_PER_INCH)}
+    if shares[1.0] >= HOLES_ON_COPPER_LOW:
+        return None
+    best = max((MM_PER_INCH, 1 / MM_PER_INCH), key=lambda s: shares[s])
+    return (shares[1.0], best, shares[best]) if shares[best] >= HOLES_ON_COPPER_HIGH else None
+
+
+def copper_units_problem(image: BaseGeometry, x: np.ndarray, y: np.ndarray, units: str | None) -> str | None:
+    """Why a copper layer's units look wrong against the drill files that agree with the other copper."""
+    fit = rescale_fit([image], x, y)
+    if fit is None:
+        return None
+    share, best, share_best = fit
+    as_read = f" (as {units})" if units else ""
+    return (f"{share:.0%} of the {len(x)} plated holes land on this layer's copper{as_read}, {share_best:.0%} would if "
+            f"the layer were {1 / best:g} times the size: this file's units disagree with the drill files' and the "
+            "other copper layers'")
+
+
 def drill_units_problem(holes: Sequence[Hole], outer_copper: Sequence[BaseGeometry], units: str | None) -> str | None:
     """Why a drill file's units look wrong against the copper (None: they agree, or too little to tell).
 
@@ -241,13 +265,11 @@ def drill_units_problem(holes: Sequence[Hole], outer_copper: Sequence[BaseGeomet
     """
     x, y, d = plated_points(holes)
     as_read = f" (as {units})" if units else ""
-    if len(x) >= 5 and outer_copper:
-        shares = {s: max(share_on(img, x, y, s) for img in outer_copper) for s in (1.0, MM_PER_INCH, 1 / MM_PER_INCH)}
-        if shares[1.0] < HOLES_ON_COPPER_LOW:
-            best = max((MM_PER_INCH, 1 / MM_PER_INCH), key=lambda s: shares[s])
-            if shares[best] >= HOLES_ON_COPPER_HIGH:
-                return (f"{shares[1.0]:.0%} of its {len(x)} plated holes land on copper{as_read}, {shares[best]:.0%} "
-                        f"would if {_fmt_scale(best)} (scaled by {best:g}): the file's units look wrong")
+    fit = rescale_fit(outer_copper, x, y)
+    if fit is not None:
+        share, best, share_best = fit
+        return (f"{share:.0%} of its {len(x)} plated holes land on copper{as_read}, {share_best:.0%} "
+                f"would if {_fmt_scale(best)} (scaled by {best:g}): the file's units look wrong")
     if len(d) >= 5:
         med = float(np.median(d))
         if med > MAX_PLATED_HOLE_MM and MIN_HOLE_MM <= med / MM_PER_INCH <= MAX_PLATED_HOLE_MM:

@@ -271,3 +271,15 @@ def test_artwork_files_named_after_their_planes_are_inner_copper(tmp_path: Path)
     assert copper[0] == ("top-copper", "TOP.art") and copper[-1] == ("bottom-copper", "BOTTOM.art")
     assert {f for _, f in copper[1:3]} == {"GND2.art", "PWR.art"}
     assert all("guess" in (f.note or "") for f in board.files if f.path in ("GND2.art", "PWR.art"))
+
+
+def test_an_outer_copper_layer_at_the_wrong_scale_is_named(tmp_path: Path) -> None:
+    # the bottom copper written in inches under a millimetre header: 1/25.4 of its size, inside the
+    # board's box (so no extent check sees it); the holes land on the top copper and miss it
+    (tmp_path / "board.GTL").write_bytes(_copper())
+    small = [flash(x / 25.4, y / 25.4) for x, y in PADS]
+    (tmp_path / "board.GBL").write_bytes(gerber(["%ADD13C,0.080000*%", *[f.replace("D12*", "D13*") for f in small]]))
+    (tmp_path / "board.GKO").write_bytes(_outline_plain())
+    (tmp_path / "board.drl").write_bytes(_drill("1,2"))
+    errors = _errors(load_board(tmp_path))
+    assert list(errors) == ["board.GBL"] and "units disagree" in errors["board.GBL"]
