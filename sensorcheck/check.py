@@ -103,6 +103,8 @@ def _design_and_config(path: Path, config_file: Path | None, layer_map: dict[str
         kwargs["limits"] = limits
     if config.stackup_override is not None:
         kwargs["stackup_override"] = config.stackup_override
+    if getattr(config, "copper_layers", None) is not None:
+        kwargs["copper_layers"] = config.copper_layers
     board = load_board(path, **kwargs)
     design = build_design(board, config)
     return design, config

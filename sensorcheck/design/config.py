@@ -760,7 +760,9 @@ def load_config(
     face = "top"
     if "board" in data:
         b = _table(ctx, data["board"], "board")
-        _check_keys(ctx, b, ("face", "zone_margin_mm"), "board")
+        _check_keys(ctx, b, ("face", "zone_margin_mm", "copper_layers"), "board")
+        if "copper_layers" in b:  # confirms the stack-up where the files announce more layers than were found
+            config.copper_layers = _integer(ctx, b["copper_layers"], "board.copper_layers", min_value=1, max_value=64)
         if "face" in b:
             face = _string(ctx, b["face"], "board.face", choices=("top", "bottom"))
         if "zone_margin_mm" in b:

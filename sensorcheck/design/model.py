@@ -114,6 +114,8 @@ class Config:
     face: Literal["top", "bottom"] = "top"
     #: sensing-zone margin ([board] zone_margin_mm); None: overlay thickness, at least 1 mm (design/zones.py)
     zone_margin_mm: float | None = None
+    #: how many copper layers the board has ([board] copper_layers): confirms a stack-up the files disagree with
+    copper_layers: int | None = None
     #: what loading the config noticed that is not an error (reported as notes)
     notes: list[str] = field(default_factory=list)
 

@@ -79,6 +79,9 @@ class Identification:
     file_function: str | None = None
     generator: str | None = None
     note: str | None = None
+    #: a guess the board's content must confirm (a mechanical layer that may be the outline, a
+    #: copper layer known only by a plane name): :mod:`sensorcheck.board.resolve` decides
+    tentative: bool = False
 
 
 # ----------------------------------------------------------------------------- X2 attributes
@@ -153,6 +156,19 @@ def from_file_function(name: str, values: list[str], how: IdentifiedBy) -> Ident
     # drawings, glue, other masks, v-cut, depth routing, "Other,User": Gerber, not used by checks
     return Identification(name, "other", "gerber", identified_by=how, file_function=text,
                           note=f"X2 FileFunction {text}: not used by the checks")
+
+
+_PHYSICAL_ORDER_RE = re.compile(rb"^G04[ \t]*Layer_Physical_Order[ \t]*=[ \t]*(\d{1,2})[ \t]*\*", re.M)
+_LAYER_NAME_RE = re.compile(rb"^G04[ \t]*Layer[ \t]*name[ \t]*:[ \t]*([A-Za-z0-9 _.\-]{1,40}?)[ \t]*\*", re.M | re.I)
+
+
+def head_layer_hints(head: bytes) -> tuple[int | None, str | None]:
+    """Layer hints some generators write as G04 comments: the copper layer's place in the stack
+    (``G04 Layer_Physical_Order=2*``) and the layer's name (``G04 Layer name: Bottom *``)."""
+    order = _PHYSICAL_ORDER_RE.search(head[:65536])
+    named = _LAYER_NAME_RE.search(head[:65536])
+    return (int(order.group(1)) if order and int(order.group(1)) > 0 else None,
+            named.group(1).decode("ascii").strip() if named else None)
 
 
 # ----------------------------------------------------------------------------- job file
@@ -232,7 +248,7 @@ _KIND_OF_CONTENT: dict[str, FileKind] = {
 _COMPOUND_WORDS = (
     "top", "bottom", "bot", "solder", "mask", "soldermask", "silk", "silkscreen", "screen", "paste",
     "cream", "layer", "copper", "board", "outline", "edge", "cuts", "internal", "plane", "inner",
-    "drill", "drills", "plated", "legend", "overlay", "resist", "stop", "group",
+    "drill", "drills", "plated", "legend", "overlay", "resist", "stop", "group", "stencil", "edges",
 )
 
 
@@ -311,12 +327,19 @@ _OTHER_WORDS = {"fab", "courtyard", "crtyd", "adhesive", "glue", "margin", "user
 _PASTE_WORDS = {"paste", "cream", "stencil", "smd"}
 _MASK_WORDS = {"mask", "soldermask", "stopmask", "resist", "stop", "sm"}
 _SILK_WORDS = {"silk", "silks", "silkscreen", "legend", "overlay", "ss", "plc"}
-_OUTLINE_WORDS = {"outline", "edge", "cuts", "profile", "boardoutline", "contour", "shape", "milling", "dimension", "border"}
+_OUTLINE_WORDS = {"outline", "edge", "edges", "cuts", "profile", "boardoutline", "contour", "shape", "milling", "dimension", "border"}
+_OUTLINE_STRONG = {"outline", "edge", "edges", "cuts", "profile", "boardoutline"}
 _DRILL_WORDS = {"drill", "drills", "drl", "pth", "npth", "plated", "unplated", "through", "holes", "nc"}
 _COPPER_WORDS = {"cu", "copper", "signal", "toplayer", "bottomlayer", "internalplane", "plane", "layer", "route"}
 _TOP_WORDS = {"top", "front", "f", "cmp", "component", "t"}
 _BOTTOM_WORDS = {"bottom", "bot", "back", "b", "sol"}
 _INNER_WORDS = {"in", "inner", "inr", "internal", "internalplane", "mid", "midlayer", "ly", "plane", "group"}
+#: words that number a layer from the top of the stack (L1 = top): "_L02", "Layer2", "lyr3", "art002"
+_ABSOLUTE_NUMBER_WORDS = {"l", "layer", "lyr", "lay", "art", "lr"}
+#: names of plane and signal layers (Allegro/OrCAD artwork, PADS, hand-named exports): inner copper
+#: when nothing names a side ("GND2.art", "PWR.art", "VCC.gbr", "SIG3.art")
+_PLANE_WORDS = {"gnd", "ground", "pwr", "power", "vcc", "vdd", "vss", "plane", "planes", "sig", "signal", "mid",
+                "midlayer", "internal", "internalplane", "inner", "inr"}
 
 
 _FUNCTION_WORDS = _PASTE_WORDS | _MASK_WORDS | _SILK_WORDS | _COPPER_WORDS | {"solder", "screen", "cream"}
@@ -342,17 +365,28 @@ def _side_from_tokens(tokens: list[str]) -> tuple[Side | None, int | None]:
         nxt = tokens[i + 1] if i + 1 < len(tokens) else ""
         if t in _INNER_WORDS and nxt.isdigit():
             return "inner", int(nxt)
+        if t in _INNER_WORDS and nxt == "layer" and i + 2 < len(tokens) and tokens[i + 2].isdigit():
+            return "inner", int(tokens[i + 2])  # Altium "MidLayer1", "InternalLayer2"
     for i, t in enumerate(tokens):
         if t in _FUNCTION_WORDS:
-            for j in (i - 1, i + 1):
-                if 0 <= j < len(tokens) and _side_of(tokens[j]):
-                    return _side_of(tokens[j]), None
+            near = [tokens[j] for j in (i - 1, i + 1) if 0 <= j < len(tokens) and _side_of(tokens[j])]
+            if near:  # a whole word ("PasteTop") beats a letter that may be a project name ("b.PasteTop")
+                return _side_of(max(near, key=lambda w: len(w) > 1)), None
     for t in reversed(tokens):
         if t in _TOP_STRONG:
             return "top", None
         if t in _BOTTOM_STRONG:
             return "bottom", None
     return None, None
+
+
+def _absolute_number(tokens: list[str]) -> int | None:
+    """A layer's place in the stack written in its name: "_L02", "Layer2", "lyr3", "l2_gnd", "art002"."""
+    for i, t in enumerate(tokens[:-1]):
+        nxt = tokens[i + 1]
+        if t in _ABSOLUTE_NUMBER_WORDS and nxt.isdigit() and 0 < int(nxt) <= 99:
+            return int(nxt)
+    return None
 
 
 def identify_name(name: str) -> Identification:
@@ -369,6 +403,8 @@ def identify_name(name: str) -> Identification:
     if not dot:
         stem, ext = base, ""
     ext_l = ext.lower()
+    if _word_extension(ext_l):  # ".PasteTop", ".StopBot", ".Outline": the extension's words count as the name's
+        stem, ext_l = f"{stem}.{ext}", ""
     if ext_l in ("gbrjob",):
         return Identification(name, "job", "gbrjob", None, "none", "filename")
     if ext_l in ("ipc", "d356", "356", "ipc356", "ipcd356"):
@@ -430,23 +466,45 @@ def identify_name(name: str) -> Identification:
     if tokset & _SILK_WORDS or ("silk" in "".join(toks)):
         return layer_ident("silk", side)
     if tokset & _OUTLINE_WORDS or {"board", "outline"} <= tokset:
-        return layer_ident("outline", "none")
+        if tokset & _OUTLINE_STRONG:
+            return layer_ident("outline", "none")
+        # "contour", "shape", "dimension", "border", "milling": an outline only if it encloses the copper
+        return replace(layer_ident("outline", "none"), tentative=True,
+                       note="outline by a weak name: the outline only if it encloses the copper")
     if tokset & _DRILL_WORDS and ext_l in _GENERIC_EXT | {""}:
         # a Gerber-extension file named "drill": a drawing; the content decides
         return Identification(name, "drill", "excellon", "drill", "both", "filename",
                               plated=_plated_from_tokens(toks), note="drill file by name only; confirmed by content")
     if side == "inner" and number is not None and (tokset & (_COPPER_WORDS | _INNER_WORDS)):
         return layer_ident("copper", "inner", number)  # KiCad "In2.Cu.g3": the words beat ".g3"
+    absolute = _absolute_number(toks)
+    m_abs = re.fullmatch(r"(?:lyr|l)(\d+)", ext_l)
+    if m_abs and 0 < int(m_abs.group(1)) <= 99:
+        absolute = int(m_abs.group(1))
+    if side in ("top", "bottom"):
+        absolute = None  # "LM317_L12-B_Cu": the side word wins over a number that may be the project's
+    if absolute is not None and ext_l not in _EXT_LAYERS and not re.fullmatch(r"g[a-z]*\d+", ext_l):
+        # "_L02", "Layer2.pho", "copper_inner_l2", "l2_gnd.art", ".lyr3": the place in the stack
+        if absolute == 1:
+            return Identification(name, "copper", "gerber", "top-copper", "top", "filename", 1, True)
+        return Identification(name, "copper", "gerber", f"inner{absolute - 1}-copper", "inner", "filename",
+                              absolute, True, note="inner copper by the layer number in its name")
     # extension tables (Altium/Protel, Eagle, OrCAD)
     m = re.fullmatch(r"g(\d+)", ext_l) or re.fullmatch(r"gp(\d+)", ext_l) or re.fullmatch(r"ly(\d+)", ext_l) or re.fullmatch(r"in(\d+)", ext_l)
     if ext_l in _EXT_LAYERS:
         role, eside, _layer = _EXT_LAYERS[ext_l]
-        return layer_ident(role, eside)
+        ident = layer_ident(role, eside)
+        if ext_l == "fab":  # OrCAD's fabrication layer: the outline on some boards, a drawing on others
+            return replace(ident, tentative=True, note="fabrication layer: the outline only if it encloses the copper")
+        return ident
     if re.fullmatch(r"gm\d+", ext_l):
-        return layer_ident("outline", "none")
+        # Altium mechanical layers: one of them is usually the board outline, the others dimensions,
+        # assembly notes, keep-outs: the content decides which (board/resolve.py)
+        return replace(layer_ident("outline", "none"), tentative=True,
+                       note="mechanical layer: the outline only if it encloses the copper")
     if re.fullmatch(r"g[dg]\d+", ext_l):
         return layer_ident("other", None)
-    if m:
+    if m and int(m.group(1)) > 0:
         n = int(m.group(1))
         if ext_l.startswith("ly"):
             n -= 1  # Eagle: layer 2 is the first inner layer
@@ -455,6 +513,11 @@ def identify_name(name: str) -> Identification:
     # Proteus "CADCAM Top Copper.GBR", OSH Park "toplayer.ger")
     if side == "inner" and (tokset & (_COPPER_WORDS | _INNER_WORDS)):
         return layer_ident("copper", "inner", number)
+    if side is None and tokset & _PLANE_WORDS:
+        # "GND2.art", "PWR.art", "MidLayer1.gbr": a plane or signal layer between the outer ones
+        digits = [int(t) for t in toks if t.isdigit() and 0 < int(t) <= 99]
+        return replace(layer_ident("copper", "inner", None), copper_number=digits[0] if digits else None,
+                       tentative=True, note="inner copper by a plane or signal name; its place in the stack is a guess")
     if tokset & _COPPER_WORDS:
         return layer_ident("copper", side)
     if side in ("top", "bottom") and ext_l in _GENERIC_EXT and toks and toks[-1] in ("top", "bottom", "bot"):
@@ -462,6 +525,18 @@ def identify_name(name: str) -> Identification:
     if side in ("top", "bottom") and len(tokset & (_TOP_WORDS | _BOTTOM_WORDS)) == len(tokset - {"board"}):
         return layer_ident("copper", side)
     return Identification(name, None, None, note="the file name follows no convention we know")
+
+
+def _word_extension(ext_l: str) -> bool:
+    """An extension made of words (``PasteTop``, ``Outline``), not one of the conventions' codes."""
+    if len(ext_l) < 4 or not ext_l.isalpha() or ext_l in _NOT_FAB_EXT or ext_l in _EXT_LAYERS:
+        return False
+    if ext_l in _GENERIC_EXT or ext_l in _DRILL_EXT_STRONG or ext_l in _DRILL_EXT_WEAK or ext_l in (
+            "gbrjob", "ipc356", "ipcd356"):
+        return False
+    known = (_FUNCTION_WORDS | _OUTLINE_WORDS | _TOP_STRONG | _BOTTOM_STRONG | _DRILL_WORDS | _INNER_WORDS
+             | _PASTE_WORDS | _MASK_WORDS | _SILK_WORDS)
+    return ext_l in known or any(w in known for w in _split_compound(ext_l) if len(w) > 1)
 
 
 def _plated_from_tokens(toks: list[str]) -> bool | None:
@@ -564,6 +639,8 @@ def identify(
         return Identification(name, None, None, identified_by="content",
                               note="GenCAD file: CAD data, not read (net names come from X2 or IPC-D-356)")
     by_name = identify_name(name)
+    if content == "gerber":
+        by_name = _with_head_hints(name, by_name, head)
     proven = content in ("excellon", "ipc356", "gbrjob", "pnp")
     if by_name.role == "drill":
         if content == "gerber":
@@ -587,6 +664,22 @@ def identify(
     if by_name.identified_by == "filename" and not proven:  # a known non-fabrication extension
         return by_name
     return _by_content(name, content, generator, by_name)
+
+
+def _with_head_hints(name: str, by_name: Identification, head: bytes) -> Identification:
+    """Refine a name's answer with the layer hints of the file's G04 comments."""
+    order, layer_name = head_layer_hints(head)
+    if by_name.role is None and by_name.kind is None and layer_name:
+        hinted = identify_name(f"{layer_name}.gbr")
+        if hinted.role is not None:
+            return replace(hinted, name=name, identified_by="content",
+                           note=f"layer named {layer_name!r} in a G04 comment")
+    if by_name.role == "copper" and order is not None and by_name.side != "top" and not by_name.copper_number_absolute:
+        if by_name.side == "bottom":
+            return replace(by_name, copper_number=order, copper_number_absolute=True)
+        return replace(by_name, layer=f"inner{order - 1}-copper", copper_number=order, copper_number_absolute=True,
+                       tentative=False)
+    return by_name
 
 
 def _by_content(name: str, content: ContentKind, generator: str | None, by_name: Identification) -> Identification:

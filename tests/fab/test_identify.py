@@ -260,3 +260,62 @@ def test_our_own_config_is_known_not_a_stray_text_file(name: str) -> None:
     assert ident.role == "other" and ident.kind is None and "config" in (ident.note or "")
     other = identify("hw/fab/settings.toml", b"profile = 'default'\n")
     assert other.role is None and "no fabrication format" in (other.note or "")
+# --- issue 18: names reported from public export suites of about 25 EDA tools ---------------------
+# (the issue lists the names that were missed or mistaken; what each one is follows the tools'
+# naming conventions, from memory: "L<n>"/"Layer<n>"/"lyr<n>"/"art<nnn>" number layers from the top)
+
+@pytest.mark.parametrize(
+    "name, expected",
+    [
+        ("board_L01.gbr", ("copper", "top-copper", 1, True)),
+        ("board_L02.gbr", ("copper", "inner1-copper", 2, True)),
+        ("board_L11.gbr", ("copper", "inner10-copper", 11, True)),
+        ("copper_inner_l2.gbr", ("copper", "inner1-copper", 2, True)),
+        ("Layer2.pho", ("copper", "inner1-copper", 2, True)),
+        ("board.lyr3", ("copper", "inner2-copper", 3, True)),
+        ("lyr9.gbr", ("copper", "inner8-copper", 9, True)),
+        ("l2_gnd.art", ("copper", "inner1-copper", 2, True)),
+        ("art002.pho", ("copper", "inner1-copper", 2, True)),  # PADS-style artwork numbering
+        ("MidLayer1.gbr", ("copper", "inner1-copper", 1, False)),  # Altium mid layer 1 (relative)
+        ("GND2.art", ("copper", "inner-copper", 2, False)),  # Allegro artwork named after the plane
+        ("PWR.art", ("copper", "inner-copper", None, False)),
+        ("board.G1", ("copper", "inner1-copper", 1, False)),
+    ],
+)
+def test_numbered_and_plane_inner_layers_in_any_spelling(name: str, expected: tuple) -> None:
+    ident = identify_name(name)
+    assert (ident.role, ident.layer, ident.copper_number, ident.copper_number_absolute) == expected
+
+
+@pytest.mark.parametrize(
+    "name, expected",
+    [
+        ("board.PasteTop", ("paste", "top-paste", False)),  # words in the extension
+        ("board.StopBot", ("mask", "bottom-mask", False)),
+        ("board.Outline", ("outline", "outline", False)),
+        ("b.CopperTop", ("copper", "top-copper", False)),
+        ("board-PCB_Edges.gbr", ("outline", "outline", False)),  # KiCad 2012-era edge layer
+        ("board.GM1", ("outline", "outline", True)),  # Altium mechanical: the outline only if it encloses the copper
+        ("board.GM13", ("outline", "outline", True)),
+        ("board.FAB", ("outline", "outline", True)),  # OrCAD fabrication layer: likewise
+        ("TopStencil.gbr", ("paste", "top-paste", False)),  # a stencil is paste, never the solder mask
+        ("board.stencil_bottom.gbr", ("paste", "bottom-paste", False)),
+        ("board.g0", (None, None, False)),  # no Altium mid layer 0
+    ],
+)
+def test_words_in_extensions_and_layers_the_content_must_confirm(name: str, expected: tuple) -> None:
+    ident = identify_name(name)
+    assert (ident.role, ident.layer, ident.tentative) == expected
+
+
+def test_layer_hints_in_g04_comments(shared_dir: Path) -> None:
+    # pcb-tools resources "example_guess_by_content.g0": "G04 Layer name: Bottom *" (an ULTIpost header)
+    path = shared_dir / "gerber-suites/pcb-tools-resources/example_guess_by_content.g0"
+    ident = identify(path.name, path.read_bytes()[:65536])
+    assert (ident.layer, ident.identified_by) == ("bottom-copper", "content")
+    # tracespace usbvil: Altium writes "G04 Layer_Physical_Order=2*" in the bottom copper
+    head = (shared_dir / "gerber-suites/tracespace-fixtures/boards/usbvil/pic18f14k50.gbl").read_bytes()[:65536]
+    assert identify("pic18f14k50.gbl", head).copper_number == 2
+    # an Altium mid layer: the physical order gives its place in the stack
+    mid = identify("board.G2", b"%FSLAX24Y24*%\n%MOIN*%\nG04 Layer_Physical_Order=3*\nM02*\n")
+    assert (mid.layer, mid.copper_number, mid.copper_number_absolute) == ("inner2-copper", 3, True)
