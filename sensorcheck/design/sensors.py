@@ -168,7 +168,9 @@ def _split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry
     geom = _valid(_area_only(layer.by_net.get(net, _empty())))
     if geom.is_empty:
         return _empty(), _empty(), geom
-    feats = [f for f in layer.features if f.net == net and f.polarity == "dark"]
+    # footprint graphics etched in copper (X2 .AperFunction EtchedComponent: a slider's drawn
+    # outline) are neither trace nor pad: the copper they draw is judged as it lies
+    feats = [f for f in layer.features if f.net == net and f.polarity == "dark" and f.aperture_function != "EtchedComponent"]
     if feats:
         traces = _union(f.geometry for f in feats if _is_trace_feature(f))
         pads = _union(f.geometry for f in feats if not _is_trace_feature(f))
