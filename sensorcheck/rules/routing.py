@@ -23,7 +23,6 @@ from sensorcheck.rules.common import (
     finding,
     fmt,
     hole_nets,
-    is_floating_id,
     is_via,
     midpoint,
     nearest_points,
@@ -107,7 +106,9 @@ class ForeignCopperInZone(Rule):
     What it checks:
         For every sensor and every copper layer, copper of nets that are neither the sensor's own
         nor ground, shield or guard (and not aggressors, which ``routing.aggressor-near-sensor``
-        judges, nor unconnected copper, which ``fab.floating-copper`` judges) inside the sensing
+        judges), whatever their name (copper of nets known only by connectivity, ``~n...``, too;
+        so unconnected copper near a named board's sensor is reported here as well as by
+        ``fab.floating-copper``), inside the sensing
         zone (the electrodes grown by the zone margin).  Another sensor's electrodes are not
         counted; its traces are.  Copper under the electrode itself is an error, in the rest of
         the zone a warning.
@@ -146,7 +147,8 @@ class ForeignCopperInZone(Rule):
             layers.append((lay, names, shapely.STRtree([lay.by_net[n] for n in names])))
         index = FeatureIndex(design.board)
         skip = REFERENCE_ROLES | {"aggressor"}
-        judged = {n: not (is_floating_id(n) or role(design, n) in skip) for _, names, _ in layers for n in names}
+        # whatever the name: copper of an unnamed net (``~n...``) is foreign as much as a named one
+        judged = {n: role(design, n) not in skip for _, names, _ in layers for n in names}
         for s in design.sensors:
             own = set(s.nets)
             others_el: BaseGeometry | None = None
