@@ -304,7 +304,9 @@ class TraceUnderElectrode(Rule):
     Known limitations:
         A ground or shield layer between trace and electrode would make the mutual case harmless;
         that is not detected.  Within one mutual node the RX trace may cross its own TX (a centre
-        RX leaves through its TX ring): not reported.
+        RX leaves through its TX ring): not reported, and in a matrix wired by lines that holds for
+        the pair of lines at every node they form.  A line's trace under one electrode is one
+        finding, however many nodes the line belongs to (named after the first of them).
     Example:
         Button B1's trace on the bottom layer running under button B2.
     Fix:
@@ -337,15 +339,24 @@ class TraceUnderElectrode(Rule):
         raw_by: dict[tuple[int, str], list[int]] = {}
         for i, layer, k in raw:
             raw_by.setdefault((i, layer), []).append(k)
+        # the mutual sensors each net is an electrode of: in a matrix wired by lines, every node the
+        # line forms with another line is that pair's own node
+        mutual_of: dict[int, np.ndarray] = {}
+        for i, b in enumerate(design.sensors):
+            if b.kind not in SELF_KINDS:
+                for eb in b.electrodes:
+                    mutual_of.setdefault(net_ids[eb.net], np.zeros(len(design.sensors), dtype=bool))[i] = True
+        reported: set[tuple[str, str, int]] = set()  # (net, layer, electrode): one finding per crossing
         ia_flat = -1
         for ia, a in enumerate(design.sensors):
             for ea in a.electrodes:
                 ia_flat += 1
-                # the electrodes that can be reported at all: other nets, and not the own mutual node (its RX
-                # trace leaves through its own TX ring by design); the others are never looked at
+                # the electrodes that can be reported at all: other nets, and not an own mutual node (its RX
+                # trace leaves through its own TX ring by design) -- any mutual node the trace's net is an
+                # electrode of, so a matrix line entering each of its keys is exempt at every key
                 judged = flat_net != net_ids[ea.net]
                 if a.kind not in SELF_KINDS:
-                    judged &= flat_sensor != ia
+                    judged &= ~mutual_of.get(net_ids[ea.net], np.zeros(len(design.sensors), dtype=bool))[flat_sensor]
                 traces: list[tuple[str, BaseGeometry]] = []
                 meets: dict[str, set[int]] = {}
                 for layer, geom in sorted(ea.trace.items()):
@@ -372,9 +383,12 @@ class TraceUnderElectrode(Rule):
                     for layer, tg in traces:
                         if k not in meets[layer]:
                             continue
+                        if (ea.net, layer, k) in reported:
+                            continue  # the same line under the same electrode, seen from another node of it
                         ov = tg.intersection(eb.geometry)
                         if ov.is_empty or ov.area < params["min_area_mm2"]:
                             continue
+                        reported.add((ea.net, layer, k))
                         sev = "error" if b.kind in SELF_KINDS else "warning"
                         yield finding(
                             sev,
@@ -503,18 +517,17 @@ class AggressorNearSensor(Rule):
                 limit = params["min_distance_led_mm"] if kind == "led" else params["min_distance_mm"]
                 cu = [(lay.name, lay.by_net.get(net)) for lay in layers]
                 cu = [(name, ag) for name, ag in cu if ag is not None and not ag.is_empty]
-                # the first (layer, electrode) in order where the aggressor lies under an electrode of another
-                # layer; copper that does not touch the electrode has no overlap, so only the rest is cut
+                # the (layer, electrode) where the aggressor lies most under an electrode of another layer (the
+                # first of the largest, in layer and electrode order: the order of a slider's segments, which
+                # may come from names or from geometry, does not decide); copper that does not touch the
+                # electrode has no overlap, so only the rest is cut
                 under_hit = None
                 for name, ag in cu:
                     for e in s.electrodes:
                         if e.layer != name and _boxes_within(ag, e.geometry, 0.0) and ag.intersects(e.geometry):
                             ov = ag.intersection(e.geometry)
-                            if not ov.is_empty and ov.area > 1e-3:
+                            if not ov.is_empty and ov.area > 1e-3 and (under_hit is None or ov.area > under_hit[1].area + 1e-9):
                                 under_hit = (name, ov, e)
-                                break
-                    if under_hit is not None:
-                        break
                 if under_hit is not None:
                     layer, ov, e = under_hit
                     yield finding(
