@@ -759,7 +759,10 @@ class RxParallelTx(Rule):
                     longest = runs[0] if runs else piece
                     closest = float(shapely.distance(piece, tx_cu[j]))
                     node = next((s for s in a_set if s in b_set), None)
-                    a = a_set[0]
+                    # the run is reported under the node it adds to, else under the RX's node nearest to it
+                    # (a matrix line is in several: the names' order does not pick)
+                    a = node if node is not None else (a_set[0] if len(a_set) == 1 else min(
+                        a_set, key=lambda o: self.cache.outline(o).distance(longest)))
                     what = (f"RX trace {rx} ({a.name}) on {layer} runs {fmt(length, 1)} mm in all within "
                             f"{fmt(dist)} mm of TX {tx} of {b_set[0].name} (longest run {fmt(longest.length, 1)} mm, "
                             f"centre line {fmt(closest)} mm from the TX copper at the closest); limit {fmt(limit, 1)} mm")
