@@ -237,6 +237,7 @@ def fill_feature_nets(board: Board, islands: list[Island]) -> None:
                 areas = shapely.area(shapely.intersection(geoms[a], polys[cand]))
                 best = cand[int(np.argmax(areas))]
             todo[a].net = isls[best].name
+            todo[a].net_by_connectivity = True
     if not board.holes:
         return
     layers = [(isls, STRtree([isl.polygon for isl in isls]))

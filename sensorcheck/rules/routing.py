@@ -86,6 +86,55 @@ class FeatureIndex:
         return out
 
 
+#: a region of a sensing net outside its electrode whose mean width (2 x area / perimeter; a strip of
+#: width w and length L >> w gives w) is at most this is a trace drawn as a polygon (the same bound
+#: as the electrode/trace split's thin draws, design/sensors.py)
+REGION_TRACE_WIDTH_MAX_MM = 1.0
+
+
+def region_trace_nets(design: Design, index: FeatureIndex) -> list[str]:
+    """Sensing nets with trace copper drawn only as regions on some layer (no draw or arc of the net
+    there outside its electrode): what the rules that read trace centre lines cannot measure."""
+    out: list[str] = []
+    seen: set[str] = set()
+    for s in design.sensors:
+        for e in s.electrodes:
+            if e.net in seen:
+                continue
+            seen.add(e.net)
+            drawn = index.trace(e)
+            for layer, g in sorted(e.trace.items()):
+                if g.is_empty or layer in drawn:
+                    continue
+                for f in index.net(layer, e.net):
+                    if f.kind != "region":
+                        continue
+                    rest = f.geometry.difference(e.geometry) if layer == e.layer else f.geometry
+                    if rest.area > 0.05 and 2 * rest.area / max(rest.length, 1e-9) <= REGION_TRACE_WIDTH_MAX_MM:
+                        out.append(e.net)
+                        break
+                if out and out[-1] == e.net:
+                    break
+    return out
+
+
+def traces_not_measured(rule_id: str, design: Design, index: FeatureIndex, what: str) -> Iterator[Finding]:
+    """One "not checked" line for the sensing nets whose traces are drawn as regions (none if none)."""
+    nets = region_trace_nets(design, index)
+    if nets:
+        from sensorcheck.rules.engine import not_checked_note
+
+        shown = ", ".join(nets[:5]) + (f" and {len(nets) - 5} more" if len(nets) > 5 else "")
+        note = not_checked_note(
+            rule_id, f"the {what} of {len(nets)} sensing net(s) ({shown}): their traces are drawn as regions "
+            "(polygons), which carry no aperture width or centre line",
+            "export traces as draws (most EDA tools do), or check these traces by eye")
+        if any(index.trace(e) for s in design.sensors for e in s.electrodes):
+            # the other nets' traces were measured: the rule ran, this part of it did not
+            note.message = "partly " + note.message
+        yield note
+
+
 def _paths_inside_box(feats: list[Feature], geom: BaseGeometry) -> np.ndarray:
     """Which features' paths have a box inside the box of ``geom`` (edges included, 1e-9 mm slack)."""
     if geom.is_empty:
