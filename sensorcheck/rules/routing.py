@@ -86,9 +86,9 @@ class FeatureIndex:
         return out
 
 
-#: a region of a sensing net outside its electrode whose mean width (2 x area / perimeter; a strip of
-#: width w and length L >> w gives w) is at most this is a trace drawn as a polygon (the same bound
-#: as the electrode/trace split's thin draws, design/sensors.py)
+#: a region of a sensing net mostly (at least half of it) outside its electrode whose mean width there
+#: (2 x area / perimeter; a strip of width w and length L >> w gives w) is at most this is a trace
+#: drawn as a polygon (the same bound as the electrode/trace split's thin draws, design/sensors.py)
 REGION_TRACE_WIDTH_MAX_MM = 1.0
 
 
@@ -110,7 +110,10 @@ def region_trace_nets(design: Design, index: FeatureIndex) -> list[str]:
                     if f.kind != "region":
                         continue
                     rest = f.geometry.difference(e.geometry) if layer == e.layer else f.geometry
-                    if rest.area > 0.05 and 2 * rest.area / max(rest.length, 1e-9) <= REGION_TRACE_WIDTH_MAX_MM:
+                    # mostly outside the electrode (not an electrode's own edge cut by a node's footprint)
+                    # and thin
+                    if (rest.area > 0.05 and rest.area >= 0.5 * f.geometry.area
+                            and 2 * rest.area / max(rest.length, 1e-9) <= REGION_TRACE_WIDTH_MAX_MM):
                         out.append(e.net)
                         break
                 if out and out[-1] == e.net:
