@@ -14,6 +14,7 @@ import math
 from pathlib import Path
 
 import pytest
+from shapely.geometry import Point
 
 from sensorcheck.check import build_design_for
 from sensorcheck.design.sensors import FACING_GAP_MM
@@ -57,6 +58,13 @@ kind = "overlay"
 """
 
 
+def _check(cfg: Path):  # noqa: ANN202 - (design, rule run)
+    """Check the board beside ``cfg`` (same name): it must carry no net names."""
+    design = build_design_for(cfg.with_suffix(""), cfg)
+    assert design.board.net_source == "geometry"
+    return design, run_rules(design)
+
+
 def _place(layer: str, x: float, y: float, role: str, sensor: str | None = None) -> str:
     extra = f'\nsensor = "{sensor}"' if sensor else ""
     return f'\n[[roles.place]]\nlayer = "{layer}"\npoint_mm = [{x}, {y}]\nrole = "{role}"{extra}\n'
@@ -97,14 +105,11 @@ def matrix_keypad(tmp_path: Path) -> Path:
 
 
 def test_matrix_keypad_without_names(tmp_path: Path) -> None:
-    cfg = matrix_keypad(tmp_path)
-    design = build_design_for(tmp_path / "matrix", cfg)
-    assert design.board.net_source == "geometry"
+    design, run = _check(matrix_keypad(tmp_path))
     nodes = [s for s in design.sensors if s.kind == "mutual-node"]
     assert len(nodes) == 12
     # every node's electrodes are on the layer where its two lines face each other: the top
     assert {e.layer for s in nodes for e in s.electrodes} == {"top-copper"}
-    run = run_rules(design)
     under = [f for f in run.findings if f.rule_id == "routing.trace-under-electrode"]
     # the only crossing that is not a line entering its own key: RX0's leg under the TX electrode of key
     # (3, 1), reported once (not once per node of RX0).  The key's TX electrode is its ring within the
@@ -125,16 +130,8 @@ def test_matrix_keypad_without_names(tmp_path: Path) -> None:
     expected_mm2 = strip + math.pi * (LINE_MM / 2) ** 2 / 2
     assert f.value == pytest.approx(expected_mm2, rel=0.03)  # polygonal circles (arcs flattened, buffers)
     assert f.location.layer == "bottom-copper"
-    tx3 = design.board.layer("top-copper")
-    assert tx3 is not None
-    key31 = next(s for s in nodes if s.outline.contains(_pt(PITCH_MM, -PITCH_MM * 3)))
+    key31 = next(s for s in nodes if s.outline.contains(Point(PITCH_MM, -PITCH_MM * 3)))
     assert f.sensor == key31.name
-
-
-def _pt(x: float, y: float):  # noqa: ANN202 - a shapely point
-    from shapely.geometry import Point
-
-    return Point(x, y)
 
 
 # --------------------------------------------------------------------------- parts under a key
@@ -156,10 +153,7 @@ def parts_under_key(tmp_path: Path) -> Path:
 
 
 def test_parts_under_a_key_without_names(tmp_path: Path) -> None:
-    cfg = parts_under_key(tmp_path)
-    design = build_design_for(tmp_path / "parts", cfg)
-    assert design.board.net_source == "geometry"
-    run = run_rules(design)
+    _, run = _check(parts_under_key(tmp_path))
     found = [f for f in run.findings if f.rule_id == "routing.foreign-copper-in-zone"]
     # each of the six pads is foreign copper under key1's electrode: 1.0 x 1.5 = 1.5 mm2 each; the
     # ground pour under key2 is ground (by place) and is not reported
@@ -182,10 +176,7 @@ def wide_trace(tmp_path: Path) -> Path:
 
 
 def test_trace_width_without_names(tmp_path: Path) -> None:
-    cfg = wide_trace(tmp_path)
-    design = build_design_for(tmp_path / "wide", cfg)
-    assert design.board.net_source == "geometry"
-    run = run_rules(design)
+    _, run = _check(wide_trace(tmp_path))
     width = [f for f in run.findings if f.rule_id == "trace.width"]
     # the aperture says 0.254 mm; the rule's default limit is 0.25 mm (common practice)
     assert len(width) == 1 and width[0].sensor == "key"
