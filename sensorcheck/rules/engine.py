@@ -505,6 +505,15 @@ def _missing_needs(cls: type[Rule], design: Design, estimates: Mapping[str, Sens
 NOT_CHECKED = "not checked: "
 
 
+def _how_to_give(need: str, design: Design) -> tuple[str, str]:
+    """What is missing and how to give it; on a board without net names, roles go by place."""
+    what, how = HOW_TO_GIVE[need]
+    if need in ("sensors", "roles") and design.board.net_source == "geometry":
+        how = ("the board carries no net names: give each sensor's copper by place with [[roles.place]] "
+               "(layer, point_mm, role, sensor) in sensorcheck.toml")
+    return what, how
+
+
 def _missing_note(rule_id: str, what: list[tuple[str, str]]) -> Finding:
     parts = "; ".join(f"{w}: {h}" for w, h in what)
     return Finding(rule_id=rule_id, severity="note", message=f"{NOT_CHECKED}{parts}")
@@ -628,7 +637,7 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
             progress(f"rule {i + 1}/{len(active)}: {rid}")
         missing = _missing_needs(cls, design, estimates)
         if missing:
-            run.findings.append(_missing_note(rid, [HOW_TO_GIVE[m] for m in missing]))
+            run.findings.append(_missing_note(rid, [_how_to_give(m, design) for m in missing]))
             continue
         try:
             rule = cls()

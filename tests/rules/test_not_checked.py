@@ -52,3 +52,17 @@ def test_partly_measured_says_partly() -> None:
     found = run_one("trace.width", design)
     assert [f.message.split(":")[0] for f in found] == ["partly not checked"]
     assert "B1" in found[0].message and "B2" not in found[0].message
+
+
+def test_unnamed_board_is_told_to_give_roles_by_place() -> None:
+    # no ground given: a named board is told the name pattern, a board without names the place
+    design = _button(trace_as_region=False)
+    named = [f for f in run_rules(design).findings if f.rule_id == "gap.electrode-ground-vs-overlay"]
+    assert len(named) == 1 and 'ground = ["GND"]' in named[0].message
+    design.board.net_source = "geometry"
+    blind = [f for f in run_rules(design).findings if f.rule_id == "gap.electrode-ground-vs-overlay"]
+    assert len(blind) == 1 and "[[roles.place]]" in blind[0].message and '"GND"' not in blind[0].message
+    # no sensors at all on a board without names: the way to give them is by place
+    design.sensors = []
+    notes = [f for f in run_rules(design).findings if f.rule_id == "trace.width"]
+    assert len(notes) == 1 and notes[0].message.startswith("not checked") and "[[roles.place]]" in notes[0].message
