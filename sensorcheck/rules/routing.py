@@ -689,6 +689,7 @@ class AggressorParallel(Rule):
                                 nets=(e.net, net), sensor=s.name,
                                 source=source_near(index.net(layer, e.net), piece),
                             )
+        yield from traces_not_measured(self.id, design, index, "parallel runs beside aggressors")
 
 
 def _boxes_within(a: BaseGeometry, b: BaseGeometry, distance_mm: float) -> bool:
@@ -829,6 +830,7 @@ class RxParallelTx(Rule):
                         nets=(rx, tx), sensor=a.name,
                         source=source_near(index.net(layer, rx), longest),
                     )
+        yield from traces_not_measured(self.id, design, index, "parallel runs beside TX lines")
 
 
 def _segments(geom: BaseGeometry) -> Iterator[tuple[tuple[float, float], tuple[float, float]]]:
@@ -955,6 +957,7 @@ class CrossingAngle(Rule):
                             nets=(e.net, net), sensor=s.name,
                             source=source_near(index.net(layer, e.net), Point(pt)),
                         )
+        yield from traces_not_measured(self.id, design, index, "crossing angles")
 
 
 def _all_segments(geoms: list[BaseGeometry]) -> tuple[np.ndarray, np.ndarray]:

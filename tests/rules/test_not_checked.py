@@ -38,8 +38,11 @@ def test_trace_drawn_as_region_is_not_checked_and_not_counted() -> None:
     found = run_one("trace.width", design)
     assert len(found) == 1 and found[0].severity == "note"
     assert found[0].message.startswith("not checked: ") and "B1" in found[0].message
+    crossing = run_one("routing.crossing-angle", design)
+    assert len(crossing) == 1 and crossing[0].message.startswith("not checked: the crossing angles")
     run = run_rules(design)
     assert "trace.width" not in run.rules_run and "trace.length" not in run.rules_run
+    assert "routing.crossing-angle" not in run.rules_run
     # the same trace drawn with a 0.3 mm aperture is measured: over the 0.25 mm limit (common practice)
     drawn = _button(trace_as_region=False)
     widths = run_one("trace.width", drawn)
