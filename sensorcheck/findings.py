@@ -179,7 +179,8 @@ class Result:
     findings: list[Finding] = field(default_factory=list)
     sensors: list[SensorSummary] = field(default_factory=list)
     rules: list[RuleInfo] = field(default_factory=list)
-    #: rule ids that ran (and passed or produced findings), for JUnit "passing" test cases
+    #: rule ids that measured (passed or produced findings; not those that only said "not checked"),
+    #: for JUnit "passing" test cases and the summary's count
     rules_run: list[str] = field(default_factory=list)
     files: list[dict[str, Any]] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)

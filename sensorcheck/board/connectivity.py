@@ -13,13 +13,19 @@ Each island is then named:
 
 Holes of unknown plating (drill files that do not say) are taken as plated: most such files are
 the board's only drill file, which holds its vias and pads.
+
+Finally every copper feature and every hole the files give no net gets the net of the island it
+lies on (:func:`fill_feature_nets`), so that whatever reads features or holes by net reads a board
+without net names the same way as a named one.
 """
 
 from __future__ import annotations
 
 import hashlib
 from collections import Counter, defaultdict
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+
+import numpy as np
 
 import shapely
 from shapely.geometry import LineString, MultiPolygon, Point, Polygon
@@ -193,4 +199,57 @@ def assign_nets(
         }
     sources = sorted({isl.source for isl in islands if isl.source})
     board.net_source = "+".join(sources) if sources else "geometry"
+    fill_feature_nets(board, islands)
     return islands
+
+
+def fill_feature_nets(board: Board, islands: list[Island]) -> None:
+    """Give every dark copper feature and every hole without a net the net of its island.
+
+    A feature takes the island it meets; where it meets several (a clear object cut it in two, or it
+    bridges copper a later object cleared), the one it shares the most area with, ties to the first
+    island in layer order.  A feature that meets no island (all of it cleared later) stays without a
+    net.  A hole takes the net of the copper its centre lies on, on the first copper layer (top
+    first) that has copper there, as :func:`sensorcheck.rules.common.hole_nets` reads it.  Names the
+    files give are never replaced.
+    """
+    by_layer: dict[str, list[Island]] = defaultdict(list)
+    for isl in islands:
+        if isl.name:
+            by_layer[isl.layer].append(isl)
+    for layer in board.copper_layers():
+        isls = by_layer.get(layer.name, [])
+        todo = [f for f in layer.features if f.net is None and f.polarity == "dark" and not f.geometry.is_empty]
+        if not isls or not todo:
+            continue
+        polys = np.array([isl.polygon for isl in isls], dtype=object)
+        tree = STRtree(polys)
+        geoms = np.array([f.geometry for f in todo], dtype=object)
+        src, tgt = tree.query(geoms, predicate="intersects")
+        hits: dict[int, list[int]] = defaultdict(list)
+        for a, b in zip(src.tolist(), tgt.tolist()):
+            hits[a].append(b)
+        for a, cand in hits.items():
+            if len(cand) == 1:
+                best = cand[0]
+            else:
+                cand = sorted(cand)
+                areas = shapely.area(shapely.intersection(geoms[a], polys[cand]))
+                best = cand[int(np.argmax(areas))]
+            todo[a].net = isls[best].name
+            todo[a].net_by_connectivity = True
+    if not board.holes:
+        return
+    layers = [(isls, STRtree([isl.polygon for isl in isls]))
+              for layer in board.copper_layers() if (isls := by_layer.get(layer.name))]
+    holes: list[Hole] = []
+    for h in board.holes:
+        if h.net is None and layers:
+            pt = Point(h.x_mm, h.y_mm)
+            for isls, tree in layers:
+                got = [int(k) for k in tree.query(pt, predicate="intersects")]
+                if got:
+                    h = replace(h, net=isls[min(got)].name)
+                    break
+        holes.append(h)
+    board.holes = holes

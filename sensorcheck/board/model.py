@@ -56,6 +56,9 @@ class Feature:
     width_mm: float | None = None
     #: centre line of draws and arcs (a LineString, arcs already flattened), for trace length and crossings
     path: BaseGeometry | None = None
+    #: True where ``net`` is not the file's but the net of the copper island the object lies on
+    #: (board/connectivity.py fills it in for objects the file names no net for)
+    net_by_connectivity: bool = False
 
 
 @dataclass(slots=True)

@@ -396,7 +396,7 @@ def _roles(ctx: _Ctx, value: Any) -> tuple[list[RolePattern], list[RoleByPlace]]
         for i, pv in enumerate(t["place"]):
             where = f"roles.place[{i}]"
             pt = _table(ctx, pv, where)
-            _check_keys(ctx, pt, ("layer", "point_mm", "box_mm", "role", "sensor"), where)
+            _check_keys(ctx, pt, ("layer", "point_mm", "box_mm", "role", "sensor", "kind"), where)
             for req in ("layer", "role"):
                 if req not in pt:
                     raise ctx.err(f"{where}.{req}", "missing")
@@ -412,8 +412,13 @@ def _roles(ctx: _Ctx, value: Any) -> tuple[list[RolePattern], list[RoleByPlace]]
             else:
                 box = _box(ctx, pt["box_mm"], f"{where}.box_mm")
             sensor = _string(ctx, pt["sensor"], f"{where}.sensor") if "sensor" in pt else None
+            place_kind: str | None = None  # an aggressor's kind, as in roles.aggressor (default "other")
+            if "kind" in pt:
+                if role != "aggressor":
+                    raise ctx.err(f"{where}.kind", "only an aggressor place takes a kind")
+                place_kind = _string(ctx, pt["kind"], f"{where}.kind", choices=AGGRESSOR_KINDS)
             places.append(RoleByPlace(layer=layer, role=role, point_mm=point, box_mm=box,  # type: ignore[arg-type]
-                                      sensor=sensor))
+                                      sensor=sensor, aggressor_kind=place_kind))  # type: ignore[arg-type]
     return patterns, places
 
 

@@ -71,6 +71,7 @@ class RoleByPlace:
     point_mm: tuple[float, float] | None = None
     box_mm: tuple[float, float, float, float] | None = None
     sensor: str | None = None
+    aggressor_kind: AggressorKind | None = None  # aggressors only; None: "other"
 
 
 @dataclass(frozen=True, slots=True)

@@ -106,7 +106,7 @@ def assign_roles(board: Board, config: Config) -> RoleAssignment:
             out.notes.append(f"roles.place[{i}]: no copper under the {where} on {place.layer}")
             continue
         net = hit[0]
-        out.roles[net] = (place.role, "other" if place.role == "aggressor" else None)
+        out.roles[net] = (place.role, (place.aggressor_kind or "other") if place.role == "aggressor" else None)
         out.by_place.add(net)
         if place.sensor:
             out.sensor_of[net] = place.sensor

@@ -168,7 +168,9 @@ def _split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry
     geom = _valid(_area_only(layer.by_net.get(net, _empty())))
     if geom.is_empty:
         return _empty(), _empty(), geom
-    feats = [f for f in layer.features if f.net == net and f.polarity == "dark"]
+    # footprint graphics etched in copper (X2 .AperFunction EtchedComponent: a slider's drawn
+    # outline) are neither trace nor pad: the copper they draw is judged as it lies
+    feats = [f for f in layer.features if f.net == net and f.polarity == "dark" and f.aperture_function != "EtchedComponent"]
     if feats:
         traces = _union(f.geometry for f in feats if _is_trace_feature(f))
         pads = _union(f.geometry for f in feats if not _is_trace_feature(f))
@@ -484,20 +486,45 @@ def find_nodes(board: Board, tx_nets: Sequence[str], rx_nets: Sequence[str],
                         continue
                     for fp in facing_nodes(tg, rg, gap, buf(tx, tl.name, gap), buf(rx, rl.name, gap), near=True):
                         found.append(Node(tx=tx, rx=rx, tx_layer=tl.name, rx_layer=rl.name, footprint=fp))
-            c.pairs[(tx, rx)] = _merge_same_pair(found)
+            c.pairs[(tx, rx)] = _merge_same_pair(found, board)
     return [n for rx in rx_nets for tx in tx_nets for n in c.pairs[(tx, rx)]]
 
 
-def _merge_same_pair(nodes: list[Node]) -> list[Node]:
-    """One node per (tx, rx) place: footprints of the same pair that overlap (seen on two layers) merge."""
+def _facing_copper_mm2(board: Board, n: Node) -> float:
+    """How much the two lines of a node face each other on its layers: the smaller of the TX copper
+    on its layer and the RX copper on its layer inside the node's footprint (mm2)."""
+    areas = []
+    for net, layer_name in ((n.tx, n.tx_layer), (n.rx, n.rx_layer)):
+        la = board.layer(layer_name)
+        g = la.by_net.get(net) if la is not None else None
+        areas.append(0.0 if g is None else float(_and_by_part(g, n.footprint).area))
+    return min(areas)
+
+
+def _merge_same_pair(nodes: list[Node], board: Board | None = None) -> list[Node]:
+    """One node per (tx, rx) place: footprints of the same pair that overlap (seen on two layers) merge.
+
+    The merged node's layers are those where its two lines face each other most (the larger of the
+    smaller copper inside each footprint, :func:`_facing_copper_mm2`; ties keep the first found, in
+    stack order): a line that only passes the other on one layer (a via, a trace entering the key)
+    does not decide the layer of the key it forms on another.
+    """
     out: list[Node] = []
+    score: list[float | None] = []
     for n in nodes:
-        for m in out:
+        for k, m in enumerate(out):
             if m.tx == n.tx and m.rx == n.rx and m.footprint.intersects(n.footprint):
+                if board is not None and (m.tx_layer, m.rx_layer) != (n.tx_layer, n.rx_layer):
+                    if score[k] is None:
+                        score[k] = _facing_copper_mm2(board, m)
+                    mine = _facing_copper_mm2(board, n)
+                    if mine > score[k]:  # type: ignore[operator]
+                        m.tx_layer, m.rx_layer, score[k] = n.tx_layer, n.rx_layer, mine
                 m.footprint = m.footprint.union(n.footprint)
                 break
         else:
             out.append(Node(n.tx, n.rx, n.tx_layer, n.rx_layer, n.footprint))
+            score.append(None)
     return out
 
 

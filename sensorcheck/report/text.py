@@ -194,8 +194,11 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
         parts.append(Text("Notes", style="bold"))
         parts += [Text(f"  - {safe_text(n)}") for n in result.notes]
         parts.append(Text(""))
-    ran = len(set(result.rules_run))
-    parts.append(Text(f"{summary_line(findings)}; {ran} rule{'s' if ran != 1 else ''} ran", style="bold"))
+    ran = len(set(result.rules_run))  # the rules that measured
+    blind = len({f.rule_id for f in result.findings if f.kind == "finding" and f.severity == "note"
+                 and f.message.startswith("not checked")} - set(result.rules_run))
+    counted = f"{ran} rule{'s' if ran != 1 else ''} measured" + (f", {blind} not checked" if blind else "")
+    parts.append(Text(f"{summary_line(findings)}; {counted}", style="bold"))
     return parts
 
 

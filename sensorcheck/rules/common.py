@@ -383,6 +383,11 @@ def require_role(design: Design, role_name: str) -> list[str]:
     if not nets:
         from sensorcheck.rules.base import MissingInput
 
+        if design.board.net_source == "geometry":
+            # no names to match: a pattern like ground = ["GND"] cannot work, a place can
+            raise MissingInput(f"no {role_name} nets were given",
+                               f"the board carries no net names: add [[roles.place]] with layer, point_mm on its "
+                               f'copper and role = "{role_name}" to sensorcheck.toml')
         example = {"aggressor": 'aggressor = [{pattern = "LED*", kind = "led"}]', "ground": 'ground = ["GND"]'}.get(
             role_name, f'{role_name} = ["..."]')
         raise MissingInput(f"no {role_name} nets were named", f"add {example} under [roles] in sensorcheck.toml")

@@ -325,9 +325,31 @@ def _missing_needs(cls: type[Rule], design: Design, estimates: Mapping[str, Sens
     return missing
 
 
+NOT_CHECKED = "not checked: "
+
+
+def _how_to_give(need: str, design: Design) -> tuple[str, str]:
+    """What is missing and how to give it; on a board without net names, roles go by place."""
+    what, how = HOW_TO_GIVE[need]
+    if need in ("sensors", "roles") and design.board.net_source == "geometry":
+        how = ("the board carries no net names: give each sensor's copper by place with [[roles.place]] "
+               "(layer, point_mm, role, sensor) in sensorcheck.toml")
+    return what, how
+
+
 def _missing_note(rule_id: str, what: list[tuple[str, str]]) -> Finding:
     parts = "; ".join(f"{w}: {h}" for w, h in what)
-    return Finding(rule_id=rule_id, severity="note", message=f"not checked: {parts}")
+    return Finding(rule_id=rule_id, severity="note", message=f"{NOT_CHECKED}{parts}")
+
+
+def not_checked_note(rule_id: str, what: str, how: str) -> Finding:
+    """The one line a rule yields for something it is listed for but could not measure (why, and
+    how to make it measurable); a rule that yields nothing else did not measure (``rules_run``)."""
+    return _missing_note(rule_id, [(what, how)])
+
+
+def is_not_checked(f: Finding) -> bool:
+    return f.kind == "finding" and f.severity == "note" and f.message.startswith(NOT_CHECKED)
 
 
 def _internal(rule_id: str, exc: BaseException) -> Finding:
@@ -436,10 +458,9 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
             continue
         if progress is not None:
             progress(f"rule {i + 1}/{len(active)}: {rid}")
-        run.rules_run.append(rid)
         missing = _missing_needs(cls, design, estimates)
         if missing:
-            run.findings.append(_missing_note(rid, [HOW_TO_GIVE[m] for m in missing]))
+            run.findings.append(_missing_note(rid, [_how_to_give(m, design) for m in missing]))
             continue
         try:
             rule = cls()
@@ -451,6 +472,9 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
         except Exception as exc:  # noqa: BLE001 - one broken rule must not hide the others
             run.findings.append(_internal(rid, exc))
             continue
+        # rules_run lists the rules that measured: not one that only said what it could not check
+        if not produced or not all(is_not_checked(f) for f in produced):
+            run.rules_run.append(rid)
         for f in produced:
             if f.rule_id != rid:
                 f.rule_id = rid

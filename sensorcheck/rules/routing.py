@@ -23,7 +23,6 @@ from sensorcheck.rules.common import (
     finding,
     fmt,
     hole_nets,
-    is_floating_id,
     is_via,
     midpoint,
     nearest_points,
@@ -87,6 +86,58 @@ class FeatureIndex:
         return out
 
 
+#: a region of a sensing net mostly (at least half of it) outside its electrode whose mean width there
+#: (2 x area / perimeter; a strip of width w and length L >> w gives w) is at most this is a trace
+#: drawn as a polygon (the same bound as the electrode/trace split's thin draws, design/sensors.py)
+REGION_TRACE_WIDTH_MAX_MM = 1.0
+
+
+def region_trace_nets(design: Design, index: FeatureIndex) -> list[str]:
+    """Sensing nets with trace copper drawn only as regions on some layer (no draw or arc of the net
+    there outside its electrode): what the rules that read trace centre lines cannot measure."""
+    out: list[str] = []
+    seen: set[str] = set()
+    for s in design.sensors:
+        for e in s.electrodes:
+            if e.net in seen:
+                continue
+            seen.add(e.net)
+            drawn = index.trace(e)
+            for layer, g in sorted(e.trace.items()):
+                if g.is_empty or layer in drawn:
+                    continue
+                for f in index.net(layer, e.net):
+                    if f.kind != "region":
+                        continue
+                    rest = f.geometry.difference(e.geometry) if layer == e.layer else f.geometry
+                    # mostly outside the electrode (not an electrode's own edge cut by a node's footprint)
+                    # and thin
+                    if (rest.area > 0.05 and rest.area >= 0.5 * f.geometry.area
+                            and 2 * rest.area / max(rest.length, 1e-9) <= REGION_TRACE_WIDTH_MAX_MM):
+                        out.append(e.net)
+                        break
+                if out and out[-1] == e.net:
+                    break
+    return out
+
+
+def traces_not_measured(rule_id: str, design: Design, index: FeatureIndex, what: str) -> Iterator[Finding]:
+    """One "not checked" line for the sensing nets whose traces are drawn as regions (none if none)."""
+    nets = region_trace_nets(design, index)
+    if nets:
+        from sensorcheck.rules.engine import not_checked_note
+
+        shown = ", ".join(nets[:5]) + (f" and {len(nets) - 5} more" if len(nets) > 5 else "")
+        note = not_checked_note(
+            rule_id, f"the {what} of {len(nets)} sensing net(s) ({shown}): their traces are drawn as regions "
+            "(polygons), which carry no aperture width or centre line",
+            "export traces as draws (most EDA tools do), or check these traces by eye")
+        if any(index.trace(e) for s in design.sensors for e in s.electrodes):
+            # the other nets' traces were measured: the rule ran, this part of it did not
+            note.message = "partly " + note.message
+        yield note
+
+
 def _paths_inside_box(feats: list[Feature], geom: BaseGeometry) -> np.ndarray:
     """Which features' paths have a box inside the box of ``geom`` (edges included, 1e-9 mm slack)."""
     if geom.is_empty:
@@ -107,7 +158,9 @@ class ForeignCopperInZone(Rule):
     What it checks:
         For every sensor and every copper layer, copper of nets that are neither the sensor's own
         nor ground, shield or guard (and not aggressors, which ``routing.aggressor-near-sensor``
-        judges, nor unconnected copper, which ``fab.floating-copper`` judges) inside the sensing
+        judges), whatever their name (copper of nets known only by connectivity, ``~n...``, too;
+        so unconnected copper near a named board's sensor is reported here as well as by
+        ``fab.floating-copper``), inside the sensing
         zone (the electrodes grown by the zone margin).  Another sensor's electrodes are not
         counted; its traces are.  Copper under the electrode itself is an error, in the rest of
         the zone a warning.
@@ -146,7 +199,8 @@ class ForeignCopperInZone(Rule):
             layers.append((lay, names, shapely.STRtree([lay.by_net[n] for n in names])))
         index = FeatureIndex(design.board)
         skip = REFERENCE_ROLES | {"aggressor"}
-        judged = {n: not (is_floating_id(n) or role(design, n) in skip) for _, names, _ in layers for n in names}
+        # whatever the name: copper of an unnamed net (``~n...``) is foreign as much as a named one
+        judged = {n: role(design, n) not in skip for _, names, _ in layers for n in names}
         for s in design.sensors:
             own = set(s.nets)
             others_el: BaseGeometry | None = None
@@ -302,7 +356,9 @@ class TraceUnderElectrode(Rule):
     Known limitations:
         A ground or shield layer between trace and electrode would make the mutual case harmless;
         that is not detected.  Within one mutual node the RX trace may cross its own TX (a centre
-        RX leaves through its TX ring): not reported.
+        RX leaves through its TX ring): not reported, and in a matrix wired by lines that holds for
+        the pair of lines at every node they form.  A line's trace under one electrode is one
+        finding, however many nodes the line belongs to (named after the first of them).
     Example:
         Button B1's trace on the bottom layer running under button B2.
     Fix:
@@ -335,15 +391,24 @@ class TraceUnderElectrode(Rule):
         raw_by: dict[tuple[int, str], list[int]] = {}
         for i, layer, k in raw:
             raw_by.setdefault((i, layer), []).append(k)
+        # the mutual sensors each net is an electrode of: in a matrix wired by lines, every node the
+        # line forms with another line is that pair's own node
+        mutual_of: dict[int, np.ndarray] = {}
+        for i, b in enumerate(design.sensors):
+            if b.kind not in SELF_KINDS:
+                for eb in b.electrodes:
+                    mutual_of.setdefault(net_ids[eb.net], np.zeros(len(design.sensors), dtype=bool))[i] = True
+        reported: set[tuple[str, str, int]] = set()  # (net, layer, electrode): one finding per crossing
         ia_flat = -1
         for ia, a in enumerate(design.sensors):
             for ea in a.electrodes:
                 ia_flat += 1
-                # the electrodes that can be reported at all: other nets, and not the own mutual node (its RX
-                # trace leaves through its own TX ring by design); the others are never looked at
+                # the electrodes that can be reported at all: other nets, and not an own mutual node (its RX
+                # trace leaves through its own TX ring by design) -- any mutual node the trace's net is an
+                # electrode of, so a matrix line entering each of its keys is exempt at every key
                 judged = flat_net != net_ids[ea.net]
                 if a.kind not in SELF_KINDS:
-                    judged &= flat_sensor != ia
+                    judged &= ~mutual_of.get(net_ids[ea.net], np.zeros(len(design.sensors), dtype=bool))[flat_sensor]
                 traces: list[tuple[str, BaseGeometry]] = []
                 meets: dict[str, set[int]] = {}
                 for layer, geom in sorted(ea.trace.items()):
@@ -370,9 +435,12 @@ class TraceUnderElectrode(Rule):
                     for layer, tg in traces:
                         if k not in meets[layer]:
                             continue
+                        if (ea.net, layer, k) in reported:
+                            continue  # the same line under the same electrode, seen from another node of it
                         ov = tg.intersection(eb.geometry)
                         if ov.is_empty or ov.area < params["min_area_mm2"]:
                             continue
+                        reported.add((ea.net, layer, k))
                         sev = "error" if b.kind in SELF_KINDS else "warning"
                         yield finding(
                             sev,
@@ -501,18 +569,17 @@ class AggressorNearSensor(Rule):
                 limit = params["min_distance_led_mm"] if kind == "led" else params["min_distance_mm"]
                 cu = [(lay.name, lay.by_net.get(net)) for lay in layers]
                 cu = [(name, ag) for name, ag in cu if ag is not None and not ag.is_empty]
-                # the first (layer, electrode) in order where the aggressor lies under an electrode of another
-                # layer; copper that does not touch the electrode has no overlap, so only the rest is cut
+                # the (layer, electrode) where the aggressor lies most under an electrode of another layer (the
+                # first of the largest, in layer and electrode order: the order of a slider's segments, which
+                # may come from names or from geometry, does not decide); copper that does not touch the
+                # electrode has no overlap, so only the rest is cut
                 under_hit = None
                 for name, ag in cu:
                     for e in s.electrodes:
                         if e.layer != name and _boxes_within(ag, e.geometry, 0.0) and ag.intersects(e.geometry):
                             ov = ag.intersection(e.geometry)
-                            if not ov.is_empty and ov.area > 1e-3:
+                            if not ov.is_empty and ov.area > 1e-3 and (under_hit is None or ov.area > under_hit[1].area + 1e-9):
                                 under_hit = (name, ov, e)
-                                break
-                    if under_hit is not None:
-                        break
                 if under_hit is not None:
                     layer, ov, e = under_hit
                     yield finding(
@@ -622,6 +689,7 @@ class AggressorParallel(Rule):
                                 nets=(e.net, net), sensor=s.name,
                                 source=source_near(index.net(layer, e.net), piece),
                             )
+        yield from traces_not_measured(self.id, design, index, "parallel runs beside aggressors")
 
 
 def _boxes_within(a: BaseGeometry, b: BaseGeometry, distance_mm: float) -> bool:
@@ -744,7 +812,10 @@ class RxParallelTx(Rule):
                     longest = runs[0] if runs else piece
                     closest = float(shapely.distance(piece, tx_cu[j]))
                     node = next((s for s in a_set if s in b_set), None)
-                    a = a_set[0]
+                    # the run is reported under the node it adds to, else under the RX's node nearest to it
+                    # (a matrix line is in several: the names' order does not pick)
+                    a = node if node is not None else (a_set[0] if len(a_set) == 1 else min(
+                        a_set, key=lambda o: self.cache.outline(o).distance(longest)))
                     what = (f"RX trace {rx} ({a.name}) on {layer} runs {fmt(length, 1)} mm in all within "
                             f"{fmt(dist)} mm of TX {tx} of {b_set[0].name} (longest run {fmt(longest.length, 1)} mm, "
                             f"centre line {fmt(closest)} mm from the TX copper at the closest); limit {fmt(limit, 1)} mm")
@@ -759,6 +830,7 @@ class RxParallelTx(Rule):
                         nets=(rx, tx), sensor=a.name,
                         source=source_near(index.net(layer, rx), longest),
                     )
+        yield from traces_not_measured(self.id, design, index, "parallel runs beside TX lines")
 
 
 def _segments(geom: BaseGeometry) -> Iterator[tuple[tuple[float, float], tuple[float, float]]]:
@@ -885,6 +957,7 @@ class CrossingAngle(Rule):
                             nets=(e.net, net), sensor=s.name,
                             source=source_near(index.net(layer, e.net), Point(pt)),
                         )
+        yield from traces_not_measured(self.id, design, index, "crossing angles")
 
 
 def _all_segments(geoms: list[BaseGeometry]) -> tuple[np.ndarray, np.ndarray]:

@@ -26,7 +26,7 @@ from sensorcheck.rules.common import (
 )
 from sensorcheck.rules.base import Param, Rule
 from sensorcheck.findings import Finding
-from sensorcheck.rules.routing import FeatureIndex
+from sensorcheck.rules.routing import FeatureIndex, traces_not_measured
 
 
 def _channels(design: Design) -> Iterable[tuple[Any, Electrode]]:
@@ -50,7 +50,8 @@ class TraceWidth(Rule):
         Trace capacitance to ground grows with width, and a wide trace is a small electrode of its
         own; thin traces keep the parasitic load and the stray sensitivity down.
     Known limitations:
-        Traces drawn as regions (pours) have no aperture width and are not measured.
+        Traces drawn as regions (pours) have no aperture width and are not measured: the rule says so
+        in one "not checked" line naming the nets.
     Example:
         A 0.5 mm sensor trace: limit 0.25 mm.
     Fix:
@@ -96,6 +97,7 @@ class TraceWidth(Rule):
                         value=thinnest.width_mm, limit=fab_min, unit="mm", layer=layer,
                         geom=thinnest.geometry, nets=(e.net,), sensor=s.name, source=thinnest.source,
                     )
+        yield from traces_not_measured(self.id, design, index, "width")
 
 
 class TraceLength(Rule):
@@ -108,7 +110,8 @@ class TraceLength(Rule):
         Every centimetre adds about 0.4 pF (two-layer board) to 1 pF (plane close below) of
         parasitic capacitance, and picks up noise along the way.
     Known limitations:
-        Traces drawn as regions are not measured.  ``trace.parasitic-budget`` is the better check.
+        Traces drawn as regions are not measured (one "not checked" line names the nets).
+        ``trace.parasitic-budget`` is the better check.
     Example:
         A 350 mm trace: limit 300 mm (50 mm on flex).
     Fix:
@@ -141,6 +144,7 @@ class TraceLength(Rule):
                     value=total, limit=params["max_length_mm"], unit="mm", layer=layer, geom=geom,
                     nets=(e.net,), sensor=s.name, source=feats[layer][0].source,
                 )
+        yield from traces_not_measured(self.id, design, index, "length")
 
 
 def _net_vias(design: Design, net: str, max_via_diameter_mm: float, nets_of: dict[int, str | None] | None = None) -> list[Any]:

@@ -56,7 +56,7 @@ def test_content(one_board: list[Result]) -> None:
     assert "INTERNAL ERRORS (1)" in text and "singular matrix" in text
     assert "no job file: stackup from sensorcheck.toml" in text
     assert "Caution: Estimates are not measurements" in text
-    assert "3 errors, 3 warnings, 3 notes, 1 waived, 1 internal error; 7 rules ran" in text
+    assert "3 errors, 3 warnings, 3 notes, 1 waived, 1 internal error; 7 rules measured" in text
     assert "K1 estimate: overlay thinner than the model's validity range" in text
     # Per-sensor verdict beside its numbers.
     k1_row = next(i for i, line in enumerate(lines) if line.startswith("| K1 "))
@@ -83,4 +83,4 @@ def test_unreadable_input_is_listed(results: list[Result]) -> None:
     text = render(results, "text")
     assert "INPUT ERRORS (1): these inputs could not be read" in text
     assert "b/inner.gbr:57" in text
-    assert "1 error, 1 warning, 1 note, 0 waived, 1 input error; 4 rules ran" in text
+    assert "1 error, 1 warning, 1 note, 0 waived, 1 input error; 4 rules measured" in text
