@@ -204,3 +204,22 @@ def doc_sections(cls: type[Rule]) -> dict[str, str]:
     if current is not None:
         out[current] = "\n".join(lines).strip()
     return out
+
+
+NOT_CHECKED = "not checked: "
+
+
+def missing_note(rule_id: str, what: list[tuple[str, str]]) -> Finding:
+    """One note naming what a rule is missing and how to give it."""
+    parts = "; ".join(f"{w}: {h}" for w, h in what)
+    return Finding(rule_id=rule_id, severity="note", message=f"{NOT_CHECKED}{parts}")
+
+
+def not_checked_note(rule_id: str, what: str, how: str) -> Finding:
+    """The one line a rule yields for something it is listed for but could not measure (why, and
+    how to make it measurable); a rule that yields nothing else did not measure (``rules_run``)."""
+    return missing_note(rule_id, [(what, how)])
+
+
+def is_not_checked(f: Finding) -> bool:
+    return f.kind == "finding" and f.severity == "note" and f.message.startswith(NOT_CHECKED)

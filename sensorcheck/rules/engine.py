@@ -51,9 +51,13 @@ from sensorcheck.rules.base import (  # re-exported: older code imports these fr
     Need,
     Param,
     Rule,
+    NOT_CHECKED,
     RunCache,
     doc_sections,
     grow_outline,
+    is_not_checked,
+    missing_note,
+    not_checked_note,
     rule_doc,
 )
 from sensorcheck.rules.catalogue import FAMILIES
@@ -325,9 +329,6 @@ def _missing_needs(cls: type[Rule], design: Design, estimates: Mapping[str, Sens
     return missing
 
 
-NOT_CHECKED = "not checked: "
-
-
 def _how_to_give(need: str, design: Design) -> tuple[str, str]:
     """What is missing and how to give it; on a board without net names, roles go by place."""
     what, how = HOW_TO_GIVE[need]
@@ -335,21 +336,6 @@ def _how_to_give(need: str, design: Design) -> tuple[str, str]:
         how = ("the board carries no net names: give each sensor's copper by place with [[roles.place]] "
                "(layer, point_mm, role, sensor) in sensorcheck.toml")
     return what, how
-
-
-def _missing_note(rule_id: str, what: list[tuple[str, str]]) -> Finding:
-    parts = "; ".join(f"{w}: {h}" for w, h in what)
-    return Finding(rule_id=rule_id, severity="note", message=f"{NOT_CHECKED}{parts}")
-
-
-def not_checked_note(rule_id: str, what: str, how: str) -> Finding:
-    """The one line a rule yields for something it is listed for but could not measure (why, and
-    how to make it measurable); a rule that yields nothing else did not measure (``rules_run``)."""
-    return _missing_note(rule_id, [(what, how)])
-
-
-def is_not_checked(f: Finding) -> bool:
-    return f.kind == "finding" and f.severity == "note" and f.message.startswith(NOT_CHECKED)
 
 
 def _internal(rule_id: str, exc: BaseException) -> Finding:
@@ -460,14 +446,14 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
             progress(f"rule {i + 1}/{len(active)}: {rid}")
         missing = _missing_needs(cls, design, estimates)
         if missing:
-            run.findings.append(_missing_note(rid, [_how_to_give(m, design) for m in missing]))
+            run.findings.append(missing_note(rid, [_how_to_give(m, design) for m in missing]))
             continue
         try:
             rule = cls()
             rule.cache = cache
             produced = list(rule.check(design, est, params))
         except MissingInput as mi:
-            run.findings.append(_missing_note(rid, [(mi.what, mi.how)]))
+            run.findings.append(missing_note(rid, [(mi.what, mi.how)]))
             continue
         except Exception as exc:  # noqa: BLE001 - one broken rule must not hide the others
             run.findings.append(_internal(rid, exc))

@@ -125,7 +125,7 @@ def traces_not_measured(rule_id: str, design: Design, index: FeatureIndex, what:
     """One "not checked" line for the sensing nets whose traces are drawn as regions (none if none)."""
     nets = region_trace_nets(design, index)
     if nets:
-        from sensorcheck.rules.engine import not_checked_note
+        from sensorcheck.rules.base import not_checked_note
 
         shown = ", ".join(nets[:5]) + (f" and {len(nets) - 5} more" if len(nets) > 5 else "")
         note = not_checked_note(
