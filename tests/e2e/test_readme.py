@@ -40,12 +40,16 @@ def test_readme_config_example_is_a_valid_config(tmp_path: Path) -> None:
     from sensorcheck.design.config import load_config
     from sensorcheck.rules.engine import known_rules
 
-    (toml,) = _blocks("toml")
+    # every TOML block of the README is a config a user may copy: each one loads as it is
+    first, *others = _blocks("toml")
     p = tmp_path / "sensorcheck.toml"
-    p.write_text(toml, encoding="utf-8")
+    p.write_text(first, encoding="utf-8")
     config = load_config(p, known_rules=known_rules())
     assert config.overlay is not None and config.overlay.thickness_mm == pytest.approx(2.0)
     assert config.waivers and config.waivers[0].reason
+    for toml in others:
+        p.write_text(toml, encoding="utf-8")
+        load_config(p, known_rules=known_rules())
 
 
 def test_github_and_gitlab_jobs_match_their_published_schemas() -> None:
