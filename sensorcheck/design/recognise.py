@@ -521,7 +521,7 @@ def _read_mutual(board: Board, pairs: list[_Pair], cands: dict[str, list[_Cand]]
         for i in idx:
             nd = nodes[i]
             share = f"TX {nd.tx} faces {len(adj[nd.tx])} net(s), RX {nd.rx} faces {len(adj[nd.rx])}"
-            f = Found(name="", kind="mutual-node", layer=nd.rx_layer, face="", tx=(nd.tx,), rx=(nd.rx,),
+            f = Found(name="", kind="mutual-button", layer=nd.rx_layer, face="", tx=(nd.tx,), rx=(nd.rx,),
                       evidence=[f"TX and RX copper facing within {FACING_GAP_MM:g} mm around a node core "
                                 f"({share}); TX side {how}"])
             if ambiguous:
@@ -651,7 +651,7 @@ def _off_line(segs: list[Electrode]) -> float:
 
 def _name_and_face(board: Board, found: list[Found], cands: dict[str, list[_Cand]]) -> None:
     """Names by kind in reading order (top left first), points per net and the face per sensor."""
-    prefix = {"self-button": "B", "slider": "S", "wheel": "W", "mutual-node": "K", "matrix": "M", "proximity": "P"}
+    prefix = {"self-button": "B", "slider": "S", "wheel": "W", "mutual-button": "K", "matrix": "M", "proximity": "P"}
     count: dict[str, int] = {}
     cu = board.copper_layers()
 

@@ -48,6 +48,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import shapely
+import shapely.prepared
 from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 
@@ -151,6 +152,31 @@ def _is_trace_feature(f: Feature) -> bool:
     return f.kind in ("draw", "arc") and f.width_mm is not None and 0 < f.width_mm <= TRACE_WIDTH_MAX_MM
 
 
+#: thin draws whose areas add up to this many times the area they cover overlap like a painted fill
+PAINTED_OVERLAP = 1.5
+
+
+def _painted_area(thin: list[Feature], traces: BaseGeometry, pads: BaseGeometry) -> BaseGeometry:
+    """Area copper drawn with thin strokes, which older exports make in two ways (corpus b09):
+    a pour's region bordered by strokes along its edge, and a pad filled with dozens of
+    overlapping strokes.  The first are the strokes that lie along a pad or region (within one
+    stroke width of it); the second, the parts of the strokes' union that survive an opening
+    wider than any stroke, in pieces of electrode size.  Routing leaves its pads and overlaps
+    only at its joints, so neither test takes it."""
+    if not thin or traces.is_empty:
+        return _empty()
+    out: list[BaseGeometry] = []
+    if not pads.is_empty:
+        w = max(float(f.width_mm or 0.0) for f in thin)
+        near = shapely.prepared.prep(pads.buffer(w, quad_segs=2))
+        out += [f.geometry for f in thin if near.covers(f.geometry)]
+    if len(thin) >= 8 and float(sum(f.geometry.area for f in thin)) >= PAINTED_OVERLAP * traces.area:
+        r = 0.75 * max(float(f.width_mm or 0.0) for f in thin)
+        opened = traces.buffer(-r, quad_segs=2).buffer(r, quad_segs=2)
+        out += [q for q in _polys(opened) if q.area >= MIN_ELECTRODE_AREA_MM2]
+    return _union(out) if out else _empty()
+
+
 def split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry]:
     """(electrode, trace) of ``net`` on ``layer``; electrode is empty when all of it is thin.
 
@@ -172,8 +198,12 @@ def _split_electrode(layer: Layer, net: str) -> tuple[BaseGeometry, BaseGeometry
     # outline) are neither trace nor pad: the copper they draw is judged as it lies
     feats = [f for f in layer.features if f.net == net and f.polarity == "dark" and f.aperture_function != "EtchedComponent"]
     if feats:
-        traces = _union(f.geometry for f in feats if _is_trace_feature(f))
+        thin = [f for f in feats if _is_trace_feature(f)]
+        traces = _union(f.geometry for f in thin)
         pads = _union(f.geometry for f in feats if not _is_trace_feature(f))
+        painted = _painted_area(thin, traces, pads)
+        if not painted.is_empty:
+            pads = _union([pads, painted])
         rest = geom if traces.is_empty else _area_only(geom.difference(traces.difference(pads)))
         keep = [p for p in _polys(rest) if p.area >= MIN_ELECTRODE_AREA_MM2]
         if not keep:

@@ -182,7 +182,7 @@ def test_explain_lists_sensors_evidence_and_rejected_copper(tmp_path: Path, caps
     ns.explain = True
     assert init.run(ns, loader=lambda p: board) == 0
     text = capsys.readouterr().out
-    assert "mutual-node" in text and "TX: TX1" in text and "RX: RX1" in text  # the ring round the disc
+    assert "mutual-button" in text and "TX: TX1" in text and "RX: RX1" in text  # the ring round the disc
     assert "evidence:" in text and "rejected" in text
     assert "UART_TX on top-copper: only lines" in text  # a line between parts: looked at and rejected
 

@@ -71,7 +71,7 @@ def place_config(named: Any, stripped_board: Any, config_text: str) -> tuple[str
 
     Returns the TOML text and the conflicts (a piece of unnamed copper two named nets would claim).
     """
-    sensor_of = {e.net: s.name for s in named.sensors for e in s.electrodes if s.kind not in ("mutual-node", "matrix")}
+    sensor_of = {e.net: s.name for s in named.sensors for e in s.electrodes if s.kind not in ("mutual-button", "matrix")}
     claimed: dict[tuple[str, str], tuple[str, str]] = {}  # (layer, unnamed id) -> (named net, role)
     places: list[str] = []
     conflicts: list[str] = []

@@ -106,7 +106,7 @@ def matrix_keypad(tmp_path: Path) -> Path:
 
 def test_matrix_keypad_without_names(tmp_path: Path) -> None:
     design, run = _check(matrix_keypad(tmp_path))
-    nodes = [s for s in design.sensors if s.kind == "mutual-node"]
+    nodes = [s for s in design.sensors if s.kind == "mutual-button"]
     assert len(nodes) == 12
     # every node's electrodes are on the layer where its two lines face each other: the top
     assert {e.layer for s in nodes for e in s.electrodes} == {"top-copper"}

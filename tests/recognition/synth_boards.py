@@ -99,7 +99,7 @@ def mutual_keys() -> tuple[Copper, Truth, tuple[float, float, float, float]]:
     # crossed bars: the RX bar on the sensing face, the TX bar across it under it
     s["Net-(K5-Pad2)"] = box(26, 30, 38, 34)
     o = {"Net-(K5-Pad1)": box(30, 26, 34, 38)}
-    truth = [{"kind": "mutual-node", "nets": [f"Net-(K{k}-Pad?)"]} for k in range(1, 6)]
+    truth = [{"kind": "mutual-button", "nets": [f"Net-(K{k}-Pad?)"]} for k in range(1, 6)]
     return {"s": s, "o": o}, truth, (0, 0, 60, 44)
 
 

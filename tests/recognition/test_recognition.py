@@ -74,7 +74,7 @@ def test_scanned_keypad_keys_share_lines_and_the_ring_is_the_tx() -> None:
     for r in range(2):
         top[f"Net-(J{r + 5}-Pad2)"] = [disc(20 * c, 20 * r, 4.3) for c in range(3)]
     rec = recognise(make_board({"top-copper": top}), {})
-    keys = [f for f in rec.sensors if f.kind == "mutual-node"]
+    keys = [f for f in rec.sensors if f.kind == "mutual-button"]
     assert len(keys) == 6 and len(rec.sensors) == 6
     assert {f.tx[0] for f in keys} == {f"Net-(J{c}-Pad1)" for c in range(3)}
     assert {f.rx[0] for f in keys} == {"Net-(J5-Pad2)", "Net-(J6-Pad2)"}
@@ -93,5 +93,5 @@ def test_keys_whose_sides_cannot_be_told_say_so() -> None:
     board = make_board({"top-copper": {"~na": box(0, 4, 12, 8)}, "bottom-copper": {"~nb": box(4, 0, 8, 12)}})
     rec = recognise(board, {})
     (key,) = rec.sensors
-    assert key.kind == "mutual-node" and key.review
+    assert key.kind == "mutual-button" and key.review
     assert any("TX" in r and "RX" in r for r in key.review)

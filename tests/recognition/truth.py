@@ -5,7 +5,7 @@ designers published; made beside the synthetic boards by ``tests/recognition/syn
 lists the board's sensors::
 
     [[sensor]]
-    kind = "slider"              # a SensorKind ("mutual-button" is read as "mutual-node")
+    kind = "slider"              # a SensorKind ("mutual-node", the old spelling, is read as "mutual-button")
     count = 1                    # this many alike sensors (default 1)
     nets = ["/TOUCH?"]           # fnmatch patterns: every net of the sensor matches one, each matches a net
     segments = 3                 # the number of electrode nets
@@ -30,7 +30,7 @@ from sensorcheck.design.model import Design, Sensor
 from sensorcheck.design.roles import matches
 
 TRUTH_DIR = Path(__file__).resolve().parents[1] / "corpus" / "truth"
-_ALIASES = {"mutual-button": "mutual-node"}
+_ALIASES = {"mutual-node": "mutual-button"}  # the old spelling, still accepted in configs
 
 
 @dataclass(slots=True)
