@@ -37,6 +37,11 @@ class CheckOptions:
     with_drawing: bool = False
     timestamp: str | None = None
     baseline: frozenset[str] | None = None
+    #: a board with no fabrication data, no copper or no sensor recognised is an error (exit 2)
+    #: unless this is set: a CI gate pointed at the wrong folder must not go green
+    allow_empty: bool = False
+    #: merge findings of one cause into one finding listing its places (the engine's grouping)
+    group: bool = True
 
 
 def _rings(geom: BaseGeometry | None, tolerance_mm: float = 0.02) -> list[list[tuple[float, float]]]:
@@ -261,6 +266,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
 
     # None (not {}): the rules that need estimates then say once that there are none
     estimates: dict[str, Any] | None = None
+    unavailable: list[Finding] = []  # estimate.unavailable: a rule of the engine (severity from the config)
     want_estimates = options.estimate if options.estimate is not None else bool(config.estimate.get("enabled", True))
     if want_estimates and design.sensors:
         try:
@@ -274,7 +280,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
                     result.findings.append(Finding(rule_id="internal.estimate", severity="error", sensor=name,
                                                    message=f"estimate of {text}", kind="internal-error"))
                 else:
-                    result.findings.append(Finding(
+                    unavailable.append(Finding(
                         rule_id="estimate.unavailable", severity="warning", sensor=name,
                         message=f"no field-solver estimate for {text}; the rules that need one fall back to "
                                 "geometry for this sensor",
@@ -287,7 +293,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     try:
         from sensorcheck.rules.engine import run_rules
 
-        run = run_rules(design, estimates, progress=progress)
+        run = run_rules(design, estimates, progress=progress, extra=unavailable, group=options.group)
         result.findings.extend(run.findings)
         result.rules_run = list(run.rules_run)
         result.notes.extend(run.notes)
@@ -298,6 +304,8 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         result.sensors = _summaries(design, estimates or {})
     except Exception as exc:  # noqa: BLE001
         result.findings.append(_internal_error_finding("summary", exc))
+    if not options.allow_empty:
+        result.findings.extend(_nothing_checked(board, design))
     if options.with_drawing:
         try:
             from sensorcheck.board.drawing import drawing_from_board
@@ -310,12 +318,37 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     return result
 
 
+INIT_HINT = ("run `sensorcheck init PATH` for a starter sensorcheck.toml that names the sensing nets, "
+             "check that PATH is the folder (or .zip) of fabrication outputs, or pass --allow-empty "
+             "when a board without sensors is expected")
+
+
+def _nothing_checked(board: Any, design: Any) -> list[Finding]:
+    """An input error when the board holds nothing to check: no fabrication data, no copper, or
+    no sensor recognised.  Each is exit 2 with the ``init`` hint first: a check that checked
+    nothing must never pass."""
+    readable = [f for f in board.files if f.role not in (None, "other") and not f.error]
+    if not readable:
+        what = "no fabrication data was found (no Gerber, drill or netlist file was identified)"
+    elif not board.copper_layers():
+        what = "no copper layer was found among the fabrication files"
+    elif not design.sensors:
+        what = "no sensor was recognised on the board"
+    else:
+        return []
+    return [Finding(rule_id="input.nothing-checked", severity="error", kind="input-error",
+                    message=f"nothing was checked: {what}; {INIT_HINT}",
+                    location=Location(file=None))]
+
+
 def finish(result: Result, baseline: frozenset[str] | None = None) -> None:
     """Fingerprint and sort findings; with a baseline, findings already accepted become notes of the baseline."""
     assign_fingerprints(result.findings, result.board)
     result.findings.sort(key=sort_key)
     if baseline is not None:
-        old = [f for f in result.findings if f.fingerprint in baseline and f.kind == "finding"]
+        # a grouped finding is in the baseline when it is, or when every place it lists was
+        old = [f for f in result.findings if f.kind == "finding" and (
+            f.fingerprint in baseline or (f.members and all(m in baseline for m in f.members)))]
         for f in old:
             f.severity = "note"
             f.message = f"[in baseline] {f.message}"

@@ -366,10 +366,14 @@ class GroundUnderSelf(Rule):
                             nets=(e.net, *nets), sensor=s.name, source=src,
                         )
                     elif fill > params["max_fill_percent"] or added > params["max_added_pf"]:
+                        # the metric that triggered it: the fill where the fill is over its limit
+                        by_fill = fill > params["max_fill_percent"]
                         yield finding(
                             "warning",
                             f"{base}; limits {fmt(params['max_fill_percent'], 0)} % fill and {fmt(params['max_added_pf'], 1)} pF",
-                            value=added, limit=params["max_added_pf"], unit="pF", layer=lay.name, geom=under,
+                            value=fill if by_fill else added,
+                            limit=params["max_fill_percent"] if by_fill else params["max_added_pf"],
+                            unit="%" if by_fill else "pF", layer=lay.name, geom=under,
                             nets=(e.net, *nets), sensor=s.name, source=src,
                         )
 
