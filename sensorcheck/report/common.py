@@ -136,7 +136,10 @@ def where_text(loc: Location) -> str:
 
 
 def value_text(f: Finding) -> str | None:
-    """``measured 0.21 mm, limit 0.5 mm`` when the finding has a value."""
+    """``measured 0.21 mm, limit 0.5 mm (min)`` when the finding has a value.
+
+    The limit says whether it is a maximum (the value must stay at or below it) or a minimum.
+    """
     if f.value is None and f.limit is None:
         return None
     unit = f" {safe_text(f.unit)}" if f.unit else ""
@@ -144,8 +147,55 @@ def value_text(f: Finding) -> str | None:
     if f.value is not None:
         parts.append(f"measured {num(f.value)}{unit}")
     if f.limit is not None:
-        parts.append(f"limit {num(f.limit)}{unit}")
+        kind = {"max": "max", "min": "min"}.get(f.direction or "", "limit")
+        parts.append(f"{kind} {num(f.limit)}{unit}" if kind == "limit" else f"limit {num(f.limit)}{unit} ({kind})")
     return ", ".join(parts)
+
+
+def sig(value: float | int | None, digits: int = 3) -> str:
+    """A number for people: ``digits`` significant digits, never an exponent for usual sizes."""
+    if value is None:
+        return "-"
+    v = float(value)
+    if v != v or v in (float("inf"), float("-inf")):
+        return str(v)
+    if v == 0:
+        return "0"
+    if abs(v) >= 10 ** digits:
+        return f"{v:.0f}"
+    text = f"{v:.{digits}g}"
+    if "e" in text:
+        text = f"{v:.6f}".rstrip("0").rstrip(".")
+    return text
+
+
+def finding_sensors(f: Finding) -> tuple[str, ...]:
+    """Every sensor a finding is about (a grouped finding may cover several)."""
+    if f.sensors:
+        return f.sensors
+    return (f.sensor,) if f.sensor else ()
+
+
+NOT_CHECKED = "not checked: "
+
+
+def is_not_checked(f: Finding) -> bool:
+    """A rule's one note saying what input it lacked (the engine's "not checked: ..." note)."""
+    return f.kind == "finding" and f.severity == "note" and f.message.startswith(NOT_CHECKED) and not f.waived
+
+
+def not_checked_summary(findings: Iterable[Finding]) -> tuple[list[str], list[str]] | None:
+    """The "not checked" notes as (rule ids, distinct reasons), or None when there are none."""
+    rules: list[str] = []
+    reasons: dict[str, None] = {}
+    for f in findings:
+        if is_not_checked(f):
+            rules.append(f.rule_id)
+            for part in f.message[len(NOT_CHECKED):].split("; "):
+                reasons.setdefault(part.strip(), None)
+    if not rules:
+        return None
+    return sorted(set(rules)), list(reasons)
 
 
 def full_message(f: Finding) -> str:
@@ -257,6 +307,7 @@ def plural(n: int, word: str) -> str:
 
 
 def summary_line(findings: Iterable[Finding]) -> str:
+    """``2 errors, 1 warning, 0 notes, 0 waived`` (+ input and internal errors when there are any)."""
     c = counts(findings)
     parts = [plural(c["error"], "error"), plural(c["warning"], "warning"), plural(c["note"], "note")]
     parts.append(f"{c['waived']} waived")
