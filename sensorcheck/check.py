@@ -158,6 +158,9 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
         est = estimates.get(sensor.name)
         est_dict: dict[str, Any] | None = None
         if isinstance(est, SensorEstimate):
+            from sensorcheck.rules.signal import turning_place
+
+            place, which = turning_place(est)
             est_dict = {
                 "model": est.model,
                 "kind": est.kind,
@@ -166,6 +169,12 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
                 "percent_change": est.percent_change,
                 "turning_point_mm": est.turning_point_mm,
                 "curve": [[round(h, 4), v] for h, v in est.curve],
+                # the approach over the node's centre where it differs from the most sensitive
+                # point, and which of the two curves the turning point refers to
+                "curve_centre": [[round(h, 4), v] for h, v in est.curve_centre],
+                "centre_mm": list(est.centre_mm) if est.centre_mm else None,
+                "turning_curve": which if est.turning_point_mm is not None else None,
+                "turning_point_at_mm": list(place) if (place and est.turning_point_mm is not None) else None,
                 "best_point_mm": list(est.best_point_mm) if est.best_point_mm else None,
                 "crosstalk_pf": dict(sorted(est.crosstalk_pf.items())),
                 "parasitic_pf": est.parasitic_pf,
@@ -216,6 +225,10 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     try:
         design, config = _design_and_config(path, options.config_file, options.layer_map, progress)
     except SensorcheckError as err:
+        if options.allow_empty and isinstance(err, InputError) and getattr(err, "message", "") == "the folder is empty":
+            result.notes.append("The folder is empty: nothing was checked (allowed by --allow-empty).")
+            finish(result, options.baseline)
+            return result
         if isinstance(err, ConfigError):
             result.config_file = err.file
         result.findings.append(_input_error_finding(err))
@@ -318,6 +331,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     return result
 
 
+NOTHING_CHECKED = "input.nothing-checked"
 INIT_HINT = ("run `sensorcheck init PATH` for a starter sensorcheck.toml that names the sensing nets, "
              "check that PATH is the folder (or .zip) of fabrication outputs, or pass --allow-empty "
              "when a board without sensors is expected")
@@ -336,8 +350,8 @@ def _nothing_checked(board: Any, design: Any) -> list[Finding]:
         what = "no sensor was recognised on the board"
     else:
         return []
-    return [Finding(rule_id="input.nothing-checked", severity="error", kind="input-error",
-                    message=f"nothing was checked: {what}; {INIT_HINT}",
+    return [Finding(rule_id=NOTHING_CHECKED, severity="error", kind="input-error",
+                    message=f"nothing was checked ({what}): {INIT_HINT}",
                     location=Location(file=None))]
 
 

@@ -40,6 +40,8 @@ from sensorcheck.report.common import (
 )
 from sensorcheck.rules.finding import Finding, Result, RuleInfo, SensorSummary
 
+#: the check's own finding for a board where nothing was checked (``check.NOTHING_CHECKED``)
+NOTHING_CHECKED = "input.nothing-checked"
 _STYLE = {"error": "bold red", "warning": "yellow", "note": "cyan", "waived": "dim", "internal": "bold magenta"}
 _LABEL = {"error": "ERROR", "warning": "WARNING", "note": "NOTE"}
 
@@ -129,6 +131,8 @@ def _sensor_table(result: Result, findings: list[Finding], width: int, detail: D
             _Col("change %", [_est_number(e, "percent_change", signed=True) for e in ests], right=True, drop=1),
             _Col("turns mm", [_turn(e) for e in ests], right=True, drop=2),
         ]
+    # a column with nothing in it (no estimates for these sensors) says nothing
+    cols = [c for c in cols if c.head in ("sensor", "verdict") or any(x not in ("-", "") for x in c.cells)]
     other = [_other_values(s, detail) for s in sensors]
     if any(other):
         cols.append(_Col("other", other, drop=6))
@@ -280,7 +284,7 @@ def _findings_block(findings: list[Finding], catalogue: dict[str, RuleInfo], det
         if detail == "verbose":
             line.append(f" [{', '.join(rules)}]", style="dim")
         out += [line, Text("")]
-    unread = [f for f in findings if f.kind == "input-error" and not f.waived]
+    unread = [f for f in findings if f.kind == "input-error" and not f.waived and f.rule_id != NOTHING_CHECKED]
     if unread:
         out.append(Text(f"INPUT ERRORS ({len(unread)}): these inputs could not be read, so nothing in them was checked", style=_STYLE["internal"]))
         for f in unread:
@@ -321,6 +325,10 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
     ran = len(set(result.rules_run))
     verdict = sensor_verdict(findings).split(" ", 1)[0]
     summary = Text(f"{verdict}: {summary_line(findings)}; {ran} rule{'s' if ran != 1 else ''} ran", style="bold")
+    # a check that checked nothing says so first, with what to do (the init hint)
+    nothing = [f for f in findings if f.rule_id == NOTHING_CHECKED]
+    for f in nothing:
+        parts.append(Text(f"NOTHING CHECKED: {safe_text(f.message)}", style=_STYLE["internal"]))
     if detail == "quiet":
         return [*parts, summary, *_findings_block(findings, catalogue, detail)]
     cfg = safe_text(result.config_file) if result.config_file else "none found, defaults applied"

@@ -38,7 +38,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, ClassVar, Literal
 
-from sensorcheck.errors import ConfigError
+from sensorcheck.errors import ConfigError, SensorcheckError
 from sensorcheck.rules.finding import (
     SEVERITY_ORDER,
     Finding,
@@ -902,9 +902,20 @@ def _unit(unit: str) -> str:
     return "" if unit == "1" else unit
 
 
-def render_catalogue(fmt: Literal["text", "markdown", "json"] = "text") -> str:
-    """The rule catalogue, generated from the registry (so the docs cannot drift from the code)."""
+def render_catalogue(fmt: Literal["text", "markdown", "json"] = "text", ids: Iterable[str] = ()) -> str:
+    """The rule catalogue, generated from the registry (so the docs cannot drift from the code).
+
+    ``ids``: only these rules (a ConfigError names an unknown id and the closest known one).
+    """
     reg = registry()
+    wanted = list(ids)
+    for rid in wanted:
+        if rid not in reg:
+            close = difflib_close(rid, list(reg))
+            hint = f" (did you mean {close}?)" if close else ""
+            raise SensorcheckError(f"unknown rule id {rid!r}{hint}; `sensorcheck rules` lists them")
+    if wanted:
+        reg = {rid: reg[rid] for rid in dict.fromkeys(wanted)}
     if fmt == "json":
         items = []
         for cls in reg.values():

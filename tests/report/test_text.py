@@ -17,7 +17,7 @@ _CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f]")
 
 
 def test_plain_text_has_no_control_codes(results: list[Result]) -> None:
-    text = render(results, "text")
+    text = render(results, "text", detail="verbose")  # verbose: the nets are listed too
     assert not _CONTROL.search(text)
     assert "\u202e" not in text  # the bidi override is shown as an escape, not obeyed
     assert "\\u202egnp.exe" in text
@@ -49,20 +49,21 @@ def test_content(one_board: list[Result]) -> None:
     heads = [line for line in lines if re.match(r"^(ERRORS|WARNINGS|NOTES) \(\d+\)$", line)]
     assert heads == ["ERRORS (3)", "WARNINGS (3)", "NOTES (3)"]
     assert text.index("routing.aggressor-near-trace") < text.index("routing.via-in-zone") < text.index("WARNINGS")
-    # Sensor table with key numbers and the estimate's model.
-    assert "rx_area_mm2 = 28.27" in text and "model: BEM 2.5-D, 412 panels" in text
+    # Sensor table with key numbers (human labels, 3 significant digits) and the estimate's model once.
+    assert "rx area mm2 28.3" in text and "Estimates (all sensors): BEM 2.5-D, 412 panels" in text
+    assert text.count("BEM 2.5-D, 412 panels") == 1
     # Waived with reason, internal errors, notes, cautions.
     assert "reason: thin <b>glass</b> | front\\npanel, 50% approved (until 2027-06-30)" in text
     assert "INTERNAL ERRORS (1)" in text and "singular matrix" in text
     assert "no job file: stackup from sensorcheck.toml" in text
     assert "Caution: Estimates are not measurements" in text
     assert "3 errors, 3 warnings, 3 notes, 1 waived, 1 internal error; 7 rules ran" in text
-    assert "K1 estimate: overlay thinner than the model's validity range" in text
-    # Per-sensor verdict beside its numbers.
-    k1_row = next(i for i, line in enumerate(lines) if line.startswith("| K1 "))
-    assert "FAIL" in lines[k1_row] and "2 errors" in lines[k1_row + 1]
-    # Markup in names is shown, not interpreted.
-    assert "[bold]B[/bold] & <b>" in text
+    assert "estimate note (K1): overlay thinner than the model's validity range" in text
+    # Per-sensor verdict beside its numbers, on the sensor's row.
+    k1_row = next(line for line in lines if line.startswith("  K1 "))
+    assert "FAIL (2 errors, 1 warning, 1 note, 1 internal error)" in k1_row
+    # Markup in names is shown, not interpreted (the nets are listed with --verbose).
+    assert "[bold]B[/bold] & <b>" in render(one_board, "text", width=160, detail="verbose")
 
 
 def test_overlay_stack_is_listed(one_board: list[Result]) -> None:
