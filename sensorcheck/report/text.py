@@ -38,6 +38,7 @@ from sensorcheck.report.common import (
     where_text,
     xy_text,
 )
+from sensorcheck.report.table import Column, table
 from sensorcheck.rules.finding import Finding, Result, RuleInfo, SensorSummary
 
 #: the check's own finding for a board where nothing was checked (``check.NOTHING_CHECKED``)
@@ -96,82 +97,37 @@ def _turn(est: dict[str, object] | None) -> str:
     return "none" if tp is None else sig(tp)  # type: ignore[arg-type]
 
 
-class _Col:
-    """One column of the sensor table: header, cells, right-aligned numbers, drop priority."""
-
-    def __init__(self, head: str, cells: list[str], right: bool = False, drop: int = 0) -> None:
-        self.head, self.cells, self.right, self.drop = head, cells, right, drop
-
-    @property
-    def width(self) -> int:
-        return max([len(self.head), *(len(c) for c in self.cells)])
-
-
 def _sensor_table(result: Result, findings: list[Finding], width: int, detail: Detail) -> list[Text]:
     """The compact per-sensor summary: one row a sensor, units in the headers, the verdict first.
 
     Never cuts a number: when the columns do not fit ``width``, the least needed columns are
-    dropped (and the table says which) instead.
+    dropped (and the table says which) instead (:mod:`sensorcheck.report.table`).
     """
     sensors = sensors_sorted(result)
     ests = [s.estimate for s in sensors]
     verdicts = [sensor_verdict(f for f in findings if s.name in finding_sensors(f)) for s in sensors]
+    area = [s.values.get(_AREA_KEY) for s in sensors]
     cols = [
-        _Col("sensor", [safe_text(s.name) for s in sensors]),
-        _Col("verdict", verdicts, drop=0),
-        _Col("kind", [safe_text(s.kind) for s in sensors], drop=3),
-        _Col("layer", [safe_text(s.layer or "-") for s in sensors], drop=5),
-        _Col("area mm2", [sig(s.values.get(_AREA_KEY)) if isinstance(s.values.get(_AREA_KEY), (int, float)) else "-"
-                          for s in sensors], right=True, drop=4),
+        Column("sensor", [safe_text(s.name) for s in sensors]),
+        Column("verdict", verdicts),
+        Column("kind", [safe_text(s.kind) for s in sensors], drop=3),
+        Column("layer", [safe_text(s.layer or "-") for s in sensors], drop=5),
+        Column("area mm2", [sig(a) if isinstance(a, (int, float)) else "-" for a in area], right=True, drop=4),
+        Column("base pF", [_est_number(e, "baseline_pf") for e in ests], right=True, drop=2),
+        Column("touch fF", [_est_number(e, "touch_delta_pf", 1000.0, signed=True) for e in ests], right=True, drop=1),
+        Column("change %", [_est_number(e, "percent_change", signed=True) for e in ests], right=True, drop=1),
+        Column("turns mm", [_turn(e) for e in ests], right=True, drop=2),
+        Column("other", [_other_values(s, detail) for s in sensors], drop=6, wrap=True),
     ]
-    if any(ests):
-        cols += [
-            _Col("base pF", [_est_number(e, "baseline_pf") for e in ests], right=True, drop=2),
-            _Col("touch fF", [_est_number(e, "touch_delta_pf", 1000.0, signed=True) for e in ests], right=True, drop=1),
-            _Col("change %", [_est_number(e, "percent_change", signed=True) for e in ests], right=True, drop=1),
-            _Col("turns mm", [_turn(e) for e in ests], right=True, drop=2),
-        ]
     # a column with nothing in it (no estimates for these sensors) says nothing
     cols = [c for c in cols if c.head in ("sensor", "verdict") or any(x not in ("-", "") for x in c.cells)]
-    other = [_other_values(s, detail) for s in sensors]
-    if any(other):
-        cols.append(_Col("other", other, drop=6))
-    dropped: list[str] = []
-    sep = "  "
-
-    def total() -> int:
-        return 2 + sum(c.width for c in cols) + len(sep) * (len(cols) - 1)
-
-    while total() > width and any(c.drop for c in cols):
-        worst = max((c for c in cols if c.drop), key=lambda c: c.drop)
-        if worst.head == "other" and len(cols) > 1:
-            # the free-text column may wrap to the space left instead of going
-            room = width - (total() - worst.width)
-            if room >= 24:
-                worst.cells = [c if len(c) <= room else c[: room - 3].rsplit("; ", 1)[0] + " ..." for c in worst.cells]
-                worst.drop = 0
-                continue
-        cols.remove(worst)
-        dropped.append(worst.head)
     out: list[Text] = []
-    head = Text("  " + sep.join(c.head.ljust(c.width) if not c.right else c.head.rjust(c.width) for c in cols).rstrip(),
-                style="bold")
-    out.append(head)
-    out.append(Text("  " + sep.join("-" * c.width for c in cols)))
-    for i in range(len(sensors)):
-        line = Text("  ")
-        for j, c in enumerate(cols):
-            cell = c.cells[i]
-            text = cell.rjust(c.width) if c.right else cell.ljust(c.width)
-            style = _verdict_style(cell) if c.head == "verdict" else ("bold" if c.head == "sensor" else "")
-            line.append(text, style=style)
-            if j < len(cols) - 1:
-                line.append(sep)
-        line.rstrip()
-        out.append(line)
-    if dropped:
-        out.append(Text(f"  (not shown at {width} columns: {', '.join(dropped)}; a wider terminal or "
-                        "--report json shows them)", style="dim"))
+    for i, line in enumerate(table(cols, len(sensors), width)):
+        text = Text(line, style="bold" if i == 0 else "")
+        if 2 <= i < 2 + len(sensors):
+            for word in ("FAIL", "REVIEW", "PASS"):
+                text.highlight_regex(rf"(?<=  ){word}\b", _verdict_style(word))
+        out.append(text)
     return out
 
 
