@@ -770,11 +770,22 @@ def _merge(members: list[Finding]) -> Finding:
     )
 
 
+#: how the board names a copper island that carries no net name (``board.connectivity``)
+UNNAMED_NET_PREFIX = "~n"
+
+
+def _cause_nets(nets: Iterable[str]) -> tuple[str, ...]:
+    """The nets that identify a cause: named nets as they are; the islands of a board without net
+    names are one unknown net (a bus cut into islands by the reading is still one bus)."""
+    named = sorted({n for n in nets if not n.startswith(UNNAMED_NET_PREFIX)})
+    return (*named, "~") if any(n.startswith(UNNAMED_NET_PREFIX) for n in nets) else tuple(named)
+
+
 def group_by_cause(findings: list[Finding]) -> list[Finding]:
     """Merge the findings of one rule that share a cause into one finding listing its places.
 
     First the places of one rule on one sensor, layer and set of nets (one bus under a slider,
-    one pour in a zone); then, for rules that allow it, the findings of one rule on one layer
+    one pour in a zone; unnamed copper islands count as one unknown net); then, for rules that allow it, the findings of one rule on one layer
     with the same measured value and limit on several sensors (a row of keys at one spacing, the
     same pour under every key).  Only findings of the same severity and the same waiver merge;
     errors of a tool (input, internal) never do.  A finding alone stays as it was (its
@@ -791,7 +802,7 @@ def group_by_cause(findings: list[Finding]) -> list[Finding]:
 
     buckets: dict[tuple[Any, ...], list[Finding]] = {}
     for f in rest:
-        key = (f.rule_id, f.severity, f.sensor, f.location.layer, tuple(sorted(f.nets)), waiver_key(f))
+        key = (f.rule_id, f.severity, f.sensor, f.location.layer, _cause_nets(f.nets), waiver_key(f))
         buckets.setdefault(key, []).append(f)
     first = [b[0] if len(b) == 1 else _merge(b) for b in buckets.values()]
     buckets = {}
@@ -803,7 +814,20 @@ def group_by_cause(findings: list[Finding]) -> list[Finding]:
             out.append(f)
             continue
         buckets.setdefault((f.rule_id, f.severity, f.location.layer, vk, waiver_key(f)), []).append(f)
-    out += [b[0] if len(b) == 1 else _merge(b) for b in buckets.values()]
+    for bucket in buckets.values():
+        # across sensors only: two findings of one sensor with the same number are two causes
+        # (two foreign nets in one zone), so each group holds a sensor at most once
+        groups: list[tuple[set[str], list[Finding]]] = []
+        for f in bucket:
+            mine = set(f.sensors or (f.sensor,))  # type: ignore[arg-type]
+            for names, members in groups:
+                if not names & mine:
+                    names |= mine
+                    members.append(f)
+                    break
+            else:
+                groups.append((mine, [f]))
+        out += [m[0] if len(m) == 1 else _merge(m) for _, m in groups]
     return keep + out
 
 
