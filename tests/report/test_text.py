@@ -85,3 +85,25 @@ def test_unreadable_input_is_listed(results: list[Result]) -> None:
     assert "INPUT ERRORS (1): these inputs could not be read" in text
     assert "b/inner.gbr:57" in text
     assert "1 error, 1 warning, 1 note, 0 waived, 1 input error; 4 rules ran" in text
+
+
+def test_grouped_findings_list_places_and_not_checked_notes_are_one_line() -> None:
+    from sensorcheck.rules.finding import Finding, Location
+
+    places = [Location(layer="bottom-copper", x_mm=float(x), y_mm=2.0) for x in range(6)]
+    grouped = Finding(rule_id="routing.trace-under-electrode", severity="error",
+                      message="trace runs under the electrode [worst of 6 places]", value=0.6, limit=0.0,
+                      unit="mm2", location=places[0], related=places, sensor="slider", places=6,
+                      direction="max", fix="Route the trace around the other electrode.")
+    skipped = [Finding(rule_id=f"gap.rule-{i}", severity="note",
+                       message="not checked: no overlay (cover plate) was given: add [[overlay.layers]]")
+               for i in range(5)]
+    result = Result(board="b", source="fab", tool_version="0", config_file=None, findings=[grouped, *skipped])
+    text = render_text([result], width=100)
+    assert "6 places (mm): (0.00, 2.00), (1.00, 2.00), (2.00, 2.00), (3.00, 2.00), +2 more" in text
+    assert "measured 0.6 mm2, limit 0 mm2 (max)" in text
+    assert "fix: Route the trace around the other electrode." in text
+    lines = [line for line in text.splitlines() if "not checked" in line.lower() or "no overlay" in line]
+    assert len(lines) == 1 and lines[0].startswith("NOT CHECKED (5 rules)")
+    verbose = render_text([result], width=200, detail="verbose")
+    assert "(5.00, 2.00)" in verbose  # every place with --verbose
