@@ -110,12 +110,18 @@ def main(argv: list[str] | None = None) -> int:
     p.add_argument("--config-dir", type=Path, default=CONFIGS, help="where the corpus configs are")
     p.add_argument("--boards", nargs="*", help="only these board ids (b01 ... b07, tm1-flawed, tm1-clean)")
     p.add_argument("--list", action="store_true", help="list every finding of the older run that is not there now")
+    p.add_argument("--now", type=Path, help="read this run's reports from a --dump folder instead of checking again")
     args = p.parse_args(argv)
     targets, skipped = _targets(args.config_dir, args.boards)
     rows: list[tuple[str, ...]] = []
     gone: list[str] = []
     for bid, fab, cfg in targets:
-        report = _check(fab, cfg, args.estimates)
+        now_file = args.now / f"{bid}.json" if args.now else None
+        if now_file is not None and not now_file.is_file():
+            skipped.append(f"{bid}: skipped, no {now_file}")
+            continue
+        report = (json.loads(now_file.read_text(encoding="utf-8")) if now_file is not None
+                  else _check(fab, cfg, args.estimates))
         now = _findings(report)
         if args.dump:
             args.dump.mkdir(parents=True, exist_ok=True)

@@ -214,8 +214,10 @@ class Rule:
     #: engine infers it from each finding (a value above its limit was checked against a maximum)
     limit_direction: ClassVar[Literal["max", "min"] | None] = None
     #: findings of this rule on several sensors with the same measured value are one cause (a
-    #: row of keys at one spacing, one pour under every key): merged across sensors
-    group_across_sensors: ClassVar[bool] = True
+    #: row of keys at one spacing, one pour under every key): merged across sensors.  "layer":
+    #: the rule judges one thing per layer (the pour around the sensors), so its findings on one
+    #: layer with the same nets are one cause whatever their values; False: never merged across
+    group_across_sensors: ClassVar[bool | Literal["layer"]] = True
 
     @classmethod
     def family(cls) -> str:
@@ -785,10 +787,12 @@ def group_by_cause(findings: list[Finding]) -> list[Finding]:
     """Merge the findings of one rule that share a cause into one finding listing its places.
 
     First the places of one rule on one sensor, layer and set of nets (one bus under a slider,
-    one pour in a zone; unnamed copper islands count as one unknown net); then, for rules that allow it, the findings of one rule on one layer
-    with the same measured value and limit on several sensors (a row of keys at one spacing, the
-    same pour under every key).  Only findings of the same severity and the same waiver merge;
-    errors of a tool (input, internal) never do.  A finding alone stays as it was (its
+    one pour in a zone; unnamed copper islands count as one unknown net); then, for rules that
+    allow it, the findings of one rule on one layer with the same measured value and limit on
+    several sensors (a row of keys at one spacing, the same pour under every key), or with any
+    value for a rule that judges one thing per layer (``group_across_sensors = "layer"``).
+    Only findings of the same severity and the same waiver merge; errors of a tool (input,
+    internal) never do.  A finding alone stays as it was (its
     fingerprint is unchanged).
     """
     reg = registry()
@@ -809,8 +813,9 @@ def group_by_cause(findings: list[Finding]) -> list[Finding]:
     out: list[Finding] = []
     for f in first:
         cls = reg.get(f.rule_id)
-        vk = _value_key(f)
-        if cls is None or not cls.group_across_sensors or vk is None or not (f.sensor or f.sensors):
+        mode = cls.group_across_sensors if cls is not None else False
+        vk = ("layer", _cause_nets(f.nets)) if mode == "layer" else _value_key(f)
+        if not mode or vk is None or not (f.sensor or f.sensors):
             out.append(f)
             continue
         buckets.setdefault((f.rule_id, f.severity, f.location.layer, vk, waiver_key(f)), []).append(f)

@@ -231,6 +231,8 @@ class FillNearSensor(Rule):
     """
 
     id = "hatch.fill-near-sensor"
+    # the pour around the sensors on one layer is one cause (one fix), whatever each key's share
+    group_across_sensors = "layer"
     title = "Hatch fill around sensors"
     default_severity = "warning"
     needs = ("sensors",)

@@ -151,3 +151,12 @@ def test_turning_point_is_placed_where_the_signal_turns() -> None:
     assert which == "centre" and place == (18.0, 50.0)  # not the most sensitive point, where it does not turn
     place, which = turning_place(_est(TURNING, MONOTONIC))
     assert which == "best" and place == (10.0, 5.0)
+
+
+def test_one_pour_around_many_keys_is_one_finding_whatever_each_keys_share() -> None:
+    pour = [_f(float(i), 95.0 + i, f"K{i}", (), "hatch.fill-near-sensor") for i in range(4)]
+    other_layer = _f(9.0, 60.0, "K9", (), "hatch.fill-near-sensor")
+    other_layer.location = Location(layer="bottom-copper", x_mm=9.0, y_mm=0.0)
+    out = sorted(_grouped([*pour, other_layer]), key=lambda f: f.places)
+    assert [f.places for f in out] == [1, 4]
+    assert out[1].value == 98.0 and out[1].sensors == ("K0", "K1", "K2", "K3")
