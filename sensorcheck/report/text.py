@@ -162,6 +162,23 @@ def _model_lines(result: Result) -> list[Text]:
     return out
 
 
+def _overlay_short(overlay: dict[str, object]) -> str:
+    """``overlay: 2 mm over the top face: pmma 2 mm (eps_r 2.8)`` (the sources with --verbose)."""
+    parts: list[str] = []
+    layers = overlay.get("layers")
+    for layer in layers if isinstance(layers, (list, tuple)) else []:
+        if isinstance(layer, dict):
+            name = safe_text(layer.get("name") or layer.get("material") or "layer")
+            t = layer.get("thickness_mm")
+            eps = layer.get("epsilon_r")
+            parts.append(name + (f" {sig(t)} mm" if isinstance(t, (int, float)) else "")
+                         + (f" (eps_r {sig(eps)})" if isinstance(eps, (int, float)) else ""))
+    t = overlay.get("thickness_mm")
+    face = overlay.get("face")
+    head = "overlay:" + (f" {sig(t)} mm" if isinstance(t, (int, float)) else "") + (f" over the {safe_text(face)} face" if face else "")
+    return head + (": " + ", ".join(parts) if parts else "")
+
+
 def _places_text(f: Finding, detail: Detail) -> str | None:
     if f.places <= 1 or not f.related:
         return None
@@ -292,8 +309,11 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
     if result.timestamp:
         info.append(f"   {safe_text(result.timestamp)}")
     parts.append(info)
-    for i, line in enumerate(overlay_lines(result.overlay)):
-        parts.append(Text(("overlay: " if i == 0 else "         ") + line))
+    if detail == "verbose":
+        for i, line in enumerate(overlay_lines(result.overlay)):
+            parts.append(Text(("overlay: " if i == 0 else "         ") + line))
+    elif result.overlay:
+        parts.append(Text(_overlay_short(result.overlay)))
     parts.append(Text(""))
     if result.sensors:
         n = len(result.sensors)

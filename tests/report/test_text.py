@@ -74,7 +74,9 @@ def test_overlay_stack_is_listed(one_board: list[Result]) -> None:
             {"name": "adhesive", "thickness_mm": 0.05, "epsilon_r": 3.0, "epsilon_source": "config", "kind": "adhesive"},
         ],
     }
-    text = render(one_board, "text")
+    short = render(one_board, "text")
+    assert "overlay: over the top face: pmma 2 mm (eps_r 2.6), adhesive 0.05 mm (eps_r 3)" in short
+    text = render(one_board, "text", detail="verbose")  # the whole stack with its sources
     assert "overlay: face = top" in text
     assert "layer: pmma 2 mm eps_r 2.6 overlay (permittivity: handbook)" in text
     assert "layer: adhesive 0.05 mm eps_r 3 adhesive (permittivity: config)" in text
