@@ -317,7 +317,8 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         result.sensors = _summaries(design, estimates or {})
     except Exception as exc:  # noqa: BLE001
         result.findings.append(_internal_error_finding("summary", exc))
-    if not options.allow_empty:
+    if not options.allow_empty and not any(f.kind == "input-error" for f in result.findings):
+        # (a file that could not be read already makes the run exit 2 and says which)
         result.findings.extend(_nothing_checked(board, design))
     if options.with_drawing:
         try:
