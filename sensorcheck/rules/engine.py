@@ -218,6 +218,10 @@ class Rule:
     #: the rule judges one thing per layer (the pour around the sensors), so its findings on one
     #: layer with the same nets are one cause whatever their values; False: never merged across
     group_across_sensors: ClassVar[bool | Literal["layer"]] = True
+    #: the nets are part of a finding's cause (one bus, one pour); False: every finding of the rule
+    #: on one sensor and layer is one cause whichever nets it names (copper of several nets of one
+    #: footprint in one sensing zone), listed with all their nets
+    cause_includes_nets: ClassVar[bool] = True
 
     @classmethod
     def family(cls) -> str:
@@ -745,6 +749,9 @@ def _merge(members: list[Finding]) -> Finding:
                 related.append(loc)
     n = sum(m.places for m in members)
     on = f" on {len(sensors)} sensors ({', '.join(sensors)})" if len(sensors) > 1 else ""
+    if len({tuple(sorted(m.nets)) for m in members}) > 1 and len(sensors) <= 1:
+        nets = sorted({net for m in members for net in m.nets})
+        on += f", nets {', '.join(nets[:6])}" + (f" and {len(nets) - 6} more" if len(nets) > 6 else "")
     lead = worst.message
     if worst.places > 1 and lead.endswith("]") and " places" in lead:
         lead = lead[: lead.rfind(" [")]
@@ -806,7 +813,9 @@ def group_by_cause(findings: list[Finding]) -> list[Finding]:
 
     buckets: dict[tuple[Any, ...], list[Finding]] = {}
     for f in rest:
-        key = (f.rule_id, f.severity, f.sensor, f.location.layer, _cause_nets(f.nets), waiver_key(f))
+        cls = reg.get(f.rule_id)
+        nets = _cause_nets(f.nets) if cls is None or cls.cause_includes_nets else ()
+        key = (f.rule_id, f.severity, f.sensor, f.location.layer, nets, waiver_key(f))
         buckets.setdefault(key, []).append(f)
     first = [b[0] if len(b) == 1 else _merge(b) for b in buckets.values()]
     buckets = {}

@@ -58,7 +58,8 @@ def test_single_findings_keep_their_fingerprint() -> None:
 
 
 def test_different_causes_stay_apart() -> None:
-    out = _grouped([_f(0.0, nets=("GND",)), _f(5.0, nets=("LED",)), _f(9.0, severity="error")])
+    r = "routing.trace-under-electrode"  # a rule whose cause includes the net (one bus)
+    out = _grouped([_f(0.0, nets=("GND",), rule=r), _f(5.0, nets=("LED",), rule=r), _f(9.0, severity="error", rule=r)])
     assert len(out) == 3
 
 
@@ -160,3 +161,14 @@ def test_one_pour_around_many_keys_is_one_finding_whatever_each_keys_share() -> 
     out = sorted(_grouped([*pour, other_layer]), key=lambda f: f.places)
     assert [f.places for f in out] == [1, 4]
     assert out[1].value == 98.0 and out[1].sensors == ("K0", "K1", "K2", "K3")
+
+
+def test_a_zone_holding_copper_of_several_nets_is_one_cause_for_zone_rules() -> None:
+    # routing.foreign-copper-in-zone: the zone of one sensor on one layer is the cause
+    out = _grouped([_f(0.0, 1.0, nets=("+5V",)), _f(2.0, 3.9, nets=("LED-K",)), _f(4.0, 0.9, nets=("Q-G",))])
+    assert len(out) == 1 and out[0].places == 3 and set(out[0].nets) == {"+5V", "LED-K", "Q-G"}
+    assert "nets +5V, LED-K, Q-G" in out[0].message
+    # a rule whose cause is a net keeps two nets apart
+    two = _grouped([_f(0.0, 1.0, nets=("A",), rule="routing.trace-under-electrode"),
+                    _f(2.0, 2.0, nets=("B",), rule="routing.trace-under-electrode")])
+    assert len(two) == 2
