@@ -395,3 +395,24 @@ def estimate_notes_of(estimate: dict[str, object] | None) -> list[str]:
 
 def estimate_notes(sensor: SensorSummary) -> list[str]:
     return estimate_notes_of(sensor.estimate)
+
+
+def estimate_scalars(estimate: dict[str, object] | None) -> list[tuple[str, str, str]]:
+    """An estimate's scalar numbers for people: (label, value, unit), 3 significant digits, the
+    touch delta in fF (the unit every output uses for it), the model and lists left out."""
+    out: list[tuple[str, str, str]] = []
+    for k, v in sorted((estimate or {}).items()):
+        if k in ("model", "model_label") or isinstance(v, (bool, list, tuple, dict)) or v is None:
+            continue
+        if k == "touch_delta_pf" and isinstance(v, (int, float)):
+            out.append(("touch delta", sig(1000.0 * float(v)), "fF"))
+        elif isinstance(v, (int, float)):
+            parts = k.split("_")
+            unit = {"pf": "pF", "mm": "mm", "mm2": "mm2", "ff": "fF"}.get(parts[-1], "")
+            label = " ".join(parts[:-1] if unit else parts)
+            if k == "percent_change":
+                label, unit = "change", "%"
+            out.append((label, sig(v), unit))
+        else:
+            out.append((k.replace("_", " "), safe_text(v), ""))
+    return out

@@ -583,6 +583,9 @@ def _estimate_block(est: dict[str, Any]) -> str:
         if k == "turning_point_mm" and v is None:
             rows.append("<tr><th>turning point</th><td>none in the computed range</td><td></td></tr>")
             continue
+        if k == "touch_delta_pf" and isinstance(v, int | float):  # fF, the unit every output uses
+            rows.append(f"<tr><th>touch delta</th><td>{esc(_value(1000.0 * v))}</td><td>fF</td></tr>")
+            continue
         rows.append(f"<tr><th>{esc(name)}</th><td>{esc(_value(v))}</td><td>{esc(unit) if v is not None else ''}</td></tr>")
     if rows:
         out.append(f'<table class="numbers"><tbody>{"".join(rows)}</tbody></table>')

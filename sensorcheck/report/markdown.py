@@ -19,6 +19,7 @@ from sensorcheck.report.common import (
     board_labels,
     counts,
     estimate_notes_of,
+    estimate_scalars,
     finding_sensors,
     is_problem,
     kind_label,
@@ -77,8 +78,8 @@ def _estimate_lines(estimate: dict[str, object] | None) -> list[str]:
     if not estimate:
         return []
     model = estimate.get("model") or estimate.get("model_label") or "model not named"
-    scalars = [(k, v) for k, v in sorted(estimate.items()) if k not in ("model", "model_label") and isinstance(v, (int, float, str)) and not isinstance(v, bool)]
-    text = ", ".join(f"{md(k)} = {md(num(v))}" for k, v in scalars)
+    text = ", ".join(f"{md(label)} {md(value)}{(' ' + unit) if unit else ''}"
+                     for label, value, unit in estimate_scalars(estimate))
     out = [f"Estimate (field solver, {md(model)}; an estimate, not a measurement): {text or 'no scalar values'}", ""]
     notes = estimate_notes_of(estimate)
     if notes:
