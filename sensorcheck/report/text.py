@@ -9,6 +9,7 @@ and control characters are shown as escapes, so a net name cannot style or rewri
 from __future__ import annotations
 
 import io
+import re
 from collections.abc import Sequence
 from typing import Literal
 
@@ -136,7 +137,7 @@ def _verdict_style(text: str) -> str:
     return {"FAIL": _STYLE["error"], "REVIEW": _STYLE["warning"], "PASS": "green"}.get(word, "")
 
 
-def _model_lines(result: Result) -> list[Text]:
+def _model_lines(result: Result, detail: Detail = "normal") -> list[Text]:
     """The estimates' model, stated once (numbered when sensors use several), and their notes once."""
     models: dict[str, list[str]] = {}
     notes: dict[str, list[str]] = {}
@@ -156,9 +157,20 @@ def _model_lines(result: Result) -> list[Text]:
         out.append(Text("  Estimates of a model, not measurements:"))
         for m, names in models.items():
             out.append(Text(f"    {', '.join(safe_text(n) for n in names)}: {m}"))
+    # notes that differ only in their numbers (a coverage, a panel count) are one note here;
+    # --verbose lists each sensor's own
+    similar: dict[str, list[tuple[str, list[str]]]] = {}
     for n, names in notes.items():
-        who = "all sensors" if len(names) == len(result.sensors) and len(names) > 1 else ", ".join(safe_text(x) for x in names)
-        out.append(Text(f"  estimate note ({who}): {n}", style="italic"))
+        similar.setdefault(re.sub(r"\d+(\.\d+)?", "#", n), []).append((n, names))
+    for group in similar.values():
+        if detail == "verbose" or len(group) == 1:
+            items = group
+        else:
+            names = sorted({x for _, ns in group for x in ns})
+            items = [(group[0][0] + " (the numbers differ per sensor: --verbose)", names)]
+        for n, names in items:
+            who = "all sensors" if len(names) == len(result.sensors) and len(names) > 1 else ", ".join(safe_text(x) for x in names)
+            out.append(Text(f"  estimate note ({who}): {n}", style="italic"))
     return out
 
 
@@ -192,13 +204,16 @@ def _places_text(f: Finding, detail: Detail) -> str | None:
     return text
 
 
-def _finding_lines(f: Finding, detail: Detail) -> RenderableType:
+def _finding_lines(f: Finding, detail: Detail, models: Sequence[str] = ()) -> RenderableType:
     """One finding: a bullet, then the block indented so wrapped lines keep their margin."""
     body = Text()
     sensors = finding_sensors(f)
     if len(sensors) == 1:
         body.append(f"[{safe_text(sensors[0])}] ", style="bold")
-    body.append(safe_text(f.message))
+    message = f.message
+    for model in models:  # the model is stated once above the findings, not in each
+        message = message.replace(f"(estimate: {model})", "(estimate of the model above)")
+    body.append(safe_text(message))
     rows: list[RenderableType] = [body]
     vt = value_text(f)
     where = Text((f"{vt}; " if vt else "") + f"at {where_text(f.location)}")
@@ -227,7 +242,8 @@ def _finding_lines(f: Finding, detail: Detail) -> RenderableType:
     return grid
 
 
-def _findings_block(findings: list[Finding], catalogue: dict[str, RuleInfo], detail: Detail) -> list[RenderableType]:
+def _findings_block(findings: list[Finding], catalogue: dict[str, RuleInfo], detail: Detail,
+                    models: Sequence[str] = ()) -> list[RenderableType]:
     out: list[RenderableType] = []
     open_findings = [f for f in findings if not f.waived and f.kind == "finding" and not is_not_checked(f)]
     for sev in ("error", "warning", "note"):
@@ -247,7 +263,7 @@ def _findings_block(findings: list[Finding], catalogue: dict[str, RuleInfo], det
             if title:
                 head.append(f"  {safe_text(title)}")
             out.append(head)
-            out.extend(_finding_lines(f, detail) for f in by_rule[rule_id])
+            out.extend(_finding_lines(f, detail, models) for f in by_rule[rule_id])
         out.append(Text(""))
     skipped = not_checked_summary(findings)
     if skipped is not None and detail != "quiet":
@@ -319,14 +335,15 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
         n = len(result.sensors)
         parts.append(Text(f"Sensors ({n})", style="bold"))
         parts += _sensor_table(result, findings, width, detail)
-        parts += _model_lines(result)
+        parts += _model_lines(result, detail)
         if detail == "verbose":
             for s in sensors_sorted(result):
                 parts.append(Text(f"  {safe_text(s.name)}: nets {safe_text(', '.join(s.nets)) or '-'}", style="dim"))
     else:
         parts.append(Text("No sensors recognised."))
     parts.append(Text(""))
-    parts += _findings_block(findings, catalogue, detail)
+    models = sorted({str(s.estimate.get("model")) for s in result.sensors if s.estimate and s.estimate.get("model")})
+    parts += _findings_block(findings, catalogue, detail, models if detail != "verbose" else ())
     if result.notes:
         parts.append(Text("Notes", style="bold"))
         parts += [Text(f"  - {safe_text(n)}") for n in result.notes]
