@@ -8,7 +8,8 @@ place, as before grouping), the findings now (one per cause), and the errors / w
 
 Every finding of the previous run that is not among the findings now is listed with what became
 of it: merged into a finding of one cause (its fingerprint is among that finding's ``members``),
-cleared by an estimate (the finding now says so), or gone (explained by hand in the closing note).
+still found at another place (same rule and sensor), or not found now (an estimate that cleared
+it, or a change to explain by hand in the closing note).
 
     .venv/bin/python bench/bench_verdicts.py                       # geometry only (fast)
     .venv/bin/python bench/bench_verdicts.py --estimates           # with field-solver estimates (slow)
@@ -92,13 +93,15 @@ def _fate(old: dict[str, Any], now: list[dict[str, Any]]) -> str | None:
     for f in now:
         if fp in (f.get("members") or []):
             return f"merged into {f['rule_id']} {f['fingerprint']} ({f.get('places', 1)} places)"
-    same = [f for f in now if f["rule_id"] == old["rule_id"] and f.get("sensor") == old.get("sensor")
-            and f["location"] == old["location"]]
+    same = [f for f in now if f["rule_id"] == old["rule_id"] and f.get("sensor") == old.get("sensor")]
     if same:
-        return f"same place, new fingerprint {same[0]['fingerprint']} (severity {same[0]['severity']})"
-    cleared = [f for f in now if "estimate" in f["message"] and f["rule_id"] == old["rule_id"]]
+        loc = same[0]["location"]
+        at = f"({loc['x_mm']:.2f}, {loc['y_mm']:.2f}) mm" if loc.get("x_mm") is not None else "no place"
+        return f"still found, now at {at} [{same[0]['severity']}] (fingerprint {same[0]['fingerprint']})"
+    cleared = [f for f in now if f["rule_id"] == old["rule_id"] and "estimate" in f["message"]
+               and old.get("sensor") in (f.get("sensors") or [f.get("sensor")])]
     if cleared:
-        return f"cleared by the estimate: {cleared[0]['message'][:100]}"
+        return f"decided by the estimate: {cleared[0]['message'][:100]}"
     return "not found now"
 
 
