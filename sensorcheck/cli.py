@@ -127,6 +127,7 @@ def _parser() -> argparse.ArgumentParser:
     est.add_argument("--plot", type=Path, help="write the approach curves to this PNG or SVG file")
     est.add_argument("--sweep", metavar="PARAM=V1,V2,...", help="sweep overlay_thickness_mm or overlay_epsilon_r")
     est.add_argument("--format", choices=["text", "json"], default="text")
+    est.add_argument("-v", "--verbose", action="store_true", help="every estimate note of every sensor")
 
     rules = sub.add_parser(
         "rules", help="print the rule catalogue, or one rule",

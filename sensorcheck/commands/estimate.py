@@ -99,9 +99,10 @@ def output_width(stream: TextIO) -> int:
 
 
 def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str = "Field-solver estimates",
-                width: int | None = None) -> None:
+                width: int | None = None, verbose: bool = False) -> None:
     """The estimates as a plain ASCII table that fits the width (columns dropped, never cut),
     then the model once and each note once."""
+    from sensorcheck.report.common import fold_notes
     from sensorcheck.report.table import Column, table
 
     width = width or output_width(stream)
@@ -131,8 +132,7 @@ def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str
     for name in sorted(estimates):
         for note in estimates[name].notes:
             notes.setdefault(note, []).append(name)
-    for note, names in notes.items():
-        who = "all" if len(names) == len(estimates) and len(names) > 1 else ", ".join(names)
+    for who, note in fold_notes(notes, len(estimates), every=verbose):
         lines.append(f"note ({who}): {note}")
     lines.append(DISCLAIMER)
     stream.write("\n".join(_wrap(line, width) for line in lines) + "\n")
@@ -236,7 +236,7 @@ def run(args: argparse.Namespace) -> int:
         json.dump(estimates_json(estimates), sys.stdout, indent=2, sort_keys=True)
         sys.stdout.write("\n")
     else:
-        print_table(estimates, sys.stdout)
+        print_table(estimates, sys.stdout, verbose=bool(getattr(args, "verbose", False)))
     plot = getattr(args, "plot", None)
     if plot is not None:
         plot_curves(estimates, Path(plot))

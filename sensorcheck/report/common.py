@@ -416,3 +416,27 @@ def estimate_scalars(estimate: dict[str, object] | None) -> list[tuple[str, str,
         else:
             out.append((k.replace("_", " "), safe_text(v), ""))
     return out
+
+
+def fold_notes(notes: dict[str, list[str]], total: int, every: bool = False) -> list[tuple[str, str]]:
+    """Estimate notes for people: (who, text), each text once with the sensors it is about.
+
+    ``notes``: note text -> sensor names.  Notes that differ only in their numbers (a coverage, a
+    panel count) become one, saying so, unless ``every``; ``who`` is "all" when a note is about
+    every one of ``total`` sensors.
+    """
+    import re
+
+    similar: dict[str, list[tuple[str, list[str]]]] = {}
+    for text, names in notes.items():
+        similar.setdefault(re.sub(r"\d+(\.\d+)?", "#", text), []).append((text, names))
+    out: list[tuple[str, str]] = []
+    for group in similar.values():
+        items = group
+        if not every and len(group) > 1:
+            names = sorted({n for _, ns in group for n in ns})
+            items = [(group[0][0] + " (the numbers differ per sensor)", names)]
+        for text, names in items:
+            who = "all" if len(names) == total and total > 1 else ", ".join(safe_text(n) for n in names)
+            out.append((who, safe_text(text)))
+    return out

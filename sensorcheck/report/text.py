@@ -22,6 +22,7 @@ from sensorcheck.report.common import (
     board_labels,
     estimate_notes,
     finding_sensors,
+    fold_notes,
     is_not_checked,
     is_problem,
     not_checked_summary,
@@ -147,7 +148,7 @@ def _model_lines(result: Result, detail: Detail = "normal") -> list[Text]:
         model = s.estimate.get("model") or s.estimate.get("model_label") or "model not named"
         models.setdefault(safe_text(model), []).append(s.name)
         for n in estimate_notes(s):
-            notes.setdefault(safe_text(n), []).append(s.name)
+            notes.setdefault(n, []).append(s.name)
     out: list[Text] = []
     if not models:
         return out
@@ -157,20 +158,8 @@ def _model_lines(result: Result, detail: Detail = "normal") -> list[Text]:
         out.append(Text("  Estimates of a model, not measurements:"))
         for m, names in models.items():
             out.append(Text(f"    {', '.join(safe_text(n) for n in names)}: {m}"))
-    # notes that differ only in their numbers (a coverage, a panel count) are one note here;
-    # --verbose lists each sensor's own
-    similar: dict[str, list[tuple[str, list[str]]]] = {}
-    for n, names in notes.items():
-        similar.setdefault(re.sub(r"\d+(\.\d+)?", "#", n), []).append((n, names))
-    for group in similar.values():
-        if detail == "verbose" or len(group) == 1:
-            items = group
-        else:
-            names = sorted({x for _, ns in group for x in ns})
-            items = [(group[0][0] + " (the numbers differ per sensor: --verbose)", names)]
-        for n, names in items:
-            who = "all sensors" if len(names) == len(result.sensors) and len(names) > 1 else ", ".join(safe_text(x) for x in names)
-            out.append(Text(f"  estimate note ({who}): {n}", style="italic"))
+    for who, n in fold_notes(notes, len(result.sensors), every=detail == "verbose"):
+        out.append(Text(f"  estimate note ({who}): {n}", style="italic"))
     return out
 
 
