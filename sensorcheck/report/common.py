@@ -427,15 +427,25 @@ def fold_notes(notes: dict[str, list[str]], total: int, every: bool = False) -> 
     """
     import re
 
+    number = re.compile(r"\d+(?:\.\d+)?")
     similar: dict[str, list[tuple[str, list[str]]]] = {}
     for text, names in notes.items():
-        similar.setdefault(re.sub(r"\d+(\.\d+)?", "#", text), []).append((text, names))
+        similar.setdefault(number.sub("#", text), []).append((text, names))
     out: list[tuple[str, str]] = []
-    for group in similar.values():
+    for masked, group in similar.items():
         items = group
         if not every and len(group) > 1:
             names = sorted({n for _, ns in group for n in ns})
-            items = [(group[0][0] + " (the numbers differ per sensor)", names)]
+            # each number that differs between the sensors is shown as its range
+            columns = list(zip(*(number.findall(t) for t, _ in group), strict=True))
+            parts = masked.split("#")
+            text = parts[0]
+            for values, rest in zip(columns, parts[1:], strict=True):
+                nums = sorted({float(v) for v in values})
+                pick = {float(v): v for v in values}
+                text += pick[nums[0]] if len(nums) == 1 else f"{pick[nums[0]]}-{pick[nums[-1]]}"
+                text += rest
+            items = [(text, names)]
         for text, names in items:
             who = "all" if len(names) == total and total > 1 else ", ".join(safe_text(n) for n in names)
             out.append((who, safe_text(text)))

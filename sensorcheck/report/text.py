@@ -99,7 +99,7 @@ def _turn(est: dict[str, object] | None) -> str:
     return "none" if tp is None else sig(tp)  # type: ignore[arg-type]
 
 
-def _sensor_table(result: Result, findings: list[Finding], width: int, detail: Detail) -> list[Text]:
+def _sensor_table(result: Result, findings: list[Finding], width: int, detail: Detail) -> list[RenderableType]:
     """The compact per-sensor summary: one row a sensor, units in the headers, the verdict first.
 
     Never cuts a number: when the columns do not fit ``width``, the least needed columns are
@@ -123,8 +123,11 @@ def _sensor_table(result: Result, findings: list[Finding], width: int, detail: D
     ]
     # a column with nothing in it (no estimates for these sensors) says nothing
     cols = [c for c in cols if c.head in ("sensor", "verdict") or any(x not in ("-", "") for x in c.cells)]
-    out: list[Text] = []
+    out: list[RenderableType] = []
     for i, line in enumerate(table(cols, len(sensors), width)):
+        if i >= 2 + len(sensors):  # the line saying which columns went: wrapped under the table
+            out.append(Padding(Text(line.strip(), style="dim"), (0, 0, 0, 2)))
+            continue
         text = Text(line, style="bold" if i == 0 else "")
         if 2 <= i < 2 + len(sensors):
             for word in ("FAIL", "REVIEW", "PASS"):
@@ -153,13 +156,13 @@ def _model_lines(result: Result, detail: Detail = "normal") -> list[Text]:
     if not models:
         return out
     if len(models) == 1:
-        out.append(Text(f"  Estimates (all sensors): {next(iter(models))}. Estimates of a model, not measurements."))
+        out.append(Text(f"Estimates (all sensors): {next(iter(models))}. Estimates of a model, not measurements."))
     else:
-        out.append(Text("  Estimates of a model, not measurements:"))
+        out.append(Text("Estimates of a model, not measurements:"))
         for m, names in models.items():
-            out.append(Text(f"    {', '.join(safe_text(n) for n in names)}: {m}"))
+            out.append(Text(f"  {', '.join(safe_text(n) for n in names)}: {m}"))
     for who, n in fold_notes(notes, len(result.sensors), every=detail == "verbose"):
-        out.append(Text(f"  estimate note ({who}): {n}", style="italic"))
+        out.append(Text(f"estimate note ({who}): {n}", style="italic"))
     return out
 
 
@@ -324,7 +327,7 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
         n = len(result.sensors)
         parts.append(Text(f"Sensors ({n})", style="bold"))
         parts += _sensor_table(result, findings, width, detail)
-        parts += _model_lines(result, detail)
+        parts += [Padding(t, (0, 0, 0, 2)) for t in _model_lines(result, detail)]
         if detail == "verbose":
             for s in sensors_sorted(result):
                 parts.append(Text(f"  {safe_text(s.name)}: nets {safe_text(', '.join(s.nets)) or '-'}", style="dim"))
