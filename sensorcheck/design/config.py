@@ -843,7 +843,9 @@ def load_config(
         config.notes.append("the default rule profile is not shipped here; rules use their own defaults")
     if "rules" in data:
         _rules(ctx, data["rules"], known_rules, thresholds, severities, board_config=True)
-    config.thresholds = thresholds
+    # keep_errors is no rule parameter: it goes beside the severities
+    config.keep_errors = {rid: bool(t.pop("keep_errors")) for rid, t in thresholds.items() if "keep_errors" in t}
+    config.thresholds = {rid: t for rid, t in thresholds.items() if t}
     config.severities = severities
     if "waivers" in data:
         config.waivers = _waivers(ctx, data["waivers"], known_rules)

@@ -541,6 +541,9 @@ def effective_settings(config: Config) -> dict[str, tuple[SeverityOrOff, dict[st
             params[name] = _coerce(rid, name, value, cls.params[name].type, config.file, f'rules."{rid}"')
         if rid in config.severities:
             severity = config.severities[rid]  # type: ignore[assignment]
+        keep = getattr(config, "keep_errors", {}).get(rid)
+        if keep is not None:
+            params[KEEP_ERRORS] = keep
         out[rid] = (severity, params)
     for rid in list(config.thresholds) + list(config.severities):
         if rid not in out:

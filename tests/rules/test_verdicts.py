@@ -108,10 +108,10 @@ def test_configured_severity_caps_every_finding_unless_keep_errors() -> None:
     try:
         assert any(f.rule_id == rid and f.severity == "error" for f in run_rules(design).findings)
         design.config.severities[rid] = "note"
-        design.config.thresholds[rid] = {"keep_errors": False}  # what a board config's table sets
+        design.config.keep_errors[rid] = False  # what a board config's table with a severity sets
         sev = {f.severity for f in run_rules(design).findings if f.rule_id == rid}
         assert sev == {"note"}
-        design.config.thresholds[rid] = {"keep_errors": True}
+        design.config.keep_errors[rid] = True
         sev = {f.severity for f in run_rules(design).findings if f.rule_id == rid}
         assert "error" in sev
     finally:
