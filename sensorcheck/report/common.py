@@ -145,10 +145,10 @@ def value_text(f: Finding) -> str | None:
     unit = f" {safe_text(f.unit)}" if f.unit else ""
     parts = []
     if f.value is not None:
-        parts.append(f"measured {num(f.value)}{unit}")
+        parts.append(f"measured {sig(f.value)}{unit}")
     if f.limit is not None:
         kind = {"max": "max", "min": "min"}.get(f.direction or "", "limit")
-        parts.append(f"{kind} {num(f.limit)}{unit}" if kind == "limit" else f"limit {num(f.limit)}{unit} ({kind})")
+        parts.append(f"limit {sig(f.limit)}{unit}" + ("" if kind == "limit" else f" ({kind})"))
     return ", ".join(parts)
 
 
