@@ -39,6 +39,11 @@ class CheckOptions:
     baseline: frozenset[str] | None = None
     #: refuse deprecated Gerber constructs and Excellon dialects instead of reading them with a warning
     strict: bool = False
+    #: a board with no fabrication data, no copper or no sensor recognised is an error (exit 2)
+    #: unless this is set: a CI gate pointed at the wrong folder must not go green
+    allow_empty: bool = False
+    #: merge findings of one cause into one finding listing its places (the engine's grouping)
+    group: bool = True
 
 
 def _rings(geom: BaseGeometry | None, tolerance_mm: float = 0.02) -> list[list[tuple[float, float]]]:
@@ -159,6 +164,9 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
         est = estimates.get(sensor.name)
         est_dict: dict[str, Any] | None = None
         if isinstance(est, SensorEstimate):
+            from sensorcheck.rules.signal import turning_place
+
+            place, which = turning_place(est)
             est_dict = {
                 "model": est.model,
                 "kind": est.kind,
@@ -167,6 +175,12 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
                 "percent_change": est.percent_change,
                 "turning_point_mm": est.turning_point_mm,
                 "curve": [[round(h, 4), v] for h, v in est.curve],
+                # the approach over the node's centre where it differs from the most sensitive
+                # point, and which of the two curves the turning point refers to
+                "curve_centre": [[round(h, 4), v] for h, v in est.curve_centre],
+                "centre_mm": list(est.centre_mm) if est.centre_mm else None,
+                "turning_curve": which if est.turning_point_mm is not None else None,
+                "turning_point_at_mm": list(place) if (place and est.turning_point_mm is not None) else None,
                 "best_point_mm": list(est.best_point_mm) if est.best_point_mm else None,
                 "crosstalk_pf": dict(sorted(est.crosstalk_pf.items())),
                 "parasitic_pf": est.parasitic_pf,
@@ -218,6 +232,10 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         design, config = _design_and_config(path, options.config_file, options.layer_map, progress,
                                             strict=options.strict)
     except SensorcheckError as err:
+        if options.allow_empty and isinstance(err, InputError) and getattr(err, "message", "") == "the folder is empty":
+            result.notes.append("The folder is empty: nothing was checked (allowed by --allow-empty).")
+            finish(result, options.baseline)
+            return result
         if isinstance(err, ConfigError):
             result.config_file = err.file
         result.findings.append(_input_error_finding(err))
@@ -269,6 +287,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
 
     # None (not {}): the rules that need estimates then say once that there are none
     estimates: dict[str, Any] | None = None
+    unavailable: list[Finding] = []  # estimate.unavailable: a rule of the engine (severity from the config)
     want_estimates = options.estimate if options.estimate is not None else bool(config.estimate.get("enabled", True))
     if want_estimates and design.sensors:
         try:
@@ -282,7 +301,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
                     result.findings.append(Finding(rule_id="internal.estimate", severity="error", sensor=name,
                                                    message=f"estimate of {text}", kind="internal-error"))
                 else:
-                    result.findings.append(Finding(
+                    unavailable.append(Finding(
                         rule_id="estimate.unavailable", severity="warning", sensor=name,
                         message=f"no field-solver estimate for {text}; the rules that need one fall back to "
                                 "geometry for this sensor",
@@ -295,7 +314,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     try:
         from sensorcheck.rules.engine import run_rules
 
-        run = run_rules(design, estimates, progress=progress)
+        run = run_rules(design, estimates, progress=progress, extra=unavailable, group=options.group)
         result.findings.extend(run.findings)
         result.rules_run = list(run.rules_run)
         result.notes.extend(run.notes)
@@ -306,6 +325,9 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         result.sensors = _summaries(design, estimates or {})
     except Exception as exc:  # noqa: BLE001
         result.findings.append(_internal_error_finding("summary", exc))
+    if not options.allow_empty and not any(f.kind == "input-error" for f in result.findings):
+        # (a file that could not be read already makes the run exit 2 and says which)
+        result.findings.extend(_nothing_checked(board, design))
     if options.with_drawing:
         try:
             from sensorcheck.board.drawing import drawing_from_board
@@ -318,12 +340,38 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     return result
 
 
+NOTHING_CHECKED = "input.nothing-checked"
+INIT_HINT = ("run `sensorcheck init PATH` for a starter sensorcheck.toml that names the sensing nets, "
+             "check that PATH is the folder (or .zip) of fabrication outputs, or pass --allow-empty "
+             "when a board without sensors is expected")
+
+
+def _nothing_checked(board: Any, design: Any) -> list[Finding]:
+    """An input error when the board holds nothing to check: no fabrication data, no copper, or
+    no sensor recognised.  Each is exit 2 with the ``init`` hint first: a check that checked
+    nothing must never pass."""
+    readable = [f for f in board.files if f.role not in (None, "other") and not f.error]
+    if not readable:
+        what = "no fabrication data was found (no Gerber, drill or netlist file was identified)"
+    elif not board.copper_layers():
+        what = "no copper layer was found among the fabrication files"
+    elif not design.sensors:
+        what = "no sensor was recognised on the board"
+    else:
+        return []
+    return [Finding(rule_id=NOTHING_CHECKED, severity="error", kind="input-error",
+                    message=f"nothing was checked ({what}): {INIT_HINT}",
+                    location=Location(file=None))]
+
+
 def finish(result: Result, baseline: frozenset[str] | None = None) -> None:
     """Fingerprint and sort findings; with a baseline, findings already accepted become notes of the baseline."""
     assign_fingerprints(result.findings, result.board)
     result.findings.sort(key=sort_key)
     if baseline is not None:
-        old = [f for f in result.findings if f.fingerprint in baseline and f.kind == "finding"]
+        # a grouped finding is in the baseline when it is, or when every place it lists was
+        old = [f for f in result.findings if f.kind == "finding" and (
+            f.fingerprint in baseline or (f.members and all(m in baseline for m in f.members)))]
         for f in old:
             f.severity = "note"
             f.message = f"[in baseline] {f.message}"

@@ -1,7 +1,8 @@
 """Command line: wires readers, design, rules, physics and reports together. Nothing else lives here.
 
 Exit codes: 0 nothing at or above ``--fail-on``; 1 findings at or above it; 2 usage, config,
-input or internal error (``--exit-zero`` never hides 2).
+input or internal error, or a board where nothing was checked unless ``--allow-empty``
+(``--exit-zero`` never hides 2).
 """
 
 from __future__ import annotations
@@ -38,10 +39,30 @@ def _report_spec(value: str) -> str:
     return value
 
 
+EXIT_CODES = """exit codes:
+  0  nothing at or above --fail-on (default: error)
+  1  findings at or above --fail-on
+  2  usage, config, input or internal error; also a board where nothing was checked (no
+     fabrication data, no copper, no sensor recognised) unless --allow-empty"""
+
+EXAMPLES = """examples:
+  sensorcheck init hw/fab/ --output hw/fab/sensorcheck.toml   # a starter config, every guess marked
+  sensorcheck check hw/fab/                                    # check; text report on the terminal
+  sensorcheck check hw/fab/ --report html:review.html --report sarif:out.sarif
+  sensorcheck estimate hw/fab/ --plot curves.png               # field-solver numbers and curves
+  sensorcheck rules trace.width                                # one rule: why, fix, parameters"""
+
+
+def _epilog(*parts: str) -> str:
+    return "\n\n".join(parts)
+
+
 def _parser() -> argparse.ArgumentParser:
     p = _Parser(
         prog="sensorcheck",
         description="Check capacitive touch sensor layouts in PCB fabrication outputs before fabrication.",
+        epilog=_epilog(EXAMPLES, EXIT_CODES),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument("--version", action="version", version=f"sensorcheck {__version__}")
     sub = p.add_subparsers(dest="command", required=True)
@@ -50,7 +71,16 @@ def _parser() -> argparse.ArgumentParser:
     strict_help = ("refuse deprecated Gerber constructs and Excellon dialects (image commands, tools sized "
                    "nowhere, G93 ...) instead of reading them with a warning")
 
-    chk = sub.add_parser("check", help="check one or more boards against the capacitive layout rules")
+    chk = sub.add_parser(
+        "check", help="check one or more boards against the capacitive layout rules",
+        description="Check one or more boards against the capacitive layout rules.",
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_epilog("""examples:
+  sensorcheck check hw/fab/
+  sensorcheck check hw/fab/ --config hw/sensorcheck.toml --no-estimate
+  sensorcheck check hw/fab/ --report github --report sarif:out.sarif --report markdown:summary.md
+  sensorcheck check a/fab/ b/fab.zip --fail-on warning --quiet""", EXIT_CODES),
+    )
     chk.add_argument("paths", nargs="+", metavar="PATH", help="folder or .zip of fabrication outputs (several: batch)")
     chk.add_argument("--config", type=Path, help="board config (default: sensorcheck.toml beside PATH or above it)")
     chk.add_argument(
@@ -70,6 +100,15 @@ def _parser() -> argparse.ArgumentParser:
     chk.add_argument("--no-estimate", action="store_true", help="skip the field-solver estimates (geometry rules only)")
     chk.add_argument("--timestamp", action="store_true", help="put the run time into the reports (off: byte-identical reports)")
     chk.add_argument("--jobs", type=int, default=None, help="parallel processes for several boards (default: cores)")
+    chk.add_argument("--allow-empty", action="store_true",
+                     help="let a board with no fabrication data, no copper or no sensor recognised pass "
+                          "(default: that is an error, exit 2)")
+    chk.add_argument("--no-group", action="store_true",
+                     help="one finding per place instead of one per cause (every place is in the reports either way)")
+    detail = chk.add_mutually_exclusive_group()
+    detail.add_argument("-q", "--quiet", action="store_true", help="text report: the verdict and the errors only")
+    detail.add_argument("-v", "--verbose", action="store_true",
+                        help="text report: every place, nets, fingerprints and references")
 
     lay = sub.add_parser("layers", help="show how each fabrication file was identified and read")
     lay.add_argument("path", help="folder or .zip of fabrication outputs")
@@ -77,15 +116,33 @@ def _parser() -> argparse.ArgumentParser:
     lay.add_argument("--layer-map", action="append", default=[], metavar="GLOB=LAYER", help=layer_map_help)
     lay.add_argument("--strict", action="store_true", help=strict_help)
 
-    est = sub.add_parser("estimate", help="field-solver estimates per sensor and the finger approach curves")
+    est = sub.add_parser(
+        "estimate", help="field-solver estimates per sensor and the finger approach curves",
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_epilog("""examples:
+  sensorcheck estimate hw/fab/
+  sensorcheck estimate hw/fab/ --sensor K1 --plot k1.png
+  sensorcheck estimate hw/fab/ --sweep overlay_thickness_mm=1,2,3""",
+                       "exit codes: 0 estimates printed; 2 usage, config, input or internal error"),
+    )
     est.add_argument("path", help="folder or .zip of fabrication outputs")
     est.add_argument("--config", type=Path)
     est.add_argument("--sensor", action="append", default=None, help="only this sensor (repeatable)")
     est.add_argument("--plot", type=Path, help="write the approach curves to this PNG or SVG file")
     est.add_argument("--sweep", metavar="PARAM=V1,V2,...", help="sweep overlay_thickness_mm or overlay_epsilon_r")
     est.add_argument("--format", choices=["text", "json"], default="text")
+    est.add_argument("-v", "--verbose", action="store_true", help="every estimate note of every sensor")
 
-    rules = sub.add_parser("rules", help="print the rule catalogue")
+    rules = sub.add_parser(
+        "rules", help="print the rule catalogue, or one rule",
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_epilog("""examples:
+  sensorcheck rules                     # every rule in full
+  sensorcheck rules trace.width         # one rule in full
+  sensorcheck rules --format markdown   # the catalogue as a document""",
+                       "exit codes: 0 printed; 2 unknown rule id or format"),
+    )
+    rules.add_argument("rule_ids", nargs="*", metavar="ID", help="only these rules, in full (e.g. trace.width)")
     rules.add_argument("--format", choices=["text", "markdown", "json"], default="text")
 
     init = sub.add_parser("init", help="write a starter sensorcheck.toml from what the board holds")
@@ -121,6 +178,8 @@ def _run_check(args: argparse.Namespace) -> int:
     specs = args.report or ["text"]
     baseline = frozenset(load_baseline(args.baseline)) if args.baseline else None
     options = CheckOptions(
+        allow_empty=args.allow_empty,
+        group=not args.no_group,
         config_file=args.config,
         layer_map=_layer_map(args.layer_map),
         estimate=False if args.no_estimate else None,
@@ -139,7 +198,8 @@ def _run_check(args: argparse.Namespace) -> int:
     finally:
         if status is not None:
             status.stop()  # type: ignore[attr-defined]
-    write_reports(results, specs, stdout=sys.stdout)
+    detail = "quiet" if args.quiet else "verbose" if args.verbose else "normal"
+    write_reports(results, specs, stdout=sys.stdout, detail=detail)
     for r in results:
         for f in r.findings:
             if f.kind != "finding":

@@ -62,6 +62,19 @@ class Finding:
     kind: Literal["finding", "internal-error", "input-error"] = "finding"
     #: a short text for the reviewer checklist: what must still be confirmed by eye or on a prototype
     review: str | None = None
+    #: how ``limit`` bounds ``value``: "max" (the value must stay at or below it), "min" (at or
+    #: above it); None where the finding has no limit or the engine cannot tell
+    direction: Literal["max", "min"] | None = None
+    #: the rule's fix in one line, and where the rule is documented (filled in by the engine)
+    fix: str | None = None
+    reference: str | None = None
+    #: a finding that stands for several places of one cause (one bus, one pour, one row of keys):
+    #: every place is in ``related``; ``places`` counts them (1 for a plain finding), ``sensors``
+    #: names every sensor the places belong to and ``members`` the fingerprints the places had
+    #: on their own (a baseline written before grouping still matches)
+    places: int = 1
+    sensors: tuple[str, ...] = ()
+    members: tuple[str, ...] = ()
 
     @property
     def waived(self) -> bool:
@@ -78,8 +91,14 @@ def fingerprint_for(finding: Finding, board: str = "") -> str:
     """A stable fingerprint from rule, layer, sensor, nets and place (rounded to 0.5 mm).
 
     Not from object order or run time, so the same design exported again gets the same one.
+    A grouped finding (``places`` > 1) is fingerprinted from its cause (rule, layer, sensors,
+    nets), not from its places: a place more or less does not make it a new finding.
     """
     loc = finding.location
+    if finding.places > 1:
+        cause = [board, finding.rule_id, loc.layer or "-", ",".join(finding.sensors or (finding.sensor or "-",)),
+                 ",".join(sorted(finding.nets)), "group"]
+        return hashlib.sha256("|".join(cause).encode()).hexdigest()[:20]
     parts = [
         board,
         finding.rule_id,

@@ -25,23 +25,35 @@ def _fmt(value: float | None, spec: str, none: str = "-") -> str:
     return none if value is None else format(value, spec)
 
 
+def _sig(value: float | None, none: str = "-", signed: bool = False) -> str:
+    from sensorcheck.report.common import sig
+
+    if value is None:
+        return none
+    text = sig(value)
+    return f"+{text}" if signed and value > 0 else text
+
+
 def estimate_rows(estimates: dict[str, SensorEstimate]) -> list[dict[str, str]]:
-    """One row of display strings per sensor, in name order (shared by the table and tests)."""
+    """One row of display strings per sensor, in name order (shared by the table and tests).
+
+    Numbers to 3 significant digits; the touch delta and the neighbours' crosstalk in fF (the
+    unit the check's report uses too).
+    """
     rows = []
     for name in sorted(estimates):
         e = estimates[name]
-        unit_base = "Cm" if e.kind == "mutual" else "C self"
-        cross = ", ".join(f"{k} {1000 * v:+.1f} fF" for k, v in sorted(e.crosstalk_pf.items())) or "-"
+        cross = "; ".join(f"{k} {_sig(1000 * v, signed=True)}" for k, v in sorted(e.crosstalk_pf.items())) or "-"
         rows.append({
             "sensor": name,
-            "kind": f"{e.kind} ({unit_base})",
-            "baseline_pf": f"{e.baseline_pf:.3f}",
-            "touch_delta_ff": f"{1000 * e.touch_delta_pf:+.1f}",
-            "percent_change": f"{e.percent_change:+.1f}",
-            "turning_point_mm": _fmt(e.turning_point_mm, ".2f", "none"),
-            "best_point_mm": "-" if e.best_point_mm is None else f"({e.best_point_mm[0]:.1f}, {e.best_point_mm[1]:.1f})",
-            "parasitic_pf": _fmt(e.parasitic_pf, ".2f"),
-            "detection_range_mm": _fmt(e.detection_range_mm, ".0f"),
+            "kind": "mutual (Cm)" if e.kind == "mutual" else "self (C)",
+            "baseline_pf": _sig(e.baseline_pf),
+            "touch_delta_ff": _sig(1000 * e.touch_delta_pf, signed=True),
+            "percent_change": _sig(e.percent_change, signed=True),
+            "turning_point_mm": _sig(e.turning_point_mm, "none"),
+            "best_point_mm": "-" if e.best_point_mm is None else f"{e.best_point_mm[0]:.1f}, {e.best_point_mm[1]:.1f}",
+            "parasitic_pf": _sig(e.parasitic_pf),
+            "detection_range_mm": _sig(e.detection_range_mm),
             "crosstalk": cross,
             "panels": str(e.panels),
         })
@@ -79,35 +91,61 @@ def estimates_json(estimates: dict[str, SensorEstimate]) -> dict[str, Any]:
     return {"estimates": out, "disclaimer": DISCLAIMER}
 
 
-def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str = "Field-solver estimates") -> None:
-    from rich.console import Console
-    from rich.table import Table
+def output_width(stream: TextIO) -> int:
+    """Columns for plain output: ``COLUMNS`` when set, the terminal's, else 100 when piped."""
+    from sensorcheck.report.writer import text_width
 
-    console = Console(file=stream, highlight=False, width=None if stream.isatty() else 160)
-    table = Table(title=f"{title} (estimates)", caption=DISCLAIMER)
+    return text_width(stream)
+
+
+def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str = "Field-solver estimates",
+                width: int | None = None, verbose: bool = False) -> None:
+    """The estimates as a plain ASCII table that fits the width (columns dropped, never cut),
+    then the model once and each note once."""
+    from sensorcheck.report.common import fold_notes
+    from sensorcheck.report.table import Column, table
+
+    width = width or output_width(stream)
+    rows = estimate_rows(estimates)
     headers = [
-        ("sensor", "sensor"),
-        ("kind", "kind"),
-        ("baseline_pf", "baseline pF"),
-        ("touch_delta_ff", "touch delta fF"),
-        ("percent_change", "change %"),
-        ("turning_point_mm", "turnaround mm"),
-        ("best_point_mm", "finger at (x, y) mm"),
-        ("parasitic_pf", "parasitic pF"),
-        ("detection_range_mm", "range mm"),
-        ("crosstalk", "neighbours at touch"),
+        ("sensor", "sensor", False, 0, False),
+        ("kind", "kind", False, 5, False),
+        ("baseline_pf", "base pF", True, 3, False),
+        ("touch_delta_ff", "touch fF", True, 0, False),
+        ("percent_change", "change %", True, 0, False),
+        ("turning_point_mm", "turns mm", True, 2, False),
+        ("best_point_mm", "finger x, y mm", True, 6, False),
+        ("parasitic_pf", "parasitic pF", True, 4, False),
+        ("detection_range_mm", "range mm", True, 7, False),
+        ("crosstalk", "neighbours at touch fF", False, 8, True),
     ]
-    for _, label in headers:
-        table.add_column(label, justify="right" if label.endswith(("pF", "fF", "%", "mm")) else "left")
-    for row in estimate_rows(estimates):
-        table.add_row(*(row[key] for key, _ in headers))
-    console.print(table)
+    cols = [Column(label, [r[key] for r in rows], right=right, drop=drop, wrap=wrap)
+            for key, label, right, drop, wrap in headers]
+    cols = [c for c in cols if c.drop == 0 or any(x not in ("-", "") for x in c.cells)]
+    lines = [f"{title} (estimates of a model, not measurements)", ""]
+    lines += table(cols, len(rows), width)
     models = sorted({e.model for e in estimates.values()})
+    lines.append("")
     for m in models:
-        console.print(f"model: {m}")
+        lines.append(f"model: {m}")
+    notes: dict[str, list[str]] = {}
     for name in sorted(estimates):
         for note in estimates[name].notes:
-            console.print(f"note ({name}): {note}")
+            notes.setdefault(note, []).append(name)
+    for who, note in fold_notes(notes, len(estimates), every=verbose):
+        lines.append(f"note ({who}): {note}")
+    lines.append(DISCLAIMER)
+    stream.write("\n".join(_wrap(line, width) for line in lines) + "\n")
+
+
+def _wrap(line: str, width: int) -> str:
+    """Long prose lines wrapped at spaces (table lines already fit)."""
+    import textwrap
+
+    if len(line) <= width:
+        return line
+    return "\n".join(textwrap.wrap(line, width=width, subsequent_indent="  ", break_long_words=False,
+                                    break_on_hyphens=False))
 
 
 def plot_curves(estimates: dict[str, SensorEstimate], path: Path) -> None:
@@ -198,7 +236,7 @@ def run(args: argparse.Namespace) -> int:
         json.dump(estimates_json(estimates), sys.stdout, indent=2, sort_keys=True)
         sys.stdout.write("\n")
     else:
-        print_table(estimates, sys.stdout)
+        print_table(estimates, sys.stdout, verbose=bool(getattr(args, "verbose", False)))
     plot = getattr(args, "plot", None)
     if plot is not None:
         plot_curves(estimates, Path(plot))

@@ -84,24 +84,41 @@ def print_text(board: Board, out: TextIO) -> None:
     from rich.markup import escape
     from rich.table import Table
 
+    from rich import box
+
+    from sensorcheck.report.writer import text_width
+
     is_tty = hasattr(out, "isatty") and out.isatty()
-    console = Console(file=out, no_color=not is_tty, force_terminal=is_tty, width=None if is_tty else 200,
-                      highlight=False, soft_wrap=False)
+    # plain ASCII at the width of the terminal (or COLUMNS; 100 when piped), like `check`
+    console = Console(file=out, no_color=not is_tty, force_terminal=is_tty, width=text_width(out),
+                      highlight=False, soft_wrap=False, color_system="standard" if is_tty else None)
     used = [f for f in board.files if f.role not in (None, "other")]
     unused = [f for f in board.files if f.role == "other"]
     not_understood = [f for f in board.files if f.role is None]
-    table = Table(title=escape(f"{board.name}: {len(board.files)} files"), show_lines=False)
-    for col in ("file", "layer", "side", "function", "by", "units", "generator", "objects", "area mm2", "nets"):
-        table.add_column(col, overflow="fold", justify="right" if col in ("objects", "area mm2") else "left")
+    table = Table(title=escape(f"{board.name}: {len(board.files)} files"), show_lines=False,
+                  box=box.ROUNDED if is_tty else box.ASCII2, safe_box=not is_tty)
+    cols = ("file", "layer", "side", "function", "by", "units", "generator", "objects", "area mm2", "nets")
+    # a narrow terminal loses the least needed columns (and is told so) rather than folding numbers
+    dropped = [c for c, w in (("generator", 170), ("by", 150), ("units", 130), ("side", 120), ("function", 100))
+               if console.width < w]
+    for col in cols:
+        if col in dropped:
+            continue
+        numeric = col in ("objects", "area mm2")
+        table.add_column(col, overflow="fold", justify="right" if numeric else "left", no_wrap=numeric or col == "layer",
+                         ratio=2 if col in ("file", "nets") else None)
     for f in used:
-        table.add_row(
+        cells = dict(zip(cols, (
             escape(f.path), escape(f.layer or "-"), f.side or "-", f.role or "-", f.identified_by or "-",
             f.units or "-", escape(f.generator or "-"),
             "-" if f.object_count is None else str(f.object_count),
             "-" if f.dark_area_mm2 is None else f"{f.dark_area_mm2:.1f}",
             escape(_nets_text(f)),
-        )
+        ), strict=True))
+        table.add_row(*(cells[c] for c in cols if c not in dropped))
     console.print(table)
+    if dropped:
+        console.print(f"(not shown at {console.width} columns: {', '.join(dropped)}; a wider terminal or --format json shows them)")
     for f in used:
         if f.error:
             console.print(f"ERROR {escape(f.error)}")

@@ -1,4 +1,4 @@
-"""`sensorcheck rules [--format text|markdown|json]`: print the rule catalogue from the registry."""
+"""`sensorcheck rules [ID...] [--format text|markdown|json]`: print the rule catalogue (or some rules) from the registry."""
 
 from __future__ import annotations
 
@@ -14,5 +14,5 @@ def run(args: argparse.Namespace) -> int:
     if fmt not in ("text", "markdown", "json"):
         print(f"sensorcheck: error: unknown catalogue format {fmt!r} (text, markdown, json)", file=sys.stderr)
         return 2
-    sys.stdout.write(render_catalogue(fmt))
+    sys.stdout.write(render_catalogue(fmt, getattr(args, "rule_ids", None) or ()))
     return 0

@@ -520,7 +520,11 @@ def _rules(
     known_rules: Mapping[str, Mapping[str, type]] | None,
     thresholds: dict[str, dict[str, Any]],
     severities: dict[str, str],
+    board_config: bool = False,
 ) -> None:
+    """``board_config``: the tables of the board's own config, where a severity caps the rule's
+    findings unless the table says ``keep_errors = true`` (a profile's severity caps only where
+    it differs from the rule's default: see ``rules.engine.severity_cap``)."""
     t = _table(ctx, value, "rules")
     for rule_id, rv in t.items():
         where = _join("rules", rule_id)
@@ -536,10 +540,17 @@ def _rules(
             w = _join(where, key)
             if key == "severity":
                 severities[rule_id] = _string(ctx, v, w, choices=SEVERITIES)
+                if board_config and "keep_errors" not in rt:
+                    thresholds.setdefault(rule_id, {})["keep_errors"] = False
+                continue
+            if key == "keep_errors":
+                if not isinstance(v, bool):
+                    raise ctx.err(w, f"expected true or false, got {_type_name(v)}")
+                thresholds.setdefault(rule_id, {})[key] = v
                 continue
             if params is not None:
                 if key not in params:
-                    allowed = ["severity", *sorted(params)]
+                    allowed = ["severity", "keep_errors", *sorted(params)]
                     hint = difflib.get_close_matches(key, allowed, n=1)
                     raise ctx.err(w, f"unknown parameter '{key}' of rule {rule_id}"
                                   + (f"; did you mean '{hint[0]}'?" if hint else f"; it takes {', '.join(allowed)}"))
@@ -820,8 +831,10 @@ def load_config(
     else:
         config.notes.append("the default rule profile is not shipped here; rules use their own defaults")
     if "rules" in data:
-        _rules(ctx, data["rules"], known_rules, thresholds, severities)
-    config.thresholds = thresholds
+        _rules(ctx, data["rules"], known_rules, thresholds, severities, board_config=True)
+    # keep_errors is no rule parameter: it goes beside the severities
+    config.keep_errors = {rid: bool(t.pop("keep_errors")) for rid, t in thresholds.items() if "keep_errors" in t}
+    config.thresholds = {rid: t for rid, t in thresholds.items() if t}
     config.severities = severities
     if "waivers" in data:
         config.waivers = _waivers(ctx, data["waivers"], known_rules)

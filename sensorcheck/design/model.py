@@ -106,6 +106,9 @@ class Config:
     esd_mode: Literal["contact", "air"] = "air"
     thresholds: dict[str, dict[str, Any]] = field(default_factory=dict)  # rule id -> param -> value
     severities: dict[str, str] = field(default_factory=dict)  # rule id -> severity or "off"
+    #: rule id -> keep_errors: False where a board config's table set a severity (it caps the rule),
+    #: True where a table opts to keep the rule's hard cases as errors (see rules.engine.severity_cap)
+    keep_errors: dict[str, bool] = field(default_factory=dict)
     waivers: list[Waiver] = field(default_factory=list)
     estimate: dict[str, Any] = field(default_factory=dict)  # solver options (enabled, heights...)
     today: _dt.date = field(default_factory=_dt.date.today)

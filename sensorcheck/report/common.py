@@ -167,16 +167,66 @@ def where_text(loc: Location) -> str:
 
 
 def value_text(f: Finding) -> str | None:
-    """``measured 0.21 mm, limit 0.5 mm`` when the finding has a value."""
+    """``measured 0.21 mm, limit 0.5 mm (min)`` when the finding has a value.
+
+    The limit says whether it is a maximum (the value must stay at or below it) or a minimum.
+    """
     if f.value is None and f.limit is None:
         return None
     unit = f" {safe_text(f.unit)}" if f.unit else ""
     parts = []
     if f.value is not None:
-        parts.append(f"measured {num(f.value)}{unit}")
+        parts.append(f"measured {sig(f.value)}{unit}")
     if f.limit is not None:
-        parts.append(f"limit {num(f.limit)}{unit}")
+        kind = {"max": "max", "min": "min"}.get(f.direction or "", "limit")
+        parts.append(f"limit {sig(f.limit)}{unit}" + ("" if kind == "limit" else f" ({kind})"))
     return ", ".join(parts)
+
+
+def sig(value: float | int | None, digits: int = 3) -> str:
+    """A number for people: ``digits`` significant digits, never an exponent for usual sizes."""
+    if value is None:
+        return "-"
+    v = float(value)
+    if v != v or v in (float("inf"), float("-inf")):
+        return str(v)
+    if v == 0:
+        return "0"
+    if abs(v) >= 10 ** digits:
+        return f"{v:.0f}"
+    text = f"{v:.{digits}g}"
+    if "e" in text:
+        text = f"{v:.6f}".rstrip("0").rstrip(".")
+    return text
+
+
+def finding_sensors(f: Finding) -> tuple[str, ...]:
+    """Every sensor a finding is about (a grouped finding may cover several)."""
+    if f.sensors:
+        return f.sensors
+    return (f.sensor,) if f.sensor else ()
+
+
+NOT_CHECKED = "not checked: "
+
+
+def is_not_checked(f: Finding) -> bool:
+    """A rule's one note saying what input it lacked (the engine's "not checked: ..." note)."""
+    return f.kind == "finding" and f.severity == "note" and f.message.startswith(NOT_CHECKED) and not f.waived
+
+
+def not_checked_summary(findings: Iterable[Finding]) -> tuple[list[str], list[str]] | None:
+    """The "not checked" notes as (rule ids, distinct reasons), or None when there are none."""
+    rules: list[str] = []
+    reasons: dict[str, None] = {}
+    for f in findings:
+        if is_not_checked(f):
+            rules.append(f.rule_id)
+            for part in f.message[len(NOT_CHECKED):].split("; "):
+                reasons.setdefault(part.strip(), None)
+    if not rules:
+        return None
+    return sorted(set(rules)), list(reasons)
 
 
 def full_message(f: Finding) -> str:
@@ -288,6 +338,7 @@ def plural(n: int, word: str) -> str:
 
 
 def summary_line(findings: Iterable[Finding]) -> str:
+    """``2 errors, 1 warning, 0 notes, 0 waived`` (+ input and internal errors when there are any)."""
     c = counts(findings)
     parts = [plural(c["error"], "error"), plural(c["warning"], "warning"), plural(c["note"], "note")]
     parts.append(f"{c['waived']} waived")
@@ -375,3 +426,58 @@ def estimate_notes_of(estimate: dict[str, object] | None) -> list[str]:
 
 def estimate_notes(sensor: SensorSummary) -> list[str]:
     return estimate_notes_of(sensor.estimate)
+
+
+def estimate_scalars(estimate: dict[str, object] | None) -> list[tuple[str, str, str]]:
+    """An estimate's scalar numbers for people: (label, value, unit), 3 significant digits, the
+    touch delta in fF (the unit every output uses for it), the model and lists left out."""
+    out: list[tuple[str, str, str]] = []
+    for k, v in sorted((estimate or {}).items()):
+        if k in ("model", "model_label") or isinstance(v, (bool, list, tuple, dict)) or v is None:
+            continue
+        if k == "touch_delta_pf" and isinstance(v, (int, float)):
+            out.append(("touch delta", sig(1000.0 * float(v)), "fF"))
+        elif isinstance(v, (int, float)):
+            parts = k.split("_")
+            unit = {"pf": "pF", "mm": "mm", "mm2": "mm2", "ff": "fF"}.get(parts[-1], "")
+            label = " ".join(parts[:-1] if unit else parts)
+            if k == "percent_change":
+                label, unit = "change", "%"
+            out.append((label, sig(v), unit))
+        else:
+            out.append((k.replace("_", " "), safe_text(v), ""))
+    return out
+
+
+def fold_notes(notes: dict[str, list[str]], total: int, every: bool = False) -> list[tuple[str, str]]:
+    """Estimate notes for people: (who, text), each text once with the sensors it is about.
+
+    ``notes``: note text -> sensor names.  Notes that differ only in their numbers (a coverage, a
+    panel count) become one, saying so, unless ``every``; ``who`` is "all" when a note is about
+    every one of ``total`` sensors.
+    """
+    import re
+
+    number = re.compile(r"\d+(?:\.\d+)?")
+    similar: dict[str, list[tuple[str, list[str]]]] = {}
+    for text, names in notes.items():
+        similar.setdefault(number.sub("#", text), []).append((text, names))
+    out: list[tuple[str, str]] = []
+    for masked, group in similar.items():
+        items = group
+        if not every and len(group) > 1:
+            names = sorted({n for _, ns in group for n in ns})
+            # each number that differs between the sensors is shown as its range
+            columns = list(zip(*(number.findall(t) for t, _ in group), strict=True))
+            parts = masked.split("#")
+            text = parts[0]
+            for values, rest in zip(columns, parts[1:], strict=True):
+                nums = sorted({float(v) for v in values})
+                pick = {float(v): v for v in values}
+                text += pick[nums[0]] if len(nums) == 1 else f"{pick[nums[0]]}-{pick[nums[-1]]}"
+                text += rest
+            items = [(text, names)]
+        for text, names in items:
+            who = "all" if len(names) == total and total > 1 else ", ".join(safe_text(n) for n in names)
+            out.append((who, safe_text(text)))
+    return out

@@ -330,6 +330,11 @@ def _svg(prefix: str, result: Result, fids: dict[int, str], findings: list[Findi
         r = _c(7 * unit)
         parts.append(f'<circle class="halo" cx="{_c(x)}" cy="{_c(-y)}" r="{_c(16 * unit)}"/>')
         parts.append(f'<circle class="dot" cx="{_c(x)}" cy="{_c(-y)}" r="{r}"/>')
+        if f.places > 1:  # every place of a grouped finding, smaller, in the same mark
+            for loc in f.related:
+                if loc.x_mm is not None and loc.y_mm is not None and _all_finite(loc.x_mm, loc.y_mm) \
+                        and (loc.x_mm, loc.y_mm) != (x, y):
+                    parts.append(f'<circle class="dot" cx="{_c(loc.x_mm)}" cy="{_c(-loc.y_mm)}" r="{_c(4 * unit)}"/>')
         parts.append(f"<title>{esc(f.rule_id)}: {esc(f.message)}</title></g>")
         marks.append("".join(parts))
     out.append(f'<g class="lyr findings" id="{prefix}-findings" data-layer="findings">{"".join(marks)}</g>')
@@ -499,12 +504,18 @@ def _finding_item(f: Finding, fid: str, rules: dict[str, RuleInfo]) -> str:
     ]
     if meas:
         parts.append(f'<span class="meas">{esc(meas)}</span>')
+    if f.places > 1:
+        parts.append(f'<span class="places">{f.places} places (all drawn; listed in the JSON and SARIF reports)</span>')
     parts.append(f'<span class="where">{" · ".join(where)}{"" if located else " · not on the drawing"}</span>')
     parts.append("</button>")
     if f.waived_by is not None:
         w = f.waived_by
         exp = f", expires {esc(w.expires)}" if w.expires else ", no expiry"
         parts.append(f'<p class="waiver">Waived: {esc(w.reason)}{exp}</p>')
+    if f.fix:
+        parts.append(f'<p class="fix">Fix: {esc(f.fix)}</p>')
+    if f.reference:
+        parts.append(f'<p class="ref">Rule: <code>{esc(f.reference)}</code></p>')
     if f.fingerprint:
         parts.append(f'<p class="fp">fingerprint <code>{esc(f.fingerprint)}</code></p>')
     parts.append("</li>")
@@ -570,6 +581,9 @@ def _estimate_block(est: dict[str, Any]) -> str:
         if k == "turning_point_mm" and v is None:
             rows.append("<tr><th>turning point</th><td>none in the computed range</td><td></td></tr>")
             continue
+        if k == "touch_delta_pf" and isinstance(v, int | float):  # fF, the unit every output uses
+            rows.append(f"<tr><th>touch delta</th><td>{esc(_value(1000.0 * v))}</td><td>fF</td></tr>")
+            continue
         rows.append(f"<tr><th>{esc(name)}</th><td>{esc(_value(v))}</td><td>{esc(unit) if v is not None else ''}</td></tr>")
     if rows:
         out.append(f'<table class="numbers"><tbody>{"".join(rows)}</tbody></table>')
@@ -618,22 +632,35 @@ def _nice_ticks(lo: float, hi: float, count: int = 5) -> list[float]:
     return ticks
 
 
-def _curve_figure(est: dict[str, Any]) -> str:
-    """The approach curve as an SVG figure: value against finger height over the overlay surface."""
-    pts = sorted(
+def _curve_points(curve: Any) -> list[tuple[float, float]]:
+    return sorted(
         (float(p[0]), float(p[1]))
-        for p in est["curve"]
+        for p in (curve if isinstance(curve, list | tuple) else [])
         if isinstance(p, list | tuple) and len(p) >= 2 and math.isfinite(float(p[0])) and math.isfinite(float(p[1]))
     )
+
+
+def _curve_figure(est: dict[str, Any]) -> str:
+    """The approach curves as an SVG figure: value against finger height over the overlay surface.
+
+    The approach over the most sensitive point, and over the node's centre where the solver
+    computed that too (dashed); the turning point is marked on the curve it refers to.
+    """
+    pts = _curve_points(est["curve"])
     if len(pts) < 2:
         return ""
+    centre_pts = _curve_points(est.get("curve_centre"))
+    if len(centre_pts) < 2:
+        centre_pts = []
+    which = est.get("turning_curve")
+    which = "centre" if which == "centre" and centre_pts else "best"
     kind = est.get("kind")
     ylabel = "Cm (pF)" if kind == "mutual" else "C (pF)"
     tp = est.get("turning_point_mm")
     tp = float(tp) if isinstance(tp, int | float) and math.isfinite(tp) else None
     W, H, L, R, T, B = 460.0, 250.0, 62.0, 14.0, 14.0, 42.0
     xs = [p[0] for p in pts] + [0.0] + ([tp] if tp is not None else [])
-    ys = [p[1] for p in pts]
+    ys = [p[1] for p in pts] + [p[1] for p in centre_pts]
     x_lo, x_hi = min(xs), max(xs)
     y_lo, y_hi = min(ys), max(ys)
     if y_hi - y_lo < 1e-12:
@@ -664,14 +691,24 @@ def _curve_figure(est: dict[str, Any]) -> str:
         f'<line class="surface" x1="{px(0):.1f}" y1="{T}" x2="{px(0):.1f}" y2="{H - B}"/>'
         f'<text class="mark-label" x="{px(0) + 4:.1f}" y="{T + 12}">overlay surface</text>'
     )
+    over = "over the node centre" if which == "centre" else ("over the most sensitive point" if centre_pts else "")
     if tp is not None:
         g.append(
             f'<line class="turn" x1="{px(tp):.1f}" y1="{T}" x2="{px(tp):.1f}" y2="{H - B}"/>'
-            f'<text class="mark-label turn-label" x="{px(tp) + 4:.1f}" y="{T + 26}">turns at {esc(num(tp))} mm</text>'
+            f'<text class="mark-label turn-label" x="{px(tp) + 4:.1f}" y="{T + 26}">turns at {esc(num(tp))} mm'
+            f'{" (" + esc(over) + ")" if over else ""}</text>'
         )
     line = " ".join(f"{px(x):.1f},{py(y):.1f}" for x, y in pts)
     g.append(f'<polyline class="trace" points="{line}"/>')
     g.extend(f'<circle class="pt" cx="{px(x):.1f}" cy="{py(y):.1f}" r="2.6"/>' for x, y in pts)
+    if centre_pts:
+        line_c = " ".join(f"{px(x):.1f},{py(y):.1f}" for x, y in centre_pts)
+        g.append(f'<polyline class="trace trace-centre" points="{line_c}"/>')
+        g.extend(f'<circle class="pt pt-centre" cx="{px(x):.1f}" cy="{py(y):.1f}" r="2.2"/>' for x, y in centre_pts)
+        g.append(
+            f'<text class="legend" x="{W - R - 4:.1f}" y="{H - B - 22:.1f}" text-anchor="end">solid: finger over the most sensitive point</text>'
+            f'<text class="legend" x="{W - R - 4:.1f}" y="{H - B - 8:.1f}" text-anchor="end">dashed: finger over the node centre</text>'
+        )
     g.append(
         f'<text class="axis" x="{(L + W - R) / 2:.1f}" y="{H - 6}" text-anchor="middle">'
         "finger height above the overlay surface (mm)</text>"
@@ -680,9 +717,12 @@ def _curve_figure(est: dict[str, Any]) -> str:
     g.append("</svg>")
     if tp is None:
         cap = "No turning point in the computed range: the signal grows steadily as the finger approaches."
+        if centre_pts:
+            cap += " Both approaches (over the most sensitive point and over the node centre) are drawn."
     elif tp > 0:
         cap = (
-            f"The signal turns around {esc(num(tp))} mm above the overlay surface: a press can read as a release. "
+            f"The signal turns around {esc(num(tp))} mm above the overlay surface"
+            f"{' with the finger ' + esc(over) if over else ''}: a press can read as a release. "
             "The turning point should stay below the surface."
         )
     else:

@@ -15,7 +15,10 @@ Schema, draft 2020-12)::
          "sensors": [{"name", "kind", "layer", "nets", "box_mm", "values", "estimate", "checklist"}],
          "findings": [{"fingerprint", "rule_id", "severity", "kind", "message", "value", "limit",
                        "unit", "location", "related", "nets", "sensor", "review", "waived",
-                       "waiver"}]}
+                       "waiver", "direction" ("max"/"min": how the limit bounds the value), "fix"
+                       (the rule's fix in one line), "reference" (its catalogue entry), "places"
+                       (a finding of one cause lists every place in "related"), "sensors",
+                       "members" (the fingerprints its places had alone)}]}
       ]
     }
 
@@ -182,6 +185,12 @@ REPORT_SCHEMA: dict[str, Any] = {
                                 "sensor": _STR_OR_NULL,
                                 "review": _STR_OR_NULL,
                                 "waived": {"type": "boolean"},
+                                "direction": {"enum": ["max", "min", None]},
+                                "fix": _STR_OR_NULL,
+                                "reference": _STR_OR_NULL,
+                                "places": {"type": "integer", "minimum": 1},
+                                "sensors": {"type": "array", "items": {"type": "string"}},
+                                "members": {"type": "array", "items": {"type": "string"}},
                                 "waiver": {
                                     "oneOf": [
                                         {"type": "null"},
@@ -249,6 +258,12 @@ def _finding(f: Finding) -> dict[str, Any]:
         "review": f.review,
         "waived": f.waived,
         "waiver": _waiver(f.waived_by),
+        "direction": f.direction,
+        "fix": f.fix,
+        "reference": f.reference,
+        "places": f.places,
+        "sensors": list(f.sensors),
+        "members": list(f.members),
     }
 
 

@@ -21,6 +21,8 @@ from sensorcheck.report.common import (
     board_labels,
     counts,
     estimate_notes_of,
+    estimate_scalars,
+    finding_sensors,
     is_problem,
     kind_label,
     num,
@@ -68,21 +70,22 @@ def _finding_row(f: Finding) -> list[str]:
         kind_label(f) if is_problem(f) else f.severity,
         md(f.message),
         md(value_text(f) or ""),
-        md(where_text(f.location)),
+        md(where_text(f.location) + (f" (+{f.places - 1} more places)" if f.places > 1 else "")),
+        md(f.fix or "") + (f" (`{f.rule_id}`: see `sensorcheck rules {f.rule_id}`)" if f.reference and _PLAIN_ID.fullmatch(f.rule_id) else ""),
         f"`{f.fingerprint}`" if _PLAIN_ID.fullmatch(f.fingerprint) else md(f.fingerprint),
     ]
 
 
 _PLAIN_ID = re.compile(r"[0-9A-Za-z._-]+")
-_FINDING_HEAD = ["Rule", "Severity", "Finding", "Measured / limit", "Where", "Fingerprint"]
+_FINDING_HEAD = ["Rule", "Severity", "Finding", "Measured / limit", "Where", "Fix", "Fingerprint"]
 
 
 def _estimate_lines(estimate: dict[str, object] | None) -> list[str]:
     if not estimate:
         return []
     model = estimate.get("model") or estimate.get("model_label") or "model not named"
-    scalars = [(k, v) for k, v in sorted(estimate.items()) if k not in ("model", "model_label") and isinstance(v, (int, float, str)) and not isinstance(v, bool)]
-    text = ", ".join(f"{md(k)} = {md(num(v))}" for k, v in scalars)
+    text = ", ".join(f"{md(label)} {md(value)}{(' ' + unit) if unit else ''}"
+                     for label, value, unit in estimate_scalars(estimate))
     out = [f"Estimate (field solver, {md(model)}; an estimate, not a measurement): {text or 'no scalar values'}", ""]
     notes = estimate_notes_of(estimate)
     if notes:
@@ -149,9 +152,9 @@ def _board_section(result: Result, label: str, catalogue: dict[str, RuleInfo]) -
         out += ["", "Overlay (as configured):", ""] + [f"- {md(line)}" for line in ov]
     out += ["", f"**Summary:** {summary_line(findings)}", ""]
     for s in sensors_sorted(result):
-        out += _sensor_section(s, [f for f in findings if f.sensor == s.name], sorted(set(result.rules_run)))
+        out += _sensor_section(s, [f for f in findings if s.name in finding_sensors(f)], sorted(set(result.rules_run)))
     names = {s.name for s in result.sensors}
-    loose = [f for f in findings if not f.waived and f.sensor not in names]
+    loose = [f for f in findings if not f.waived and not any(n in names for n in finding_sensors(f))]
     if loose:
         out += ["### Findings not tied to a sensor", ""]
         out += _table(_FINDING_HEAD, (_finding_row(f) for f in loose))

@@ -144,6 +144,12 @@ def _result(f: Finding, result: Result, label: str, rule_index: dict[str, int]) 
         out["ruleIndex"] = rule_index[f.rule_id]
     if f.review:
         out["properties"]["review"] = f.review
+    for key, value in (("direction", f.direction), ("fix", f.fix), ("reference", f.reference)):
+        if value:
+            out["properties"][key] = value
+    if f.places > 1:  # one finding of one cause: every place is a related location below
+        out["properties"]["places"] = f.places
+        out["properties"]["sensors"] = list(f.sensors)
     if f.related:
         out["relatedLocations"] = [
             {"id": i + 1, **_location(r, f, result, label, f"related: {where_text(r)}", primary=False)}

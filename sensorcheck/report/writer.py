@@ -50,7 +50,8 @@ def parse_spec(spec: str) -> tuple[FormatName, Path | None]:
     return cast(FormatName, name), (Path(path) if sep else None)
 
 
-def render(results: Sequence[Result], fmt: str, *, color: bool = False, width: int = 100) -> str:
+def render(results: Sequence[Result], fmt: str, *, color: bool = False, width: int = 100,
+           detail: str = "normal") -> str:
     """The report of ``results`` in format ``fmt`` (one of :data:`FORMATS`).
 
     ``color`` and ``width`` matter only for ``text`` (a terminal); every other format ignores them.
@@ -64,7 +65,7 @@ def render(results: Sequence[Result], fmt: str, *, color: bool = False, width: i
             raise
         raise ConfigError("--report", None, f"the {fmt} report is not available in this installation") from exc
     if fmt == "text":
-        return cast(str, module.render(list(results), color=color, width=width))
+        return cast(str, module.render(list(results), color=color, width=width, detail=detail))
     return cast(str, module.render(list(results)))
 
 
@@ -102,7 +103,15 @@ def _is_tty(stream: TextIO) -> bool:
         return False
 
 
-def write_reports(results: Sequence[Result], specs: Sequence[str], *, stdout: TextIO) -> None:
+def text_width(stream: TextIO) -> int:
+    """Columns for the text report: ``COLUMNS`` when set, else the terminal's, else 100 when piped."""
+    env = os.environ.get("COLUMNS", "")
+    if env.isdigit() and 40 <= int(env) <= 1000:
+        return int(env)
+    return shutil.get_terminal_size((100, 24)).columns if _is_tty(stream) else 100
+
+
+def write_reports(results: Sequence[Result], specs: Sequence[str], *, stdout: TextIO, detail: str = "normal") -> None:
     """Write each ``FORMAT[:FILE]`` report (no specs: the text report on ``stdout``).
 
     All reports are rendered before any is written, so a failing format leaves no partial set.
@@ -118,11 +127,11 @@ def write_reports(results: Sequence[Result], specs: Sequence[str], *, stdout: Te
             raise ConfigError("--report", None, f"{spec!r} writes to the same file as {seen[key]!r}")
         seen[key] = spec
     tty = _is_tty(stdout)
-    width = shutil.get_terminal_size((100, 24)).columns if tty else 100
+    width = text_width(stdout)
     rendered: list[tuple[Path | None, str]] = []
     for fmt, path in parsed:
         colour = tty and path is None and fmt == "text"
-        rendered.append((path, render(results, fmt, color=colour, width=width)))
+        rendered.append((path, render(results, fmt, color=colour, width=width if path is None else 100, detail=detail)))
     for path, text in rendered:
         if path is None:
             _write_stream(stdout, text)

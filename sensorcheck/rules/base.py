@@ -172,6 +172,18 @@ class Rule:
     needs: ClassVar[tuple[Need, ...]] = ()
     #: rules the engine itself emits (waiver notes); they have no check of their own
     engine_only: ClassVar[bool] = False
+    #: how the limit bounds the measured value ("max": at most, "min": at least); None: the
+    #: engine infers it from each finding (a value above its limit was checked against a maximum)
+    limit_direction: ClassVar[Literal["max", "min"] | None] = None
+    #: findings of this rule on several sensors with the same measured value are one cause (a
+    #: row of keys at one spacing, one pour under every key): merged across sensors.  "layer":
+    #: the rule judges one thing per layer (the pour around the sensors), so its findings on one
+    #: layer with the same nets are one cause whatever their values; False: never merged across
+    group_across_sensors: ClassVar[bool | Literal["layer"]] = True
+    #: the nets are part of a finding's cause (one bus, one pour); False: every finding of the rule
+    #: on one sensor and layer is one cause whichever nets it names (copper of several nets of one
+    #: footprint in one sensing zone), listed with all their nets
+    cause_includes_nets: ClassVar[bool] = True
 
     @classmethod
     def family(cls) -> str:

@@ -10,11 +10,16 @@ A rule is a small class (see :class:`Rule`) declared in its family module beside
 
 The engine applies, in this order: rule defaults < rule profile (``rules/<profile>.toml`` or a
 path) < the config's ``[rules."<id>"]`` tables.  A severity of ``"off"`` disables a rule; any other
-override replaces the severity of the findings a rule yields at its default severity (findings
-it raises or lowers on purpose, such as an error for solid close ground or a note for a mutual
-sensor, keep theirs).  A rule
+severity set in a ``[rules."<id>"]`` table replaces the severity of the findings a rule yields at
+its default severity AND caps every finding of the rule: ``severity = "note"`` never gives an
+error.  A table may opt out of the cap for the hard cases a rule raises on purpose (solid ground
+close to a sensor, an aggressor on top of one) with ``keep_errors = true``; the shipped default
+profile does so, so that an unchanged configuration keeps them.  A rule
 whose inputs are missing yields ONE note saying what is missing and how to give it.  A rule that
-raises becomes an internal-error finding; the other rules still run.  Waivers are applied last.
+raises becomes an internal-error finding; the other rules still run.  Waivers are applied to
+each place, then findings of one rule that share a cause are merged into one finding listing its
+places (:func:`group_by_cause`).  Every finding gets the direction of its limit, the rule's fix in
+one line and its catalogue reference.
 
 The registry is an immutable tuple of rule classes collected from the family modules that
 :mod:`sensorcheck.rules.catalogue` lists: no global mutable state.  The family modules import
@@ -33,9 +38,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Literal
 
-from sensorcheck.errors import ConfigError
+from sensorcheck.errors import ConfigError, SensorcheckError
 from sensorcheck.design.model import readable
 from sensorcheck.findings import (
+    SEVERITY_ORDER,
     Finding,
     Location,
     RuleInfo,
@@ -124,6 +130,35 @@ class WaiverUnused(Rule):
     engine_only = True
 
 
+class EstimateUnavailable(Rule):
+    """The field solver could not estimate a sensor.
+
+    What it checks:
+        Each sensor the field solver was asked to estimate and could not (a model it cannot
+        build, a limit on the mesh it would pass, copper with no coupling in the window).
+    Why it matters:
+        The rules that judge the signal (turnaround, touch floor, parasitic limit) and the
+        estimates that decide the physical rules then fall back to geometry for that sensor: its
+        touch signal is not known before a prototype.
+    Known limitations:
+        Emitted by the check, not by a rule of its own; estimates off (``--no-estimate``) give no
+        finding here (the signal rules then say once that no estimates were asked for).
+    Example:
+        A 3 000-panel matrix window above ``max_mesh_panels``.
+    Fix:
+        Measure the sensor's touch signal on a prototype, or raise the limit the message names.
+    Parameters:
+        None.
+    References:
+        Our own policy: a check that could not be made is said, never passed silently.
+    """
+
+    id = "estimate.unavailable"
+    title = "No field-solver estimate for a sensor"
+    default_severity = "warning"
+    engine_only = True
+
+
 def _family_modules() -> tuple[Any, ...]:
     return FAMILIES
 
@@ -138,6 +173,7 @@ def registry() -> dict[str, type[Rule]]:
             out[cls.id] = cls
     out[WaiverExpired.id] = WaiverExpired
     out[WaiverUnused.id] = WaiverUnused
+    out[EstimateUnavailable.id] = EstimateUnavailable
     return out
 
 
@@ -179,6 +215,11 @@ def _coerce(rule_id: str, name: str, value: Any, want: type, file: str | None, w
     return value
 
 
+#: the opt-in, in a ``[rules."<id>"]`` table, that keeps a rule's hard cases as errors under a
+#: lower severity (see the module docstring); not a parameter of the rule
+KEEP_ERRORS = "keep_errors"
+
+
 def validate_rule_table(rule_id: str, table: Mapping[str, Any], file: str | None, where: str) -> tuple[str | None, dict[str, Any]]:
     """Check one ``[rules."<id>"]`` table; return (severity or None, params).  Raises ConfigError."""
     reg = registry()
@@ -194,6 +235,11 @@ def validate_rule_table(rule_id: str, table: Mapping[str, Any], file: str | None
             if value not in ("error", "warning", "note", "off"):
                 raise ConfigError(file, f"{where}.severity", f"expected error, warning, note or off, got {value!r}")
             severity = value
+            continue
+        if name == KEEP_ERRORS:
+            if not isinstance(value, bool):
+                raise ConfigError(file, f"{where}.{name}", f"expected true or false, got {value!r}")
+            params[name] = value
             continue
         if name not in cls.params:
             known = ", ".join(sorted(cls.params)) or "none"
@@ -270,8 +316,26 @@ def load_profile(name_or_path: str, base_dir: Path | None = None,
     return out
 
 
+def severity_cap(rule_cls: type[Rule], severity: SeverityOrOff, params: dict[str, Any]) -> Severity | None:
+    """The highest severity a rule's findings may have, or None (no cap); pops ``keep_errors``.
+
+    A severity that differs from the rule's default, or one the board config's own table sets
+    (``keep_errors`` is then False unless the table says true), caps every finding; a table with
+    ``keep_errors = true`` keeps the rule's hard cases at the severity the rule gives them.
+    """
+    keep = params.pop(KEEP_ERRORS, None)
+    if severity == "off" or keep is True:
+        return None
+    if keep is False or severity != rule_cls.default_severity:
+        return severity  # type: ignore[return-value]
+    return None
+
+
 def effective_settings(config: Config) -> dict[str, tuple[SeverityOrOff, dict[str, Any]]]:
-    """Rule id -> (severity or "off", full params) after defaults < profile < config."""
+    """Rule id -> (severity or "off", full params) after defaults < profile < config.
+
+    ``params`` may hold ``keep_errors`` (see :func:`severity_cap`), which is not a rule parameter.
+    """
     base_dir = Path(config.file).parent if getattr(config, "file", None) else None
     profile = load_profile(config.profile or "default", base_dir)
     out: dict[str, tuple[SeverityOrOff, dict[str, Any]]] = {}
@@ -284,11 +348,17 @@ def effective_settings(config: Config) -> dict[str, tuple[SeverityOrOff, dict[st
             params.update(prm)
         cfg_params = config.rule_params(rid)
         for name, value in cfg_params.items():
+            if name == KEEP_ERRORS and isinstance(value, bool):
+                params[name] = value
+                continue
             if name not in cls.params:
                 raise ConfigError(config.file, f'rules."{rid}".{name}', f"unknown parameter for {rid}")
             params[name] = _coerce(rid, name, value, cls.params[name].type, config.file, f'rules."{rid}"')
         if rid in config.severities:
             severity = config.severities[rid]  # type: ignore[assignment]
+        keep = getattr(config, "keep_errors", {}).get(rid)
+        if keep is not None:
+            params[KEEP_ERRORS] = keep
         out[rid] = (severity, params)
     for rid in list(config.thresholds) + list(config.severities):
         if rid not in out:
@@ -422,12 +492,190 @@ def apply_waivers(findings: list[Finding], waivers: Iterable[Waiver], today: _dt
     return notes
 
 
+def _apply_severity(findings: Iterable[Finding], cls: type[Rule], severity: SeverityOrOff,
+                    cap: Severity | None) -> None:
+    """The configured severity replaces the rule's default one; the cap bounds every finding."""
+    for f in findings:
+        if f.kind != "finding":
+            continue
+        if severity != cls.default_severity and f.severity == cls.default_severity:
+            f.severity = severity  # type: ignore[assignment]
+        if cap is not None and SEVERITY_ORDER[f.severity] > SEVERITY_ORDER[cap]:
+            f.severity = cap
+
+
+def one_line(text: str) -> str:
+    """A docstring section as one line: its first sentence, whitespace folded."""
+    flat = " ".join(text.split())
+    for stop in (". ", "; "):
+        head, sep, _ = flat.partition(stop)
+        if sep and len(head) >= 20:
+            return head + "."
+    return flat
+
+
+def describe(findings: Iterable[Finding]) -> None:
+    """Give each finding the direction of its limit, its rule's fix in one line and its reference.
+
+    The direction comes from the rule where it declares one, else from the finding itself: a value
+    above its limit was checked against a maximum, one below against a minimum.
+    """
+    reg = registry()
+    for f in findings:
+        cls = reg.get(f.rule_id)
+        if f.direction is None and f.value is not None and f.limit is not None:
+            if cls is not None and cls.limit_direction is not None:
+                f.direction = cls.limit_direction
+            elif f.value > f.limit:
+                f.direction = "max"
+            elif f.value < f.limit:
+                f.direction = "min"
+        if cls is None:
+            continue
+        secs = doc_sections(cls)
+        if f.fix is None and secs.get("Fix"):
+            f.fix = one_line(secs["Fix"])
+        if f.reference is None:
+            refs = one_line(secs.get("References", ""))
+            f.reference = f"sensorcheck rules {cls.id}" + (f" ({refs.rstrip('.')})" if refs else "")
+
+
+def _value_key(f: Finding) -> tuple[Any, ...] | None:
+    """The measured number, rounded to 3 significant digits, with its limit and unit; None without one."""
+    if f.value is None or f.limit is None or not math.isfinite(f.value):
+        return None
+    v = float(f"{f.value:.3g}")
+    return (v, round(float(f.limit), 6), f.unit, f.direction)
+
+
+def _worst(members: list[Finding]) -> Finding:
+    with_value = [m for m in members if m.value is not None and math.isfinite(m.value)]
+    if not with_value:
+        return members[0]
+    if members[0].direction == "min":
+        return min(with_value, key=lambda m: m.value)  # type: ignore[arg-type, return-value]
+    return max(with_value, key=lambda m: m.value)  # type: ignore[arg-type, return-value]
+
+
+def _merge(members: list[Finding]) -> Finding:
+    """One finding for several places of one cause: the worst place leads, every place is related."""
+    members = sorted(members, key=sort_key)
+    worst = _worst(members)
+    sensors = tuple(sorted({s for m in members for s in (m.sensors or ((m.sensor,) if m.sensor else ()))}))
+    related: list[Location] = []
+    seen: set[Location] = set()
+    for m in members:
+        for loc in (m.location, *m.related):
+            if loc not in seen:
+                seen.add(loc)
+                related.append(loc)
+    n = sum(m.places for m in members)
+    on = f" on {len(sensors)} sensors ({', '.join(sensors)})" if len(sensors) > 1 else ""
+    if len({tuple(sorted(m.nets)) for m in members}) > 1 and len(sensors) <= 1:
+        nets = sorted({net for m in members for net in m.nets})
+        on += f", nets {', '.join(nets[:6])}" + (f" and {len(nets) - 6} more" if len(nets) > 6 else "")
+    lead = worst.message
+    if worst.places > 1 and lead.endswith("]") and " places" in lead:
+        lead = lead[: lead.rfind(" [")]
+    members_fp = tuple(sorted({fp for m in members for fp in (m.members or (m.fingerprint,)) if fp}))
+    return Finding(
+        rule_id=worst.rule_id,
+        severity=worst.severity,
+        message=f"{lead} [worst of {n} places{on}]",
+        value=worst.value,
+        limit=worst.limit,
+        unit=worst.unit,
+        location=worst.location,
+        related=related,
+        nets=tuple(sorted({net for m in members for net in m.nets})),
+        sensor=sensors[0] if len(sensors) == 1 else None,
+        waived_by=worst.waived_by,
+        kind=worst.kind,
+        review=worst.review,
+        direction=worst.direction,
+        fix=worst.fix,
+        reference=worst.reference,
+        places=n,
+        sensors=sensors,
+        members=members_fp,
+    )
+
+
+#: how the board names a copper island that carries no net name (``board.connectivity``)
+UNNAMED_NET_PREFIX = "~n"
+
+
+def _cause_nets(nets: Iterable[str]) -> tuple[str, ...]:
+    """The nets that identify a cause: named nets as they are; the islands of a board without net
+    names are one unknown net (a bus cut into islands by the reading is still one bus)."""
+    named = sorted({n for n in nets if not n.startswith(UNNAMED_NET_PREFIX)})
+    return (*named, "~") if any(n.startswith(UNNAMED_NET_PREFIX) for n in nets) else tuple(named)
+
+
+def group_by_cause(findings: list[Finding]) -> list[Finding]:
+    """Merge the findings of one rule that share a cause into one finding listing its places.
+
+    First the places of one rule on one sensor, layer and set of nets (one bus under a slider,
+    one pour in a zone; unnamed copper islands count as one unknown net); then, for rules that
+    allow it, the findings of one rule on one layer with the same measured value and limit on
+    several sensors (a row of keys at one spacing, the same pour under every key), or with any
+    value for a rule that judges one thing per layer (``group_across_sensors = "layer"``).
+    Only findings of the same severity and the same waiver merge; errors of a tool (input,
+    internal) never do.  A finding alone stays as it was (its
+    fingerprint is unchanged).
+    """
+    reg = registry()
+    keep: list[Finding] = []
+    rest: list[Finding] = []
+    for f in findings:
+        (keep if f.kind != "finding" or f.rule_id in (WaiverExpired.id, WaiverUnused.id) else rest).append(f)
+
+    def waiver_key(f: Finding) -> int:
+        return id(f.waived_by) if f.waived_by is not None else 0
+
+    buckets: dict[tuple[Any, ...], list[Finding]] = {}
+    for f in rest:
+        cls = reg.get(f.rule_id)
+        nets = _cause_nets(f.nets) if cls is None or cls.cause_includes_nets else ()
+        key = (f.rule_id, f.severity, f.sensor, f.location.layer, nets, waiver_key(f))
+        buckets.setdefault(key, []).append(f)
+    first = [b[0] if len(b) == 1 else _merge(b) for b in buckets.values()]
+    buckets = {}
+    out: list[Finding] = []
+    for f in first:
+        cls = reg.get(f.rule_id)
+        mode = cls.group_across_sensors if cls is not None else False
+        vk = ("layer", _cause_nets(f.nets)) if mode == "layer" else _value_key(f)
+        if not mode or vk is None or not (f.sensor or f.sensors):
+            out.append(f)
+            continue
+        buckets.setdefault((f.rule_id, f.severity, f.location.layer, vk, waiver_key(f)), []).append(f)
+    for bucket in buckets.values():
+        # across sensors only: two findings of one sensor with the same number are two causes
+        # (two foreign nets in one zone), so each group holds a sensor at most once
+        groups: list[tuple[set[str], list[Finding]]] = []
+        for f in bucket:
+            mine = set(f.sensors or (f.sensor,))  # type: ignore[arg-type]
+            for names, members in groups:
+                if not names & mine:
+                    names |= mine
+                    members.append(f)
+                    break
+            else:
+                groups.append((mine, [f]))
+        out += [m[0] if len(m) == 1 else _merge(m) for _, m in groups]
+    return keep + out
+
+
 def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = None, *,
-              progress: Progress | None = None) -> RuleRun:
-    """Run every enabled rule on ``design``; fingerprint, waive and sort the findings.
+              progress: Progress | None = None, extra: Iterable[Finding] = (),
+              group: bool = True) -> RuleRun:
+    """Run every enabled rule on ``design``; fingerprint, waive, group and sort the findings.
 
     ``estimates``: sensor name -> :class:`~sensorcheck.physics.estimate.SensorEstimate`, or None
-    when the field solver did not run (rules that need it then say so once).
+    when the field solver did not run (rules that need it then say so once).  ``extra``: findings
+    of engine-only rules made by the check itself (``estimate.unavailable``): their severity is
+    set like any rule's.  ``group``: merge findings of one cause (:func:`group_by_cause`).
     """
     config = design.config
     settings = effective_settings(config)
@@ -436,6 +684,14 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
     est: Mapping[str, SensorEstimate] = estimates if estimates is not None else {}
     active = [rid for rid, cls in reg.items() if not cls.engine_only]
     cache = RunCache()  # per-sensor geometry shared by the rules of this run
+    caps = {rid: severity_cap(reg[rid], sev, prm) for rid, (sev, prm) in settings.items()}
+    for f in extra:
+        sev = settings[f.rule_id][0] if f.rule_id in settings else None
+        if sev == "off":
+            continue
+        if sev is not None:
+            _apply_severity([f], reg[f.rule_id], sev, caps[f.rule_id])
+        run.findings.append(f)
     for i, rid in enumerate(active):
         cls = reg[rid]
         severity, params = settings[rid]
@@ -464,19 +720,42 @@ def run_rules(design: Design, estimates: Mapping[str, SensorEstimate] | None = N
         for f in produced:
             if f.rule_id != rid:
                 f.rule_id = rid
-            if severity != cls.default_severity and f.severity == cls.default_severity and f.kind == "finding":
-                f.severity = severity  # type: ignore[assignment]
+        _apply_severity(produced, cls, severity, caps[rid])
         run.findings.extend(produced)
     board_name = getattr(design.board, "name", "")
+    describe(run.findings)
     assign_fingerprints(run.findings, board_name)
     notes = apply_waivers(run.findings, config.waivers, config.today, board_name)
+    if group:
+        run.findings = group_by_cause(run.findings)
+        assign_fingerprints(run.findings, board_name)
+        notes = _waive_groups(run.findings, notes, config.waivers, board_name)
     notes = [n for n in notes if settings[n.rule_id][0] != "off"]
+    describe(notes)
     run.findings.extend(notes)
     assign_fingerprints(run.findings, board_name)
     for f in run.findings:  # unnamed copper by its readable name (S1.3); nets and fingerprints keep the ids
         f.message = readable(f.message, design.labels)
     run.findings.sort(key=sort_key)
     return run
+
+
+def _waive_groups(findings: list[Finding], notes: list[Finding], waivers: Iterable[Waiver],
+                  board: str) -> list[Finding]:
+    """A waiver naming a grouped finding's own fingerprint waives the group (its places had other
+    fingerprints, so the first pass found it unused); its "unused" note then goes."""
+    out = list(notes)
+    for w in waivers:
+        if w.fingerprint is None:
+            continue
+        hits = [f for f in findings if f.places > 1 and f.waived_by is None and waiver_matches(w, f, board)]
+        if not hits:
+            continue
+        for f in hits:
+            f.waived_by = w
+        label = f"waiver #{w.index + 1} (rule {w.rule})"
+        out = [n for n in out if not (n.rule_id == WaiverUnused.id and n.message.startswith(label + " "))]
+    return out
 
 
 # --------------------------------------------------------------------------- catalogue text
@@ -487,9 +766,20 @@ def _unit(unit: str) -> str:
     return "" if unit == "1" else unit
 
 
-def render_catalogue(fmt: Literal["text", "markdown", "json"] = "text") -> str:
-    """The rule catalogue, generated from the registry (so the docs cannot drift from the code)."""
+def render_catalogue(fmt: Literal["text", "markdown", "json"] = "text", ids: Iterable[str] = ()) -> str:
+    """The rule catalogue, generated from the registry (so the docs cannot drift from the code).
+
+    ``ids``: only these rules (a ConfigError names an unknown id and the closest known one).
+    """
     reg = registry()
+    wanted = list(ids)
+    for rid in wanted:
+        if rid not in reg:
+            close = difflib_close(rid, list(reg))
+            hint = f" (did you mean {close}?)" if close else ""
+            raise SensorcheckError(f"unknown rule id {rid!r}{hint}; `sensorcheck rules` lists them")
+    if wanted:
+        reg = {rid: reg[rid] for rid in dict.fromkeys(wanted)}
     if fmt == "json":
         items = []
         for cls in reg.values():

@@ -232,6 +232,8 @@ class FillNearSensor(Rule):
     """
 
     id = "hatch.fill-near-sensor"
+    # the pour around the sensors on one layer is one cause (one fix), whatever each key's share
+    group_across_sensors = "layer"
     title = "Hatch fill around sensors"
     default_severity = "warning"
     needs = ("sensors",)
@@ -367,10 +369,14 @@ class GroundUnderSelf(Rule):
                             nets=(e.net, *nets), sensor=s.name, source=src,
                         )
                     elif fill > params["max_fill_percent"] or added > params["max_added_pf"]:
+                        # the metric that triggered it: the fill where the fill is over its limit
+                        by_fill = fill > params["max_fill_percent"]
                         yield finding(
                             "warning",
                             f"{base}; limits {fmt(params['max_fill_percent'], 0)} % fill and {fmt(params['max_added_pf'], 1)} pF",
-                            value=added, limit=params["max_added_pf"], unit="pF", layer=lay.name, geom=under,
+                            value=fill if by_fill else added,
+                            limit=params["max_fill_percent"] if by_fill else params["max_added_pf"],
+                            unit="%" if by_fill else "pF", layer=lay.name, geom=under,
                             nets=(e.net, *nets), sensor=s.name, source=src,
                         )
 

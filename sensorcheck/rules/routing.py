@@ -182,6 +182,7 @@ class ForeignCopperInZone(Rule):
     """
 
     id = "routing.foreign-copper-in-zone"
+    cause_includes_nets = False  # one sensor's zone on one layer is the cause, whichever nets intrude
     title = "Foreign copper in a sensing zone"
     default_severity = "warning"
     needs = ("sensors",)
@@ -270,6 +271,7 @@ class ForeignViaInZone(Rule):
     """
 
     id = "routing.foreign-via-in-zone"
+    cause_includes_nets = False  # one sensor's zone on one layer is the cause, whichever nets intrude
     title = "Foreign via in a sensing zone"
     default_severity = "error"
     needs = ("sensors",)

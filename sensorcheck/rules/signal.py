@@ -23,6 +23,28 @@ def _rx_ground_text(design: Design, s: Any, surround_mm: float = 10.0) -> str:
     return f"; receiver {fmt(rx_area, 1)} mm2 is {fmt(100 * rx_area / gnd, 1)} % of the ground within {fmt(surround_mm, 0)} mm"
 
 
+def turning_place(est: Any) -> tuple[tuple[float, float] | None, str]:
+    """Where the estimated signal turns: the finger's (x, y) in mm and which approach curve turns
+    there, "centre" (over the node's centre) or "best" (over the most sensitive point).
+
+    The solver approaches over the most sensitive point and, when that is not the node's centre,
+    over the centre too; its turning point is the higher of the two curves' turning points.  The
+    finding goes where that curve was computed, never to a point where the signal does not turn.
+    """
+    from sensorcheck.physics.finger import turning_point
+
+    tp = est.turning_point_mm
+    centre = getattr(est, "centre_mm", None)
+    curve_c = getattr(est, "curve_centre", None) or []
+    if tp is None or not curve_c or centre is None:
+        return est.best_point_mm, "best"
+    tp_best = turning_point(list(est.curve), est.baseline_pf)
+    tp_centre = turning_point(list(curve_c), est.baseline_pf)
+    if tp_centre is not None and (tp_best is None or tp_centre >= tp_best):
+        return (float(centre[0]), float(centre[1])), "centre"
+    return est.best_point_mm, "best"
+
+
 class Turnaround(Rule):
     """The estimated signal turns around above the overlay surface.
 
@@ -59,13 +81,16 @@ class Turnaround(Rule):
             est = estimates.get(s.name)
             if est is None or est.turning_point_mm is None or est.turning_point_mm <= params["margin_mm"]:
                 continue
+            place, which = turning_place(est)
+            over = "over the node centre" if which == "centre" else "over the most sensitive point"
+            at = f" ({fmt(place[0], 1)}, {fmt(place[1], 1)}) mm" if place is not None else ""
             yield finding(
                 "error",
                 f"the estimated signal of {s.name} turns around {fmt(est.turning_point_mm)} mm above the overlay "
-                f"surface (limit {fmt(params['margin_mm'])} mm): a press reads as a release{_rx_ground_text(design, s)} "
-                f"(estimate: {est.model})",
+                f"surface with the finger {over}{at} (limit {fmt(params['margin_mm'])} mm): a press reads as a "
+                f"release{_rx_ground_text(design, s)} (estimate: {est.model})",
                 value=est.turning_point_mm, limit=params["margin_mm"], unit="mm", layer=s.layer, geom=s.outline,
-                point=est.best_point_mm, nets=s.nets, sensor=s.name,
+                point=place, nets=s.nets, sensor=s.name,
                 review="Confirm on the prototype: press firmly and hover just above the overlay.",
             )
 

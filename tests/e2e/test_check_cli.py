@@ -146,6 +146,12 @@ def test_field_solver_decides_the_turnaround_on_the_demo(tmp_path: Path) -> None
     turn = [f for f in flawed["boards"][0]["findings"] if f["rule_id"] == "signal.turnaround"]
     assert [(f["severity"], f["sensor"]) for f in turn] == [("error", "K1")]
     assert turn[0]["value"] > 0.0 and turn[0]["unit"] == "mm"
+    # reported where the signal turns: over the node centre, K1 at (18, 50) in boards/README.md,
+    # not over the most sensitive point, where the solver's own curve does not turn
+    loc = turn[0]["location"]
+    assert abs(loc["x_mm"] - 18.0) < 0.5 and abs(loc["y_mm"] - 50.0) < 0.5, loc
+    est = next(s for s in flawed["boards"][0]["sensors"] if s["name"] == "K1")["estimate"]
+    assert est["turning_curve"] == "centre" and est["curve_centre"]
     rc, clean = _json_report(tmp_path, str(CLEAN))
     assert rc == 0, _rule_ids(clean)
     k1 = next(s for s in clean["boards"][0]["sensors"] if s["name"] == "K1")

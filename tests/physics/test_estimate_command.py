@@ -36,9 +36,28 @@ def test_rows_label_units_and_values() -> None:
     rows = cmd.estimate_rows({"K1": _est(), "A0": _est("A0", None)})
     assert [r["sensor"] for r in rows] == ["A0", "K1"]
     k1 = rows[1]
-    assert k1["baseline_pf"] == "1.300" and k1["touch_delta_ff"] == "-150.0" and k1["turning_point_mm"] == "1.20"
+    # 3 significant digits, the touch delta and crosstalk in fF (the check's unit too)
+    assert k1["baseline_pf"] == "1.3" and k1["touch_delta_ff"] == "-150" and k1["turning_point_mm"] == "1.2"
     assert rows[0]["turning_point_mm"] == "none"
-    assert "K2 -4.0 fF" in k1["crosstalk"]
+    assert k1["crosstalk"] == "K2 -4"
+
+
+@pytest.mark.parametrize("width", [80, 120])
+def test_table_fits_the_width_and_never_cuts_a_number(width: int) -> None:
+    import io
+
+    est = {"K1": _est(), "A0": _est("A0", None)}
+    for e in est.values():
+        e.crosstalk_pf = {f"N{i}": -0.001234 * i for i in range(12)}  # a long neighbours cell
+    out = io.StringIO()
+    cmd.print_table(est, out, width=width)
+    text = out.getvalue()
+    assert max(len(line) for line in text.splitlines()) <= width
+    assert text.isascii()
+    for row in cmd.estimate_rows(est):
+        for key in ("touch_delta_ff", "percent_change"):
+            assert f" {row[key]}" in text  # whole, never truncated with an ellipsis
+    assert text.count("model: ") == 1 and text.count("window 15 mm") == 1
 
 
 def test_json_is_deterministic_and_says_estimate() -> None:

@@ -42,7 +42,7 @@ def test_findings_name_unnamed_copper_readably_and_keep_fingerprints(tmp_path: P
     for f in run.findings:
         assert not any(n in f.message for n in labelled), f.message
     # the fingerprint is made from the ids (the finding's nets), not from the readable names
-    from sensorcheck.rules.finding import fingerprint_for
+    from sensorcheck.findings import fingerprint_for
 
     assert all(f.fingerprint.split("-")[0] == fingerprint_for(f, d.board.name) for f in run.findings)
 

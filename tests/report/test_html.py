@@ -443,3 +443,31 @@ def test_bad_tolerance_is_refused() -> None:
 def test_assets_are_package_data() -> None:
     root = Path(__file__).resolve().parents[2] / "sensorcheck" / "report" / "assets"
     assert (root / "review.css").is_file() and (root / "review.js").is_file()
+
+
+def test_the_curve_the_turn_refers_to_is_drawn_and_named() -> None:
+    # the case: monotonic over the most sensitive point, turning over the node centre
+    result = _result()
+    est = result.sensors[0].estimate
+    assert est is not None
+    est["curve"] = [[10.0, 1.0], [5.0, 0.97], [1.0, 0.93], [0.0, 0.92]]
+    est["curve_centre"] = [[10.0, 1.0], [5.0, 0.95], [1.0, 0.9], [0.0, 0.93]]
+    est["turning_curve"] = "centre"
+    est["turning_point_mm"] = 1.2
+    doc = parse(render([result]))
+    traces = doc.with_class("trace")
+    assert len(traces) == 2 and doc.with_class("trace-centre")
+    text = "".join(doc.text)
+    assert "turns at 1.2 mm (over the node centre)" in text
+    assert "dashed: finger over the node centre" in text
+
+
+def test_findings_show_fix_and_reference() -> None:
+    result = _result()
+    result.findings[0].fix = "Move the via out of the zone."
+    result.findings[0].reference = "sensorcheck rules routing.foreign-via-in-zone"
+    result.findings[0].direction = "max"
+    text = "".join(parse(render([result])).text)
+    assert "Fix: Move the via out of the zone." in text
+    assert "sensorcheck rules routing.foreign-via-in-zone" in text
+    assert "(max)" in text
