@@ -32,6 +32,7 @@ import datetime as _dt
 import fnmatch
 import json
 import tomllib
+import math
 import traceback
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field
@@ -42,6 +43,7 @@ from sensorcheck.errors import ConfigError, SensorcheckError
 from sensorcheck.design.model import readable
 from sensorcheck.findings import (
     SEVERITY_ORDER,
+    Severity,
     Finding,
     Location,
     RuleInfo,
