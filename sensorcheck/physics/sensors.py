@@ -414,6 +414,16 @@ class SensorModel:
         return self.system.with_body(body, (z_lo, z_hi))
 
 
+def describe(model: SensorModel) -> str:
+    """The one-line model summary every estimate of this model carries."""
+    f = model.finger
+    ground = "earthed device" if f.device_ground_coupling_pf is None else f"device ground {f.device_ground_coupling_pf:g} pF to earth"
+    return (
+        f"3-D boundary elements (collocation, layered-media images); finger {f.contact_diameter_mm:g} mm x "
+        f"{f.length_mm:g} mm cylinder, body {f.body_capacitance_pf:g} pF, {ground}; overlay {model.overlay.thickness_mm:g} mm"
+    )
+
+
 def _roles_of(sensor: Sensor, conductors: list[Conductor]) -> tuple[Literal["mutual", "self"], dict[str, list[int]]]:
     idx = {c.name: i for i, c in enumerate(conductors)}
     tx = [idx[e.net] for e in sensor.electrodes_with("transmitter") if e.net in idx]
@@ -591,6 +601,10 @@ def estimate_with(
     limits: Limits = DEFAULT_LIMITS,
 ) -> SensorEstimate:
     model = build_model(design, sensor, opts=opts, limits=limits)
+    if sensor.kind == "matrix" and model.kind == "mutual":
+        from sensorcheck.physics.scan import estimate_matrix
+
+        return estimate_matrix(model, heights=heights, max_height_mm=max_height_mm)
     k = len(model.conductors)
     base_f = model.value_f(model.system.c0, None)
     if base_f <= 0:
@@ -648,7 +662,7 @@ def estimate_with(
     if model.kind == "self" and model.main.get("shield"):
         notes.append("shield net driven at the electrode's potential")
     if sensor.kind == "matrix":
-        notes.append("matrix: all rows driven and all columns sensed together (a whole-panel figure)")
+        notes.append("matrix without TX and RX lines: all its lines driven together (a whole-panel figure)")
     detection = None
     if sensor.kind == "proximity" and model.kind == "self":
         detection = _hand_range(model, bx, by, base_f)
@@ -657,16 +671,10 @@ def estimate_with(
         )
         if detection is not None and detection >= model.opts.hand_max_height_mm:
             notes.append(f"proximity range is at least {model.opts.hand_max_height_mm:g} mm (the search stops there)")
-    f = model.finger
-    ground = "earthed device" if f.device_ground_coupling_pf is None else f"device ground {f.device_ground_coupling_pf:g} pF to earth"
-    model_text = (
-        f"3-D boundary elements (collocation, layered-media images); finger {f.contact_diameter_mm:g} mm x "
-        f"{f.length_mm:g} mm cylinder, body {f.body_capacitance_pf:g} pF, {ground}; overlay {model.overlay.thickness_mm:g} mm"
-    )
-    return SensorEstimate(
+    est = SensorEstimate(
         sensor=sensor.name,
         kind=model.kind,
-        model=model_text,
+        model=describe(model),
         baseline_pf=base_pf,
         touch_delta_pf=delta,
         percent_change=100.0 * delta / base_pf,
@@ -683,6 +691,11 @@ def estimate_with(
         curve_centre=curve_c,
         centre_mm=(float(centre.x), float(centre.y)) if curve_c else None,
     )
+    if sensor.kind in ("slider", "wheel") and model.kind == "self" and len(model.main["electrode"]) > 1:
+        from sensorcheck.physics.segments import add_segments
+
+        add_segments(model, est, max_height_mm=max_height_mm)
+    return est
 
 
 # --------------------------------------------------------------------------------------------

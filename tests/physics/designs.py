@@ -75,3 +75,30 @@ def self_button(radius_mm: float = 6.0, ground_gap_mm: float = 1.0, ov: Overlay 
     roles = {"TOUCH1": "self", ("SHLD" if shield else "GND"): ("shield" if shield else "ground")}
     s = Sensor("B1", "self-button", "top-copper", [Electrode("TOUCH1", "self", "top-copper", el)], el.buffer(1.0), 1.0)
     return make_design(nets, roles, [s], ov=ov)
+
+
+def row_column(
+    *,
+    pitch_mm: float = 8.0,
+    width_mm: float = 3.0,
+    length_mm: float = 16.0,
+    n: int = 2,
+    ov: Overlay | None = None,
+    finger: Finger | None = None,
+    estimate: dict | None = None,
+) -> Design:
+    """An n x n bar-and-stripe matrix (invented): TX rows on the bottom copper, RX columns on the top."""
+    half_l, half_w = length_mm / 2.0, width_mm / 2.0
+    off = [(k - (n - 1) / 2.0) * pitch_mm for k in range(n)]
+    rows = {f"TX{k + 1}": box(-half_l, y - half_w, half_l, y + half_w) for k, y in enumerate(off)}
+    cols = {f"RX{k + 1}": box(x - half_w, -half_l, x + half_w, half_l) for k, x in enumerate(off)}
+    top = Layer("top-copper", "copper", "top", "test.gtl", copper_index=1, by_net=dict(cols))
+    bottom = Layer("bottom-copper", "copper", "bottom", "test.gbl", copper_index=2, by_net=dict(rows))
+    board = Board("test", "test", layers=[top, bottom], stackup=stackup())
+    cfg = Config(overlay=ov or overlay(), finger=finger, estimate=dict(estimate or {}))
+    roles = {**{t: ("transmitter", None) for t in rows}, **{r: ("receiver", None) for r in cols}}
+    electrodes = [Electrode(t, "transmitter", "bottom-copper", g) for t, g in rows.items()]
+    electrodes += [Electrode(r, "receiver", "top-copper", g) for r, g in cols.items()]
+    outline = box(-half_l, -half_l, half_l, half_l)
+    s = Sensor("M1", "matrix", "top-copper", electrodes, outline.buffer(1.0), 1.0, rows=tuple(rows), columns=tuple(cols))
+    return Design(board, cfg, roles, [s])  # type: ignore[arg-type]
