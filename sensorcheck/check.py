@@ -131,6 +131,20 @@ def _internal_error_finding(stage: str, exc: BaseException) -> Finding:
     )
 
 
+def _scan_dict(est: Any) -> dict[str, Any]:
+    """Per-node (matrix) and per-segment (slider, wheel) values for the reports: the channels table, the centroid error."""
+    from sensorcheck.commands.estimate import scan_json
+
+    out = scan_json(est, lambda x, n=6: None if x is None else round(float(x), n))
+    chans = {f"{n['tx']}/{n['rx']}": [n["cm_pf"], n["touch_delta_pf"]] for n in out.get("nodes", [])}
+    chans.update({g["net"]: [g["parasitic_pf"], g["touch_delta_pf"]] for g in out.get("segments", [])})
+    if chans:
+        out["channels"] = chans
+    if "position" in out:
+        out["position_error_mm"] = out["position"]["max_error_mm"]
+    return out
+
+
 def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]:
     from sensorcheck.physics.estimate import SensorEstimate
 
@@ -167,6 +181,7 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
                 "panels": est.panels,
                 "notes": list(est.notes),
             }
+            est_dict.update(_scan_dict(est))
         checklist = [
             "Confirm on the prototype, under the real overlay, that a touch gives a clear signal "
             "(estimates are not measurements).",

@@ -11,6 +11,7 @@ import argparse
 import json
 import sys
 from pathlib import Path
+from collections.abc import Callable
 from typing import Any, Literal, TextIO, cast
 
 from sensorcheck.errors import ConfigError, SensorcheckError
@@ -75,8 +76,35 @@ def estimates_json(estimates: dict[str, SensorEstimate]) -> dict[str, Any]:
             "channels": {k: [r(b), r(d)] for k, (b, d) in sorted(e.channels.items())},
             "panels": e.panels,
             "notes": list(e.notes),
+            **scan_json(e, r),
         })
     return {"estimates": out, "disclaimer": DISCLAIMER}
+
+
+def scan_json(e: SensorEstimate, r: Callable[..., float | None]) -> dict[str, Any]:
+    """A matrix's nodes and a slider's or wheel's segments and position response (only where estimated)."""
+    out: dict[str, Any] = {}
+    if e.nodes:
+        out["nodes"] = [
+            {"tx": n.tx, "rx": n.rx, "centre_mm": [r(n.centre_mm[0], 4), r(n.centre_mm[1], 4)], "cm_pf": r(n.cm_pf),
+             "touch_delta_pf": r(n.touch_delta_pf), "percent_change": r(n.percent_change, 4)}
+            for n in e.nodes
+        ]
+    if e.segments:
+        out["segments"] = [
+            {"net": g.net, "centre_mm": [r(g.centre_mm[0], 4), r(g.centre_mm[1], 4)], "position_mm": r(g.position_mm, 4),
+             "parasitic_pf": r(g.parasitic_pf), "touch_delta_pf": r(g.touch_delta_pf),
+             "crosstalk_pf": {k: r(v) for k, v in sorted(g.crosstalk_pf.items())}}
+            for g in e.segments
+        ]
+    p = e.position
+    if p is not None:
+        out["position"] = {
+            "travel_mm": r(p.travel_mm, 4), "cyclic": p.cyclic, "max_error_mm": r(p.max_error_mm, 4), "floor_pf": r(p.floor_pf),
+            "dead_zones_mm": [[r(a, 4), r(b, 4)] for a, b in p.dead_zones_mm],
+            "points": [[r(x, 4), r(c, 4), r(er, 4)] for x, c, er in p.points],
+        }
+    return out
 
 
 def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str = "Field-solver estimates") -> None:
@@ -106,8 +134,26 @@ def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str
     for m in models:
         console.print(f"model: {m}")
     for name in sorted(estimates):
+        for line in channel_lines(estimates[name]):
+            console.print(f"{name}: {line}")
+    for name in sorted(estimates):
         for note in estimates[name].notes:
             console.print(f"note ({name}): {note}")
+
+
+def channel_lines(e: SensorEstimate) -> list[str]:
+    """One display line per matrix node or slider segment, and the position response's summary."""
+    out = [f"node {n.tx}/{n.rx}: Cm {n.cm_pf:.3f} pF, touch {1000 * n.touch_delta_pf:+.1f} fF ({n.percent_change:+.1f} %)" for n in e.nodes]
+    for g in e.segments:
+        cross = ", ".join(f"{k} {1000 * v:+.1f} fF" for k, v in g.crosstalk_pf.items())
+        out.append(f"segment {g.net}: parasitic {g.parasitic_pf:.2f} pF, touch {1000 * g.touch_delta_pf:+.1f} fF"
+                   + (f", neighbours {cross}" if cross else ""))
+    p = e.position
+    if p is not None:
+        err = "-" if p.max_error_mm is None else f"{p.max_error_mm:.2f} mm"
+        dead = ", ".join(f"{a:.1f}-{b:.1f} mm" for a, b in p.dead_zones_mm) or "none"
+        out.append(f"position along {p.travel_mm:.1f} mm: largest centroid error {err}; dead zones {dead}")
+    return out
 
 
 def plot_curves(estimates: dict[str, SensorEstimate], path: Path) -> None:

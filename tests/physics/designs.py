@@ -102,3 +102,34 @@ def row_column(
     outline = box(-half_l, -half_l, half_l, half_l)
     s = Sensor("M1", "matrix", "top-copper", electrodes, outline.buffer(1.0), 1.0, rows=tuple(rows), columns=tuple(cols))
     return Design(board, cfg, roles, [s])  # type: ignore[arg-type]
+
+
+def slider(
+    *,
+    n: int = 5,
+    seg_width_mm: float = 4.0,
+    gap_mm: float = 0.5,
+    height_mm: float = 12.0,
+    gaps_mm: list[float] | None = None,
+    ground: bool = True,
+    estimate: dict | None = None,
+) -> Design:
+    """A straight self-capacitance slider of rectangular segments along x (invented), ground frame 1 mm away.
+
+    ``gaps_mm`` (n - 1 values) overrides the gap between consecutive segments.
+    """
+    gaps = list(gaps_mm) if gaps_mm is not None else [gap_mm] * (n - 1)
+    x = 0.0
+    nets: dict[str, BaseGeometry] = {}
+    for i in range(n):
+        nets[f"SEG{i + 1}"] = box(x, -height_mm / 2.0, x + seg_width_mm, height_mm / 2.0)
+        x += seg_width_mm + (gaps[i] if i < n - 1 else 0.0)
+    roles = {k: "self" for k in nets}
+    span = box(0.0, -height_mm / 2.0, x, height_mm / 2.0)
+    if ground:
+        nets["GND"] = span.buffer(8.0, join_style=2).difference(span.buffer(1.0, join_style=2))
+        roles["GND"] = "ground"
+    electrodes = [Electrode(k, "self", "top-copper", g) for k, g in nets.items() if k.startswith("SEG")]
+    order = tuple(e.net for e in electrodes)
+    s = Sensor("S1", "slider", "top-copper", electrodes, span.buffer(1.0), 1.0, order=order)
+    return make_design(nets, roles, [s], estimate=estimate)
