@@ -361,17 +361,22 @@ def _check_one(args: tuple[str, CheckOptions]) -> Result:
 
 
 def check_boards(paths: Sequence[str | Path], options: CheckOptions, *, workers: int | None = None,
-                 progress: Progress | None = None) -> list[Result]:
-    """Check several boards, in parallel processes when there are several; results in the order given."""
-    if len(paths) == 1:
+                 progress: Progress | None = None, executor: Any = None) -> list[Result]:
+    """Check several boards, in parallel processes when there are several; results in the order given.
+
+    ``executor``: a ``concurrent.futures.Executor`` to run the boards on instead (a Dask cluster,
+    :mod:`sensorcheck.cluster`), even for one board.
+    """
+    if len(paths) == 1 and executor is None:
         return [check_board(paths[0], options, progress)]
+    import contextlib
     import os
     from concurrent.futures import ProcessPoolExecutor
 
     n = workers or min(len(paths), os.cpu_count() or 1)
     jobs = [(str(p), options) for p in paths]
     results: list[Result] = []
-    with ProcessPoolExecutor(max_workers=n) as pool:
+    with contextlib.nullcontext(executor) if executor is not None else ProcessPoolExecutor(max_workers=n) as pool:
         for path, fut in zip(paths, [pool.submit(_check_one, j) for j in jobs]):
             try:
                 results.append(fut.result())

@@ -67,6 +67,8 @@ def _parser() -> argparse.ArgumentParser:
     chk.add_argument("--no-estimate", action="store_true", help="skip the field-solver estimates (geometry rules only)")
     chk.add_argument("--timestamp", action="store_true", help="put the run time into the reports (off: byte-identical reports)")
     chk.add_argument("--jobs", type=int, default=None, help="parallel processes for several boards (default: cores)")
+    scheduler_help = "run on the Dask scheduler at ADDRESS (e.g. tcp://10.0.0.5:8786) instead of local processes; needs sensorcheck[cluster]"
+    chk.add_argument("--scheduler", metavar="ADDRESS", help=scheduler_help)
 
     lay = sub.add_parser("layers", help="show how each fabrication file was identified and read")
     lay.add_argument("path", help="folder or .zip of fabrication outputs")
@@ -80,6 +82,7 @@ def _parser() -> argparse.ArgumentParser:
     est.add_argument("--plot", type=Path, help="write the approach curves to this PNG or SVG file")
     est.add_argument("--sweep", metavar="PARAM=V1,V2,...", help="sweep overlay_thickness_mm or overlay_epsilon_r")
     est.add_argument("--format", choices=["text", "json"], default="text")
+    est.add_argument("--scheduler", metavar="ADDRESS", help=scheduler_help)
 
     rules = sub.add_parser("rules", help="print the rule catalogue")
     rules.add_argument("--format", choices=["text", "markdown", "json"], default="text")
@@ -125,12 +128,15 @@ def _run_check(args: argparse.Namespace) -> int:
         import datetime as dt
 
         options.timestamp = dt.datetime.now(dt.timezone.utc).replace(microsecond=0).isoformat()
-    status, progress = _progress_printer()
-    try:
-        results = check_boards(args.paths, options, workers=args.jobs, progress=progress)  # type: ignore[arg-type]
-    finally:
-        if status is not None:
-            status.stop()  # type: ignore[attr-defined]
+    from sensorcheck.cluster import executor_for
+
+    with executor_for(args.scheduler) as executor:
+        status, progress = _progress_printer()
+        try:
+            results = check_boards(args.paths, options, workers=args.jobs, progress=progress, executor=executor)  # type: ignore[arg-type]
+        finally:
+            if status is not None:
+                status.stop()  # type: ignore[attr-defined]
     write_reports(results, specs, stdout=sys.stdout)
     for r in results:
         for f in r.findings:

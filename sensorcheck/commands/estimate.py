@@ -209,7 +209,6 @@ def parse_sweep(text: str) -> tuple[SweepParam, list[float]]:
 
 def run(args: argparse.Namespace) -> int:
     from sensorcheck.check import build_design_for
-    from sensorcheck.physics.sensors import estimate_design, sweep
 
     design = build_design_for(args.path, getattr(args, "config", None))
     names: list[str] | None = getattr(args, "sensor", None) or None
@@ -222,11 +221,21 @@ def run(args: argparse.Namespace) -> int:
             raise ConfigError(design.config.file, "sensor", f"no sensor named {n!r} (known: {', '.join(sorted(known))})")
     fmt = getattr(args, "format", "text")
     sweep_text = getattr(args, "sweep", None)
+    from sensorcheck.cluster import executor_for
+
+    with executor_for(getattr(args, "scheduler", None)) as executor:
+        return _run(args, design, names, known, fmt, sweep_text, executor)
+
+
+def _run(args: argparse.Namespace, design: Any, names: list[str] | None, known: dict[str, Any], fmt: str,
+         sweep_text: str | None, executor: Any) -> int:
+    from sensorcheck.physics.sensors import estimate_design, sweep
+
     if sweep_text:
         param, values = parse_sweep(sweep_text)
         results: dict[str, Any] = {}
         for n in names or sorted(known):
-            series = sweep(design, known[n], param, values)
+            series = sweep(design, known[n], param, values, executor=executor)
             results[n] = series
             if fmt == "text":
                 print_table({f"{n} @ {param}={v:g}": e for v, e in zip(values, series)}, sys.stdout, title=f"Sweep of {param}")
@@ -239,7 +248,7 @@ def run(args: argparse.Namespace) -> int:
     if sys.stderr.isatty():
         def progress(name: str) -> None:
             print(f"solved {name}", file=sys.stderr)
-    estimates = estimate_design(design, sensors=names, progress=progress)
+    estimates = estimate_design(design, sensors=names, progress=progress, executor=executor)
     if fmt == "json":
         json.dump(estimates_json(estimates), sys.stdout, indent=2, sort_keys=True)
         sys.stdout.write("\n")

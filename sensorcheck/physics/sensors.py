@@ -21,7 +21,7 @@ from __future__ import annotations
 import copy
 import os
 from collections.abc import Callable
-from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures import Executor, ProcessPoolExecutor
 from dataclasses import dataclass, replace
 from typing import Any, Literal
 
@@ -724,8 +724,11 @@ def estimate_design(
     workers: int | None = None,
     progress: Callable[[str], None] | None = None,
     errors: list[str] | None = None,
+    executor: Executor | None = None,
 ) -> dict[str, SensorEstimate]:
     """Estimates for the design's sensors (or those named), in parallel across processes.
+
+    ``executor``: run the sensors there instead (a Dask cluster, :mod:`sensorcheck.cluster`).
 
     Errors of one sensor (bad copper, over the mesh budget) are raised as one InputError after
     the others ran; pass ``errors`` (a list) to collect their messages there instead and keep
@@ -743,8 +746,8 @@ def estimate_design(
     n_workers = min(workers or os.cpu_count() or 1, len(jobs)) if jobs else 1
     results: dict[str, SensorEstimate] = {}
     failed: list[str] = errors if errors is not None else []
-    if n_workers <= 1:
-        done = map(_one, jobs)
+    if executor is not None or n_workers <= 1:
+        done = map(_one, jobs) if executor is None else executor.map(_one, jobs)
         for name, res in done:
             _collect(name, res, results, failed, progress)
     else:
@@ -814,9 +817,15 @@ def sweep(
     values: list[float],
     *,
     heights: int = 6,
+    executor: Executor | None = None,
 ) -> list[SensorEstimate]:
-    """How a sensor's numbers change with the overlay's thickness or permittivity."""
-    return [estimate_sensor(with_overlay(design, param, v), sensor, heights=heights) for v in values]
+    """How a sensor's numbers change with the overlay's thickness or permittivity (on ``executor`` when given)."""
+    designs = [with_overlay(design, param, v) for v in values]
+    if executor is None:
+        return [estimate_sensor(d, sensor, heights=heights) for d in designs]
+    from sensorcheck.cluster import map_ordered
+
+    return map_ordered(executor, estimate_sensor, [((d, sensor), {"heights": heights}) for d in designs])
 
 
 __all__ = [
