@@ -466,6 +466,8 @@ def build_model(
         ("interior", replace(opts, window_mm=opts.window_mm * 0.6, h_near_mm=h_near * 1.6, h_far_mm=opts.h_far_mm * 1.6)),
         ("edges", replace(opts, window_mm=opts.window_mm * 0.4, h_near_mm=h_near * 2.0, h_far_mm=opts.h_far_mm * 2.0, edge_band=False)),
     ]
+    # last: the same mesh sizes with the grounded copper's unresolved detail removed (physics/coarsen.py)
+    steps.append(("detail", steps[-1][1]))
     # each step's panels are estimated first (mesh.estimate_panels, cheap): a step whose estimate
     # is over ESTIMATE_FACTORS[1] x the limit is surely over the limit and is not meshed, so a huge
     # sensor is refused before any meshing; the others are meshed and counted exactly
@@ -475,6 +477,11 @@ def build_model(
         window = box(x0 - w, y0 - w, x1 + w, y1 + w)
         trial_notes = list(notes)
         conductors = gather_conductors(design, sensor, window, trial_notes)
+        if what == "detail":
+            from sensorcheck.physics.coarsen import coarsen_ground
+
+            conductors, detail_note = coarsen_ground(conductors, cur.h_edge_mm / cur.refine)
+            trial_notes.append(detail_note)
         guess = estimate_conductor_panels(conductors, stack, zone, cur, overlay)
         if guess > ESTIMATE_FACTORS[1] * limits.max_mesh_panels:
             last_count = f"about {guess:.0f}", ", estimated before meshing"
@@ -487,7 +494,7 @@ def build_model(
                 notes.append(
                     f"mesh reduced to stay within {limits.max_mesh_panels} panels (window {w:g} mm"
                     + (", coarser interior panels" if what != "window" else "")
-                    + (", no thin edge rows" if what == "edges" else "")
+                    + (", no thin edge rows" if what in ("edges", "detail") else "")
                     + "): lower accuracy"
                 )
             break
