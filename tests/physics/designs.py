@@ -133,3 +133,23 @@ def slider(
     order = tuple(e.net for e in electrodes)
     s = Sensor("S1", "slider", "top-copper", electrodes, span.buffer(1.0), 1.0, order=order)
     return make_design(nets, roles, [s], estimate=estimate)
+
+
+def wheel(*, n: int = 6, r_in_mm: float = 6.0, r_out_mm: float = 14.0, gap_deg: float = 4.0, estimate: dict | None = None) -> Design:
+    """A self-capacitance wheel of n annular sectors (invented), no ground: every segment alike by rotation."""
+    import math
+
+    from shapely.geometry import Polygon
+
+    nets: dict[str, BaseGeometry] = {}
+    step = 360.0 / n
+    for i in range(n):
+        a0, a1 = math.radians(i * step + gap_deg / 2.0), math.radians((i + 1) * step - gap_deg / 2.0)
+        arc = [a0 + (a1 - a0) * k / 12.0 for k in range(13)]
+        pts = [(r_out_mm * math.cos(a), r_out_mm * math.sin(a)) for a in arc]
+        pts += [(r_in_mm * math.cos(a), r_in_mm * math.sin(a)) for a in reversed(arc)]
+        nets[f"W{i + 1}"] = Polygon(pts)
+    electrodes = [Electrode(k, "self", "top-copper", g) for k, g in nets.items()]
+    outline = Point(0, 0).buffer(r_out_mm)
+    s = Sensor("WH", "wheel", "top-copper", electrodes, outline.buffer(1.0), 1.0, order=tuple(nets))
+    return make_design(nets, {k: "self" for k in nets}, [s], estimate=estimate)

@@ -78,3 +78,24 @@ def test_a_wide_bare_gap_is_a_dead_zone() -> None:
     assert pr is not None and pr.floor_pf == pytest.approx(DEAD_FLOOR_FRACTION * float(np.median([s.touch_delta_pf for s in est.segments])))
     gap_mid = 0.5 * (est.segments[1].position_mm + est.segments[2].position_mm)
     assert any(a <= gap_mid <= b for a, b in pr.dead_zones_mm)
+
+
+def test_wheel_reads_each_segment_centre_by_rotational_symmetry() -> None:
+    from .designs import wheel
+
+    d = wheel(estimate=FAST)
+    est = estimate_with(d, d.sensors[0], opts=SolverOptions.from_config(FAST), heights=2, max_height_mm=10.0)
+    pr = est.position
+    assert pr is not None and pr.cyclic
+    # the circle through the segment centres, and six segments alike under rotation (symmetry)
+    radius = float(np.hypot(*est.segments[0].centre_mm))
+    assert pr.travel_mm == pytest.approx(2 * np.pi * radius, rel=1e-6)
+    par = [s.parasitic_pf for s in est.segments]
+    assert max(par) == pytest.approx(min(par), rel=0.03)
+    assert len(pr.points) == 3 * 6
+    for s in est.segments:
+        assert set(s.crosstalk_pf) == {n for n in ("W1", "W2", "W3", "W4", "W5", "W6")
+                                       if abs(int(n[1]) - int(s.net[1])) in (1, 5)}  # neighbours round the wheel
+        p, got, err = min(pr.points, key=lambda t: abs(t[0] - s.position_mm))
+        assert abs(err) < 0.1  # over a segment's centre its two neighbours weigh alike: the centre is read
+    assert pr.dead_zones_mm == []
