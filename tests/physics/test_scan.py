@@ -81,10 +81,11 @@ def test_a_scanned_node_is_not_the_whole_panel_figure(solved) -> None:
 def test_crossing_cm_is_parallel_plate_sized(solved) -> None:
     d, model, est = solved
     # handbook: a 3 x 3 mm overlap through 1.53 mm of FR-4 (eps_r 4.4) is 0.23 pF as parallel
-    # plates; fringing adds to it and the grounded neighbours take some away: same order
+    # plates; fringing adds to it (through a dielectric half as thick as the strips are wide, it
+    # about triples it: 2.9 x when written) and the grounded neighbours take some away: same order
     pp = 8.854e-12 * 4.4 * 9e-6 / 1.53e-3 / PF
     for n in est.nodes:
-        assert 0.7 * pp < n.cm_pf < 3.0 * pp
+        assert pp < n.cm_pf < 4.0 * pp
 
 
 def test_matrix_estimate_reports_the_weakest_node() -> None:
