@@ -142,6 +142,20 @@ def _internal_error_finding(stage: str, exc: BaseException) -> Finding:
     )
 
 
+def _scan_dict(est: Any) -> dict[str, Any]:
+    """Per-node (matrix) and per-segment (slider, wheel) values for the reports: the channels table, the centroid error."""
+    from sensorcheck.commands.estimate import scan_json
+
+    out = scan_json(est, lambda x, n=6: None if x is None else round(float(x), n))
+    chans = {f"{n['tx']}/{n['rx']}": [n["cm_pf"], n["touch_delta_pf"]] for n in out.get("nodes", [])}
+    chans.update({g["net"]: [g["parasitic_pf"], g["touch_delta_pf"]] for g in out.get("segments", [])})
+    if chans:
+        out["channels"] = chans
+    if "position" in out:
+        out["position_error_mm"] = out["position"]["max_error_mm"]
+    return out
+
+
 def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]:
     from sensorcheck.physics.estimate import SensorEstimate
 
@@ -187,6 +201,7 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
                 "panels": est.panels,
                 "notes": list(est.notes),
             }
+            est_dict.update(_scan_dict(est))
         checklist = [
             "Confirm on the prototype, under the real overlay, that a touch gives a clear signal "
             "(estimates are not measurements).",
@@ -402,17 +417,22 @@ def _check_one(args: tuple[str, CheckOptions]) -> Result:
 
 
 def check_boards(paths: Sequence[str | Path], options: CheckOptions, *, workers: int | None = None,
-                 progress: Progress | None = None) -> list[Result]:
-    """Check several boards, in parallel processes when there are several; results in the order given."""
-    if len(paths) == 1:
+                 progress: Progress | None = None, executor: Any = None) -> list[Result]:
+    """Check several boards, in parallel processes when there are several; results in the order given.
+
+    ``executor``: a ``concurrent.futures.Executor`` to run the boards on instead (a Dask cluster,
+    :mod:`sensorcheck.cluster`), even for one board.
+    """
+    if len(paths) == 1 and executor is None:
         return [check_board(paths[0], options, progress)]
+    import contextlib
     import os
     from concurrent.futures import ProcessPoolExecutor
 
     n = workers or min(len(paths), os.cpu_count() or 1)
     jobs = [(str(p), options) for p in paths]
     results: list[Result] = []
-    with ProcessPoolExecutor(max_workers=n) as pool:
+    with contextlib.nullcontext(executor) if executor is not None else ProcessPoolExecutor(max_workers=n) as pool:
         for path, fut in zip(paths, [pool.submit(_check_one, j) for j in jobs]):
             try:
                 results.append(fut.result())

@@ -109,6 +109,8 @@ def _parser() -> argparse.ArgumentParser:
     detail.add_argument("-q", "--quiet", action="store_true", help="text report: the verdict and the errors only")
     detail.add_argument("-v", "--verbose", action="store_true",
                         help="text report: every place, nets, fingerprints and references")
+    scheduler_help = "run on the Dask scheduler at ADDRESS (e.g. tcp://10.0.0.5:8786) instead of local processes; needs sensorcheck[cluster]"
+    chk.add_argument("--scheduler", metavar="ADDRESS", help=scheduler_help)
 
     lay = sub.add_parser("layers", help="show how each fabrication file was identified and read")
     lay.add_argument("path", help="folder or .zip of fabrication outputs")
@@ -132,6 +134,7 @@ def _parser() -> argparse.ArgumentParser:
     est.add_argument("--sweep", metavar="PARAM=V1,V2,...", help="sweep overlay_thickness_mm or overlay_epsilon_r")
     est.add_argument("--format", choices=["text", "json"], default="text")
     est.add_argument("-v", "--verbose", action="store_true", help="every estimate note of every sensor")
+    est.add_argument("--scheduler", metavar="ADDRESS", help=scheduler_help)
 
     rules = sub.add_parser(
         "rules", help="print the rule catalogue, or one rule",
@@ -192,12 +195,15 @@ def _run_check(args: argparse.Namespace) -> int:
         import datetime as dt
 
         options.timestamp = dt.datetime.now(dt.timezone.utc).replace(microsecond=0).isoformat()
-    status, progress = _progress_printer()
-    try:
-        results = check_boards(args.paths, options, workers=args.jobs, progress=progress)  # type: ignore[arg-type]
-    finally:
-        if status is not None:
-            status.stop()  # type: ignore[attr-defined]
+    from sensorcheck.cluster import executor_for
+
+    with executor_for(args.scheduler) as executor:
+        status, progress = _progress_printer()
+        try:
+            results = check_boards(args.paths, options, workers=args.jobs, progress=progress, executor=executor)  # type: ignore[arg-type]
+        finally:
+            if status is not None:
+                status.stop()  # type: ignore[attr-defined]
     detail = "quiet" if args.quiet else "verbose" if args.verbose else "normal"
     write_reports(results, specs, stdout=sys.stdout, detail=detail)
     for r in results:

@@ -11,6 +11,7 @@ import argparse
 import json
 import sys
 from pathlib import Path
+from collections.abc import Callable
 from typing import Any, Literal, TextIO, cast
 
 from sensorcheck.errors import ConfigError, SensorcheckError
@@ -87,8 +88,35 @@ def estimates_json(estimates: dict[str, SensorEstimate]) -> dict[str, Any]:
             "channels": {k: [r(b), r(d)] for k, (b, d) in sorted(e.channels.items())},
             "panels": e.panels,
             "notes": list(e.notes),
+            **scan_json(e, r),
         })
     return {"estimates": out, "disclaimer": DISCLAIMER}
+
+
+def scan_json(e: SensorEstimate, r: Callable[..., float | None]) -> dict[str, Any]:
+    """A matrix's nodes and a slider's or wheel's segments and position response (only where estimated)."""
+    out: dict[str, Any] = {}
+    if e.nodes:
+        out["nodes"] = [
+            {"tx": n.tx, "rx": n.rx, "centre_mm": [r(n.centre_mm[0], 4), r(n.centre_mm[1], 4)], "cm_pf": r(n.cm_pf),
+             "touch_delta_pf": r(n.touch_delta_pf), "percent_change": r(n.percent_change, 4)}
+            for n in e.nodes
+        ]
+    if e.segments:
+        out["segments"] = [
+            {"net": g.net, "centre_mm": [r(g.centre_mm[0], 4), r(g.centre_mm[1], 4)], "position_mm": r(g.position_mm, 4),
+             "parasitic_pf": r(g.parasitic_pf), "touch_delta_pf": r(g.touch_delta_pf),
+             "crosstalk_pf": {k: r(v) for k, v in sorted(g.crosstalk_pf.items())}}
+            for g in e.segments
+        ]
+    p = e.position
+    if p is not None:
+        out["position"] = {
+            "travel_mm": r(p.travel_mm, 4), "cyclic": p.cyclic, "max_error_mm": r(p.max_error_mm, 4), "floor_pf": r(p.floor_pf),
+            "dead_zones_mm": [[r(a, 4), r(b, 4)] for a, b in p.dead_zones_mm],
+            "points": [[r(x, 4), r(c, 4), r(er, 4)] for x, c, er in p.points],
+        }
+    return out
 
 
 def output_width(stream: TextIO) -> int:
@@ -130,6 +158,9 @@ def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str
         lines.append(f"model: {m}")
     notes: dict[str, list[str]] = {}
     for name in sorted(estimates):
+        for line in channel_lines(estimates[name]):
+            lines.append(f"{name}: {line}")
+    for name in sorted(estimates):
         for note in estimates[name].notes:
             notes.setdefault(note, []).append(name)
     for who, note in fold_notes(notes, len(estimates), every=verbose):
@@ -146,6 +177,21 @@ def _wrap(line: str, width: int) -> str:
         return line
     return "\n".join(textwrap.wrap(line, width=width, subsequent_indent="  ", break_long_words=False,
                                     break_on_hyphens=False))
+
+
+def channel_lines(e: SensorEstimate) -> list[str]:
+    """One display line per matrix node or slider segment, and the position response's summary."""
+    out = [f"node {n.tx}/{n.rx}: Cm {n.cm_pf:.3f} pF, touch {1000 * n.touch_delta_pf:+.1f} fF ({n.percent_change:+.1f} %)" for n in e.nodes]
+    for g in e.segments:
+        cross = ", ".join(f"{k} {1000 * v:+.1f} fF" for k, v in g.crosstalk_pf.items())
+        out.append(f"segment {g.net}: parasitic {g.parasitic_pf:.2f} pF, touch {1000 * g.touch_delta_pf:+.1f} fF"
+                   + (f", neighbours {cross}" if cross else ""))
+    p = e.position
+    if p is not None:
+        err = "-" if p.max_error_mm is None else f"{p.max_error_mm:.2f} mm"
+        dead = ", ".join(f"{a:.1f}-{b:.1f} mm" for a, b in p.dead_zones_mm) or "none"
+        out.append(f"position along {p.travel_mm:.1f} mm: largest centroid error {err}; dead zones {dead}")
+    return out
 
 
 def plot_curves(estimates: dict[str, SensorEstimate], path: Path) -> None:
@@ -201,7 +247,6 @@ def parse_sweep(text: str) -> tuple[SweepParam, list[float]]:
 
 def run(args: argparse.Namespace) -> int:
     from sensorcheck.check import build_design_for
-    from sensorcheck.physics.sensors import estimate_design, sweep
 
     design = build_design_for(args.path, getattr(args, "config", None))
     names: list[str] | None = getattr(args, "sensor", None) or None
@@ -214,11 +259,21 @@ def run(args: argparse.Namespace) -> int:
             raise ConfigError(design.config.file, "sensor", f"no sensor named {n!r} (known: {', '.join(sorted(known))})")
     fmt = getattr(args, "format", "text")
     sweep_text = getattr(args, "sweep", None)
+    from sensorcheck.cluster import executor_for
+
+    with executor_for(getattr(args, "scheduler", None)) as executor:
+        return _run(args, design, names, known, fmt, sweep_text, executor)
+
+
+def _run(args: argparse.Namespace, design: Any, names: list[str] | None, known: dict[str, Any], fmt: str,
+         sweep_text: str | None, executor: Any) -> int:
+    from sensorcheck.physics.sensors import estimate_design, sweep
+
     if sweep_text:
         param, values = parse_sweep(sweep_text)
         results: dict[str, Any] = {}
         for n in names or sorted(known):
-            series = sweep(design, known[n], param, values)
+            series = sweep(design, known[n], param, values, executor=executor)
             results[n] = series
             if fmt == "text":
                 print_table({f"{n} @ {param}={v:g}": e for v, e in zip(values, series)}, sys.stdout, title=f"Sweep of {param}")
@@ -231,7 +286,7 @@ def run(args: argparse.Namespace) -> int:
     if sys.stderr.isatty():
         def progress(name: str) -> None:
             print(f"solved {name}", file=sys.stderr)
-    estimates = estimate_design(design, sensors=names, progress=progress)
+    estimates = estimate_design(design, sensors=names, progress=progress, executor=executor)
     if fmt == "json":
         json.dump(estimates_json(estimates), sys.stdout, indent=2, sort_keys=True)
         sys.stdout.write("\n")

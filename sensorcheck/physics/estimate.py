@@ -36,3 +36,53 @@ class SensorEstimate:
     #: not the most sensitive point: (height mm, value pF), far to near; and that centre (x, y) mm
     curve_centre: list[tuple[float, float]] = field(default_factory=list)
     centre_mm: tuple[float, float] | None = None
+    #: row-column matrices: every node as a scan drives it (see :class:`NodeEstimate`)
+    nodes: list["NodeEstimate"] = field(default_factory=list)
+    #: sliders and wheels: every segment as its own channel (see :class:`SegmentEstimate`)
+    segments: list["SegmentEstimate"] = field(default_factory=list)
+    #: sliders and wheels: the centroid position along the travel (see :class:`PositionResponse`)
+    position: "PositionResponse | None" = None
+
+
+@dataclass(slots=True)
+class NodeEstimate:
+    """One node of a row-column matrix as a scan drives it (every number an estimate of a model).
+
+    The node's TX line is driven, every other TX line is held at ground and the RX lines sit at
+    the receivers' virtual ground: ``cm_pf`` is the charge into RX per volt on TX, with no finger
+    (the Maxwell matrix entry ``-C[rx, tx]`` for an earthed device).
+    """
+
+    tx: str
+    rx: str
+    centre_mm: tuple[float, float]  # where the row and the column cross (the finger goes there)
+    cm_pf: float
+    touch_delta_pf: float  # Cm with the finger touching over the node centre, minus cm_pf
+    percent_change: float
+
+
+@dataclass(slots=True)
+class SegmentEstimate:
+    """One channel (segment) of a slider or wheel, scanned alone with the other segments at ground."""
+
+    net: str
+    centre_mm: tuple[float, float]
+    position_mm: float  # the segment centre's coordinate along the travel
+    parasitic_pf: float  # self capacitance to ground, no finger (the channel's baseline)
+    touch_delta_pf: float  # with the finger touching over the segment centre
+    #: neighbouring segments (net -> their delta, pF) with the finger over this segment
+    crosstalk_pf: dict[str, float] = field(default_factory=dict)
+
+
+@dataclass(slots=True)
+class PositionResponse:
+    """The finger stepped along a slider (or round a wheel) at touch and the centroid it reads."""
+
+    travel_mm: float  # from the first segment centre to the last (a wheel: its circumference)
+    cyclic: bool
+    #: (finger position mm, centroid position mm or None where no segment responds, error mm or None)
+    points: list[tuple[float, float | None, float | None]] = field(default_factory=list)
+    max_error_mm: float | None = None
+    #: (from mm, to mm) along the travel where the strongest segment's delta is below ``floor_pf``
+    dead_zones_mm: list[tuple[float, float]] = field(default_factory=list)
+    floor_pf: float = 0.0

@@ -21,7 +21,7 @@ from __future__ import annotations
 import copy
 import os
 from collections.abc import Callable
-from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures import Executor, ProcessPoolExecutor
 from dataclasses import dataclass, replace
 from typing import Any, Literal
 
@@ -415,6 +415,16 @@ class SensorModel:
         return self.system.with_body(body, (z_lo, z_hi))
 
 
+def describe(model: SensorModel) -> str:
+    """The one-line model summary every estimate of this model carries."""
+    f = model.finger
+    ground = "earthed device" if f.device_ground_coupling_pf is None else f"device ground {f.device_ground_coupling_pf:g} pF to earth"
+    return (
+        f"3-D boundary elements (collocation, layered-media images); finger {f.contact_diameter_mm:g} mm x "
+        f"{f.length_mm:g} mm cylinder, body {f.body_capacitance_pf:g} pF, {ground}; overlay {model.overlay.thickness_mm:g} mm"
+    )
+
+
 def _roles_of(sensor: Sensor, conductors: list[Conductor]) -> tuple[Literal["mutual", "self"], dict[str, list[int]]]:
     idx = {c.name: i for i, c in enumerate(conductors)}
     tx = [idx[e.net] for e in sensor.electrodes_with("transmitter") if e.net in idx]
@@ -457,6 +467,8 @@ def build_model(
         ("interior", replace(opts, window_mm=opts.window_mm * 0.6, h_near_mm=h_near * 1.6, h_far_mm=opts.h_far_mm * 1.6)),
         ("edges", replace(opts, window_mm=opts.window_mm * 0.4, h_near_mm=h_near * 2.0, h_far_mm=opts.h_far_mm * 2.0, edge_band=False)),
     ]
+    # last: the same mesh sizes with the grounded copper's unresolved detail removed (physics/coarsen.py)
+    steps.append(("detail", steps[-1][1]))
     # each step's panels are estimated first (mesh.estimate_panels, cheap): a step whose estimate
     # is over ESTIMATE_FACTORS[1] x the limit is surely over the limit and is not meshed, so a huge
     # sensor is refused before any meshing; the others are meshed and counted exactly
@@ -466,6 +478,11 @@ def build_model(
         window = box(x0 - w, y0 - w, x1 + w, y1 + w)
         trial_notes = list(notes)
         conductors = gather_conductors(design, sensor, window, trial_notes)
+        if what == "detail":
+            from sensorcheck.physics.coarsen import coarsen_ground
+
+            conductors, detail_note = coarsen_ground(conductors, cur.h_edge_mm / cur.refine)
+            trial_notes.append(detail_note)
         guess = estimate_conductor_panels(conductors, stack, zone, cur, overlay)
         if guess > ESTIMATE_FACTORS[1] * limits.max_mesh_panels:
             last_count = f"about {guess:.0f}", ", estimated before meshing"
@@ -478,7 +495,7 @@ def build_model(
                 notes.append(
                     f"mesh reduced to stay within {limits.max_mesh_panels} panels (window {w:g} mm"
                     + (", coarser interior panels" if what != "window" else "")
-                    + (", no thin edge rows" if what == "edges" else "")
+                    + (", no thin edge rows" if what in ("edges", "detail") else "")
                     + "): lower accuracy"
                 )
             break
@@ -592,6 +609,10 @@ def estimate_with(
     limits: Limits = DEFAULT_LIMITS,
 ) -> SensorEstimate:
     model = build_model(design, sensor, opts=opts, limits=limits)
+    if sensor.kind == "matrix" and model.kind == "mutual":
+        from sensorcheck.physics.scan import estimate_matrix
+
+        return estimate_matrix(model, heights=heights, max_height_mm=max_height_mm)
     k = len(model.conductors)
     base_f = model.value_f(model.system.c0, None)
     if base_f <= 0:
@@ -649,7 +670,7 @@ def estimate_with(
     if model.kind == "self" and model.main.get("shield"):
         notes.append("shield net driven at the electrode's potential")
     if sensor.kind == "matrix":
-        notes.append("matrix: all rows driven and all columns sensed together (a whole-panel figure)")
+        notes.append("matrix without TX and RX lines: all its lines driven together (a whole-panel figure)")
     detection = None
     if sensor.kind == "proximity" and model.kind == "self":
         detection = _hand_range(model, bx, by, base_f)
@@ -658,16 +679,10 @@ def estimate_with(
         )
         if detection is not None and detection >= model.opts.hand_max_height_mm:
             notes.append(f"proximity range is at least {model.opts.hand_max_height_mm:g} mm (the search stops there)")
-    f = model.finger
-    ground = "earthed device" if f.device_ground_coupling_pf is None else f"device ground {f.device_ground_coupling_pf:g} pF to earth"
-    model_text = (
-        f"3-D boundary elements (collocation, layered-media images); finger {f.contact_diameter_mm:g} mm x "
-        f"{f.length_mm:g} mm cylinder, body {f.body_capacitance_pf:g} pF, {ground}; overlay {model.overlay.thickness_mm:g} mm"
-    )
-    return SensorEstimate(
+    est = SensorEstimate(
         sensor=sensor.name,
         kind=model.kind,
-        model=model_text,
+        model=describe(model),
         baseline_pf=base_pf,
         touch_delta_pf=delta,
         percent_change=100.0 * delta / base_pf,
@@ -684,6 +699,11 @@ def estimate_with(
         curve_centre=curve_c,
         centre_mm=(float(centre.x), float(centre.y)) if curve_c else None,
     )
+    if sensor.kind in ("slider", "wheel") and model.kind == "self" and len(model.main["electrode"]) > 1:
+        from sensorcheck.physics.segments import add_segments
+
+        add_segments(model, est, max_height_mm=max_height_mm)
+    return est
 
 
 # --------------------------------------------------------------------------------------------
@@ -712,8 +732,11 @@ def estimate_design(
     workers: int | None = None,
     progress: Callable[[str], None] | None = None,
     errors: list[str] | None = None,
+    executor: Executor | None = None,
 ) -> dict[str, SensorEstimate]:
     """Estimates for the design's sensors (or those named), in parallel across processes.
+
+    ``executor``: run the sensors there instead (a Dask cluster, :mod:`sensorcheck.cluster`).
 
     Errors of one sensor (bad copper, over the mesh budget) are raised as one InputError after
     the others ran; pass ``errors`` (a list) to collect their messages there instead and keep
@@ -731,8 +754,8 @@ def estimate_design(
     n_workers = min(workers or os.cpu_count() or 1, len(jobs)) if jobs else 1
     results: dict[str, SensorEstimate] = {}
     failed: list[str] = errors if errors is not None else []
-    if n_workers <= 1:
-        done = map(_one, jobs)
+    if executor is not None or n_workers <= 1:
+        done = map(_one, jobs) if executor is None else executor.map(_one, jobs)
         for name, res in done:
             _collect(name, res, results, failed, progress)
     else:
@@ -802,9 +825,15 @@ def sweep(
     values: list[float],
     *,
     heights: int = 6,
+    executor: Executor | None = None,
 ) -> list[SensorEstimate]:
-    """How a sensor's numbers change with the overlay's thickness or permittivity."""
-    return [estimate_sensor(with_overlay(design, param, v), sensor, heights=heights) for v in values]
+    """How a sensor's numbers change with the overlay's thickness or permittivity (on ``executor`` when given)."""
+    designs = [with_overlay(design, param, v) for v in values]
+    if executor is None:
+        return [estimate_sensor(d, sensor, heights=heights) for d in designs]
+    from sensorcheck.cluster import map_ordered
+
+    return map_ordered(executor, estimate_sensor, [((d, sensor), {"heights": heights}) for d in designs])
 
 
 __all__ = [

@@ -157,9 +157,11 @@ class ParasiticAboveLimit(Rule):
     """The estimated parasitic capacitance exceeds the controller's limit.
 
     What it checks:
-        For every sensor whose estimate has a parasitic capacitance (electrode, trace and vias to
+        For every channel whose estimate has a parasitic capacitance (electrode, trace and vias to
         ground), that value plus ``[controller] pin_capacitance_pf`` against
-        ``[controller] max_parasitic_pf``: above it is an error.
+        ``[controller] max_parasitic_pf``: above it is an error.  A slider or wheel is judged
+        segment by segment (each segment is a channel, scanned with the others at ground), not
+        as one lumped electrode.
     Why it matters:
         Beyond its range the controller cannot calibrate the channel, and below it the signal is
         the touch delta over this total.
@@ -186,20 +188,23 @@ class ParasiticAboveLimit(Rule):
         ctrl = design.config.controller
         limit = float(ctrl["max_parasitic_pf"])
         pin = ctrl.get("pin_capacitance_pf")
+        pin_text = f"pin {fmt(float(pin))} pF" if pin is not None else "pin capacitance not given (0 pF used)"
         for s in design.sensors:
             est = estimates.get(s.name)
             if est is None or est.parasitic_pf is None:
                 continue
-            total = est.parasitic_pf + float(pin or 0.0)
-            if total <= limit + params["margin_pf"]:
-                continue
-            pin_text = f"pin {fmt(float(pin))} pF" if pin is not None else "pin capacitance not given (0 pF used)"
-            yield finding(
-                "error",
-                f"estimated parasitic capacitance of {s.name} is {fmt(total)} pF ({fmt(est.parasitic_pf)} pF board + "
-                f"{pin_text}); controller limit {fmt(limit, 1)} pF (estimate: {est.model})",
-                value=total, limit=limit, unit="pF", layer=s.layer, geom=union([s.outline]), nets=s.nets, sensor=s.name,
-            )
+            # a slider or wheel: every segment is a channel of its own
+            channels = [(f"{s.name} channel {g.net}", g.parasitic_pf, (g.net,)) for g in getattr(est, "segments", None) or []]
+            for what, board_pf, nets in channels or [(s.name, est.parasitic_pf, s.nets)]:
+                total = board_pf + float(pin or 0.0)
+                if total <= limit + params["margin_pf"]:
+                    continue
+                yield finding(
+                    "error",
+                    f"estimated parasitic capacitance of {what} is {fmt(total)} pF ({fmt(board_pf)} pF board + "
+                    f"{pin_text}); controller limit {fmt(limit, 1)} pF (estimate: {est.model})",
+                    value=total, limit=limit, unit="pF", layer=s.layer, geom=union([s.outline]), nets=nets, sensor=s.name,
+                )
 
 
 RULES: tuple[type[Rule], ...] = (Turnaround, TouchBelowFloor, ParasiticAboveLimit)

@@ -102,3 +102,20 @@ def test_run_prints_table_and_writes_figure(tmp_path: Path, monkeypatch: pytest.
     out = capsys.readouterr().out
     assert "estimates" in out.lower() and "K1" in out and "measure a prototype" in out
     assert (tmp_path / "c.png").exists()
+
+
+def test_nodes_segments_and_position_are_shown_and_in_json() -> None:
+    from sensorcheck.physics.estimate import NodeEstimate, PositionResponse, SegmentEstimate
+
+    e = _est()
+    e.nodes = [NodeEstimate("TX1", "RX2", (1.0, 2.0), 0.5, -0.05, -10.0)]
+    e.segments = [SegmentEstimate("S1", (0.0, 0.0), 0.0, 6.5, 0.3, {"S2": 0.04})]
+    e.position = PositionResponse(20.0, False, [(0.0, 0.3, 0.3), (10.0, None, None)], 0.3, [(10.0, 10.0)], 0.1)
+    lines = cmd.channel_lines(e)
+    assert lines[0] == "node TX1/RX2: Cm 0.500 pF, touch -50.0 fF (-10.0 %)"
+    assert lines[1] == "segment S1: parasitic 6.50 pF, touch +300.0 fF, neighbours S2 +40.0 fF"
+    assert lines[2] == "position along 20.0 mm: largest centroid error 0.30 mm; dead zones 10.0-10.0 mm"
+    j = cmd.estimates_json({"K1": e})["estimates"][0]
+    assert j["nodes"][0]["tx"] == "TX1" and j["segments"][0]["crosstalk_pf"] == {"S2": 0.04}
+    assert j["position"]["points"][1] == [10.0, None, None] and j["position"]["dead_zones_mm"] == [[10.0, 10.0]]
+    assert "nodes" not in cmd.estimates_json({"K1": _est()})["estimates"][0]  # only where estimated

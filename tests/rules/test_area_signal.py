@@ -86,3 +86,17 @@ def test_parasitic_above_limit() -> None:
     assert run_one("signal.parasitic-above-limit", node_over_ground(), {"K1": est(parasitic=20.0)}) == []
     (g,) = run_one("signal.parasitic-above-limit", node_over_ground(pin=None), {"K1": est(parasitic=31.0)})
     assert "pin capacitance not given" in g.message
+
+
+def test_parasitic_above_limit_per_slider_channel() -> None:
+    from sensorcheck.physics.estimate import SegmentEstimate
+
+    # issue 10: a slider is judged channel by channel, not as one lumped electrode (24 pF lumped,
+    # 8 pF per segment: no channel is over the 30 pF limit with the 5 pF pin)
+    lumped = est(parasitic=24.3, kind="self")
+    lumped.segments = [SegmentEstimate(f"S{i}", (0.0, 0.0), 5.0 * i, 8.0, 0.5) for i in range(3)]
+    assert run_one("signal.parasitic-above-limit", node_over_ground(), {"K1": lumped}) == []
+    # one channel over the limit: one finding that names it
+    lumped.segments[1].parasitic_pf = 26.0
+    (f,) = run_one("signal.parasitic-above-limit", node_over_ground(), {"K1": lumped})
+    assert "channel S1" in f.message and f.value == pytest.approx(31.0) and f.nets == ("S1",)
