@@ -89,11 +89,13 @@ def build_design_for(path: str | Path, config_file: Path | None = None, *, layer
     return design
 
 
-def _design_and_config(path: Path, config_file: Path | None, layer_map: dict[str, str],
-                       progress: Progress | None, strict: bool = False) -> tuple[Any, Any]:
+def board_for(path: Path, config_file: Path | None, layer_map: Mapping[str, str],
+              progress: Progress | None = None, strict: bool = False) -> tuple[Any, Any]:
+    """Read the config (given, or found beside or above ``path``) and the board as it tells:
+    its file map, limits, stackup and confirmed copper-layer count.  Used by ``check``,
+    ``estimate`` and ``layers``, so that a config reads the files the same way for all three."""
     from sensorcheck.board.build import load_board
     from sensorcheck.design.config import find_config, load_config
-    from sensorcheck.design.sensors import build_design
     from sensorcheck.rules.engine import known_rules
 
     if config_file is None:
@@ -110,7 +112,14 @@ def _design_and_config(path: Path, config_file: Path | None, layer_map: dict[str
         kwargs["stackup_override"] = config.stackup_override
     if getattr(config, "copper_layers", None) is not None:
         kwargs["copper_layers"] = config.copper_layers
-    board = load_board(path, **kwargs)
+    return load_board(path, **kwargs), config
+
+
+def _design_and_config(path: Path, config_file: Path | None, layer_map: dict[str, str],
+                       progress: Progress | None, strict: bool = False) -> tuple[Any, Any]:
+    from sensorcheck.design.sensors import build_design
+
+    board, config = board_for(path, config_file, layer_map, progress, strict)
     design = build_design(board, config)
     return design, config
 

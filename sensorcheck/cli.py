@@ -115,6 +115,8 @@ def _parser() -> argparse.ArgumentParser:
     lay = sub.add_parser("layers", help="show how each fabrication file was identified and read")
     lay.add_argument("path", help="folder or .zip of fabrication outputs")
     lay.add_argument("--format", choices=["text", "json"], default="text")
+    lay.add_argument("--config", type=Path,
+                     help="board config whose [files] map and [board] copper_layers apply (default: sensorcheck.toml beside PATH or above it)")
     lay.add_argument("--layer-map", action="append", default=[], metavar="GLOB=LAYER", help=layer_map_help)
     lay.add_argument("--strict", action="store_true", help=strict_help)
 

@@ -153,11 +153,16 @@ def print_text(board: Board, out: TextIO) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from sensorcheck.board.build import load_board
+    from pathlib import Path
+
+    from sensorcheck.check import board_for
     from sensorcheck.fab.identify import parse_layer_map
 
+    # the board's config reads the files as the check does ([files], [board] copper_layers, limits)
     layer_map = parse_layer_map(list(getattr(args, "layer_map", None) or []))
-    board = load_board(args.path, layer_map=layer_map or None, strict=bool(getattr(args, "strict", False)))
+    config_file = getattr(args, "config", None)
+    board, _config = board_for(Path(args.path), Path(config_file) if config_file else None, layer_map,
+                               strict=bool(getattr(args, "strict", False)))
     if getattr(args, "format", "text") == "json":
         json.dump(board_summary(board), sys.stdout, sort_keys=True, indent=2, ensure_ascii=True)
         sys.stdout.write("\n")

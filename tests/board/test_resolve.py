@@ -283,3 +283,22 @@ def test_an_outer_copper_layer_at_the_wrong_scale_is_named(tmp_path: Path) -> No
     (tmp_path / "board.drl").write_bytes(_drill("1,2"))
     errors = _errors(load_board(tmp_path))
     assert list(errors) == ["board.GBL"] and "units disagree" in errors["board.GBL"]
+
+
+def test_layers_command_takes_the_confirmation_from_the_boards_config(tmp_path: Path,
+                                                                     capsys: pytest.CaptureFixture[str]) -> None:
+    # The same board as above (a KiCad drill span of 1-6 with 2 copper layers found): `layers` reads
+    # the sensorcheck.toml beside the files as `check` does, so the confirmation holds there too.
+    from sensorcheck.cli import main
+
+    (tmp_path / "board.GTL").write_bytes(_copper())
+    (tmp_path / "board.GBL").write_bytes(_copper())
+    (tmp_path / "board.GKO").write_bytes(_outline_plain())
+    (tmp_path / "board-PTH.drl").write_bytes(_drill("1,6"))
+    assert main(["layers", str(tmp_path)]) == 2
+    (tmp_path / "sensorcheck.toml").write_text("[board]\ncopper_layers = 2\n")
+    assert main(["layers", str(tmp_path)]) == 0
+    other = tmp_path / "elsewhere.toml"
+    other.write_text("[board]\ncopper_layers = 4\n")
+    assert main(["layers", str(tmp_path), "--config", str(other)]) == 2
+    capsys.readouterr()
