@@ -21,7 +21,6 @@ from __future__ import annotations
 import copy
 import os
 from collections.abc import Callable
-from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, replace
 from typing import Any, Literal
 
@@ -36,6 +35,7 @@ from sensorcheck.errors import ConfigError, InputError, LimitError
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
+from sensorcheck.physics.fingerprint import centre_note
 from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, mutual_f, self_f, turning_point, validate_finger
 from sensorcheck.physics.greens import LayeredMedium
 from sensorcheck.physics.mesh import ESTIMATE_FACTORS, MeshSpec, cylinder_panels, estimate_panels, flat_panels
@@ -411,7 +411,7 @@ class SensorModel:
         body = finger_panels(self.finger, x_mm, y_mm, z_b, self.opts, coarse)
         z_lo = self.stack.surface_m + self.opts.touch_gap_mm * MM
         z_hi = self.stack.surface_m + (max(max_h_mm, h_mm) + self.finger.length_mm + 1.0) * MM
-        return self.system.with_body(body, (z_lo, z_hi))
+        return self.system.with_body(body, (z_lo, z_hi), self_key=("finger", repr(self.finger), repr(self.opts), coarse, z_b))
 
 
 def _roles_of(sensor: Sensor, conductors: list[Conductor]) -> tuple[Literal["mutual", "self"], dict[str, list[int]]]:
@@ -627,11 +627,7 @@ def estimate_with(
         tp_c = turning_point(curve_c, base_pf)
         if tp_c is not None and (tp is None or tp_c > tp):
             tp = tp_c
-            extra_notes.append(
-                f"turning point from the approach over the node centre ({centre.x:.1f}, {centre.y:.1f}) mm; "
-                f"over the most sensitive point ({bx:.1f}, {by:.1f}) mm the signal "
-                + ("turns lower" if turning_point(curve, base_pf) is not None else "does not turn")
-            )
+            extra_notes.append(centre_note((centre.x, centre.y), (bx, by), turning_point(curve, base_pf) is not None))
     cross: dict[str, float] = {}
     for name, which in _neighbour_channels(model).items():
         b = model.value_f(model.system.c0, None, which)
@@ -726,52 +722,20 @@ def estimate_design(
     opts = design.config.estimate
     heights = int(opts.get("heights", 12))
     max_h = float(opts.get("max_height_mm", 20.0))
-    jobs = [(design, n, heights, max_h) for n in names]
-    n_workers = min(workers or os.cpu_count() or 1, len(jobs)) if jobs else 1
+    from sensorcheck.physics.schedule import solve_sensors
+
     results: dict[str, SensorEstimate] = {}
     failed: list[str] = errors if errors is not None else []
-    if n_workers <= 1:
-        done = map(_one, jobs)
-        for name, res in done:
-            _collect(name, res, results, failed, progress)
-    else:
-        saved = {k: os.environ.get(k) for k in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")}
-        try:
-            for k in saved:
-                os.environ[k] = "1"  # one BLAS thread per worker process: the processes share the cores
-            import multiprocessing as mp
-
-            with ProcessPoolExecutor(max_workers=n_workers, mp_context=mp.get_context("spawn")) as pool:
-                futures = [pool.submit(_one, j) for j in jobs]
-                for k, v in saved.items():
-                    if v is None:
-                        os.environ.pop(k, None)
-                    else:
-                        os.environ[k] = v
-                for job, fut in zip(jobs, futures):
-                    try:
-                        name, res = fut.result()
-                    except Exception as exc:  # noqa: BLE001 - a dead worker loses only its own sensor
-                        name, res = job[1], f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
-                    _collect(name, res, results, failed, progress)
-        finally:
-            for k, v in saved.items():
-                if v is None:
-                    os.environ.pop(k, None)
-                else:
-                    os.environ[k] = v
+    outcomes = solve_sensors(design, names, heights=heights, max_h=max_h,
+                             workers=workers or os.cpu_count() or 1, progress=progress)
+    for name, res in outcomes.items():
+        if isinstance(res, str):
+            failed.append(f"{name}: {res}")
+        else:
+            results[name] = res
     if failed and errors is None:
         raise InputError(design.board.source, None, "; ".join(failed), "sensors the field solver can model")
     return results
-
-
-def _collect(name: str, res: SensorEstimate | str, results: dict[str, SensorEstimate], errors: list[str], progress: Callable[[str], None] | None) -> None:
-    if isinstance(res, str):
-        errors.append(f"{name}: {res}")
-    else:
-        results[name] = res
-    if progress is not None:
-        progress(name)
 
 
 def with_overlay(design: Design, param: Literal["overlay_thickness_mm", "overlay_epsilon_r"], value: float) -> Design:
