@@ -35,6 +35,7 @@ from sensorcheck.errors import ConfigError, InputError, LimitError
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
+from sensorcheck.physics.approach import ADAPT_REL_TOL, adaptive_curve
 from sensorcheck.physics.fingerprint import centre_note
 from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, mutual_f, self_f, turning_point, validate_finger
 from sensorcheck.physics.greens import LayeredMedium
@@ -71,6 +72,7 @@ class SolverOptions:
     proximity_floor_pf: float = 0.01  # assumption: a resolvable change of 10 fF; a parameter
     hand_diameter_mm: float = 80.0  # hand-sized target for proximity range (stated model choice)
     hand_max_height_mm: float = 200.0
+    adaptive_heights: bool = True  # solve the approach heights where the curve bends (physics/approach.py)
 
     @classmethod
     def from_config(cls, options: dict[str, Any]) -> "SolverOptions":
@@ -526,6 +528,23 @@ def approach_heights(n: int, max_height_mm: float) -> list[float]:
     return [float(h) for h in far] + [0.0]
 
 
+def _approach(model: SensorModel, x: float, y: float, hs: list[float], base_pf: float, max_h_mm: float,
+              mats: dict[float, np.ndarray]) -> tuple[list[tuple[float, float]], int]:
+    """The approach curve over (x, y) at the heights ``hs``: every height solved, or (the default,
+    ``SolverOptions.adaptive_heights``) those :func:`sensorcheck.physics.approach.adaptive_curve` picks.
+    Returns the curve (pF) and the number of heights solved; ``mats`` receives the solved Maxwell matrices."""
+    k = len(model.conductors)
+
+    def at(h: float) -> float:
+        c = mats[h] = model.with_finger(x, y, h, max_h_mm=max_h_mm)
+        return model.value_f(c, k) / PF
+
+    if not model.opts.adaptive_heights:
+        return [(h, at(h)) for h in hs], len(hs)
+    curve, solved = adaptive_curve(at, hs, base_pf)
+    return curve, sum(solved)
+
+
 def _neighbour_channels(model: SensorModel) -> dict[str, dict[str, list[int]]]:
     out: dict[str, dict[str, list[int]]] = {}
     design = model.design
@@ -605,14 +624,11 @@ def estimate_with(
         bx, by, _ = max(search, key=lambda t: abs(t[2]))
     else:
         bx, by = cands[0]
-    curve: list[tuple[float, float]] = []
-    c_touch: np.ndarray | None = None
-    for h in approach_heights(heights, max_height_mm):
-        c = model.with_finger(bx, by, h, max_h_mm=max_height_mm)
-        curve.append((h, model.value_f(c, k) / PF))
-        c_touch = c
-    assert c_touch is not None
     base_pf = base_f / PF
+    hs = approach_heights(heights, max_height_mm)
+    mats: dict[float, np.ndarray] = {}
+    curve, n_solved = _approach(model, bx, by, hs, base_pf, max_height_mm, mats)
+    c_touch = mats[hs[-1]]
     touch_pf = curve[-1][1]
     delta = touch_pf - base_pf
     tp = turning_point(curve, base_pf)
@@ -622,8 +638,8 @@ def estimate_with(
     curve_c: list[tuple[float, float]] = []
     extra_notes: list[str] = []
     if np.hypot(centre.x - bx, centre.y - by) > 1.0:
-        for h in approach_heights(heights, max_height_mm):
-            curve_c.append((h, model.value_f(model.with_finger(centre.x, centre.y, h, max_h_mm=max_height_mm), k) / PF))
+        curve_c, n_c = _approach(model, centre.x, centre.y, hs, base_pf, max_height_mm, {})
+        n_solved += n_c
         tp_c = turning_point(curve_c, base_pf)
         if tp_c is not None and (tp is None or tp_c > tp):
             tp = tp_c
@@ -641,6 +657,10 @@ def estimate_with(
             t = model.value_f(c_touch, k, w)
             channels[model.conductors[i].name] = (b / PF, (t - b) / PF)
     notes = list(model.notes) + extra_notes
+    n_curve = len(hs) * (2 if curve_c else 1)
+    if n_solved < n_curve:
+        notes.append(f"approach: {n_solved} of {n_curve} heights solved, the others interpolated where the curve is "
+                     f"smooth (within {100 * ADAPT_REL_TOL:g} % of the signal swing, by comparing two interpolants)")
     if model.kind == "self" and model.main.get("shield"):
         notes.append("shield net driven at the electrode's potential")
     if sensor.kind == "matrix":
