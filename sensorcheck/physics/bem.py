@@ -477,20 +477,24 @@ class BoardSystem:
             p_bf[idx, :] = (body.area[:, None] * (g + (body.m2 * horiz)[:, None] / 4.0 * lap)).T
         return p_bf, p_fb
 
-    def with_body(self, body: Panels, z_range: tuple[float, float], self_key: tuple[object, ...] | None = None) -> np.ndarray:
+    def with_body(self, body: Panels, z_range: tuple[float, float], self_key: tuple[object, ...] | None = None,
+                  body_at_origin: Panels | None = None) -> np.ndarray:
         """Maxwell matrix (F) of the board conductors plus one floating body (last row/column).
 
-        ``self_key``: names the body's shape and height (not its x, y): the body's own block does
-        not change when it moves sideways over the layered medium, so bodies of one key share it.
+        ``self_key`` names the body's shape and height (not its x, y), and ``body_at_origin`` is the
+        same body moved sideways to x = y = 0: the body's own block does not change when it moves
+        sideways over the layered medium, so bodies of one key share the block made at the origin
+        (the same numbers whichever position came first).
         """
         obs = body.centroid
         obs_layer = int(self.medium.layer_of(obs[:, 2].min())[0])
         m = self.medium
 
         def own() -> np.ndarray:
-            return general_block(obs, body, pruned(m.images(obs_layer, obs_layer), BODY_IMAGE_TOL))
+            src = body if body_at_origin is None else body_at_origin
+            return general_block(src.centroid, src, pruned(m.images(obs_layer, obs_layer), BODY_IMAGE_TOL))
 
-        d = own() if self_key is None else _cached(("body", m.eps_r, m.interfaces_m, m.ground_below, m.tol, *self_key), own)
+        d = own() if self_key is None or body_at_origin is None else _cached(("body", m.eps_r, m.interfaces_m, m.ground_below, m.tol, *self_key), own)
         b, cc = self.body_coupling(obs, body, z_range)
         w = sla.lu_solve(self.lu, b, check_finite=False)  # A^-1 B
         sch = d - cc @ w

@@ -357,12 +357,27 @@ def mesh_conductors(
     return Panels(np.concatenate(parts), np.concatenate(conds))
 
 
+#: finger meshes at the origin, per process: a finger moved sideways is the same mesh moved
+_FINGER_MESHES: dict[tuple[object, ...], np.ndarray] = {}
+
+
 def finger_panels(finger: Finger, x_mm: float, y_mm: float, z_bottom_m: float, opts: SolverOptions, coarse: bool = False) -> Panels:
+    key = (repr(finger), repr(opts), coarse, z_bottom_m)
+    v = _FINGER_MESHES.get(key)
+    if v is None:
+        if len(_FINGER_MESHES) > 200:
+            _FINGER_MESHES.clear()
+        v = _FINGER_MESHES[key] = _finger_mesh(finger, z_bottom_m, opts, coarse)
+    return Panels(v + np.array([x_mm * MM, y_mm * MM, 0.0]), np.zeros(len(v), dtype=int))
+
+
+def _finger_mesh(finger: Finger, z_bottom_m: float, opts: SolverOptions, coarse: bool) -> np.ndarray:
+    """The finger's cylinder standing at x = y = 0 (metres)."""
     f = 2.0 if coarse else 1.0
     sides = max(12, int(round(opts.finger_sides * (opts.refine if not coarse else 0.67))))
     v = cylinder_panels(
-        x_mm * MM,
-        y_mm * MM,
+        0.0,
+        0.0,
         z_bottom_m,
         finger.contact_diameter_mm / 2.0 * MM,
         finger.length_mm * MM,
@@ -370,7 +385,7 @@ def finger_panels(finger: Finger, x_mm: float, y_mm: float, z_bottom_m: float, o
         h_max=opts.finger_max_mm * f / opts.refine * MM,
         n_theta=sides,
     )
-    return Panels(v, np.zeros(len(v), dtype=int))
+    return v
 
 
 # --------------------------------------------------------------------------------------------
@@ -413,7 +428,8 @@ class SensorModel:
         body = finger_panels(self.finger, x_mm, y_mm, z_b, self.opts, coarse)
         z_lo = self.stack.surface_m + self.opts.touch_gap_mm * MM
         z_hi = self.stack.surface_m + (max(max_h_mm, h_mm) + self.finger.length_mm + 1.0) * MM
-        return self.system.with_body(body, (z_lo, z_hi), self_key=("finger", repr(self.finger), repr(self.opts), coarse, z_b))
+        return self.system.with_body(body, (z_lo, z_hi), self_key=("finger", repr(self.finger), repr(self.opts), coarse, z_b),
+                                     body_at_origin=finger_panels(self.finger, 0.0, 0.0, z_b, self.opts, coarse))
 
 
 def _roles_of(sensor: Sensor, conductors: list[Conductor]) -> tuple[Literal["mutual", "self"], dict[str, list[int]]]:
