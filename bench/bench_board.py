@@ -21,6 +21,9 @@ point within 0.1 mm).  Timings depend on the machine's load: the load average is
 
     python bench/bench_board.py [--cases b06,b02,b04,touchpad] [--touchpad 10x16] [--sizes]
     python bench/bench_board.py --write-reference --cases b06 ...
+
+``CASE:N`` (e.g. ``b02:2``) reads the board and estimates only its first N sensors (no rules): a
+part of a board whose full reference run costs too much on a shared machine.
 """
 
 from __future__ import annotations
@@ -85,23 +88,38 @@ def estimate_values(summary_estimate: dict[str, Any]) -> dict[str, Any]:
 
 
 def run_one(case: str, out: Path) -> None:
-    """Child process: one full check with estimates; writes times, memory and the estimates."""
-    from sensorcheck.check import CheckOptions, check_board
+    """Child process: one full check with estimates (or, for ``CASE:N``, reading and the estimates
+    of the first N sensors only); writes times, memory and the estimates."""
+    from sensorcheck.check import CheckOptions, build_design_for, check_board
 
+    base, _, first = case.partition(":")
     with tempfile.TemporaryDirectory() as tmp:
-        fab, cfg = case_paths(case, Path(tmp))
+        fab, cfg = case_paths(base, Path(tmp))
         lines: list[str] = []
         t0, c0 = time.perf_counter(), time.process_time()
-        result = check_board(fab, CheckOptions(config_file=cfg, estimate=True), progress=lines.append)
+        if first:
+            from sensorcheck.physics.sensors import estimate_design
+
+            design = build_design_for(fab, cfg)
+            names = [s.name for s in design.sensors][: int(first)]
+            errors: list[str] = []
+            est = estimate_design(design, sensors=names, errors=errors)
+            estimates = {n: estimate_values({"baseline_pf": e.baseline_pf, "touch_delta_pf": e.touch_delta_pf,
+                                             "percent_change": e.percent_change, "turning_point_mm": e.turning_point_mm,
+                                             "crosstalk_pf": e.crosstalk_pf}) for n, e in est.items()}
+            n_sensors, missing, findings = len(names), [n for n in names if n not in est], []
+        else:
+            result = check_board(fab, CheckOptions(config_file=cfg, estimate=True), progress=lines.append)
+            estimates = {s.name: estimate_values(s.estimate) for s in result.sensors if s.estimate is not None}
+            n_sensors, missing = len(result.sensors), [s.name for s in result.sensors if s.estimate is None]
+            errors = [f.message for f in result.findings if f.rule_id.startswith(("internal.", "estimate.", "input."))]
+            findings = sorted([f.rule_id, f.severity, f.sensor or "", f.message] for f in result.findings)
         wall = time.perf_counter() - t0
     me, kids = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
     cpu = time.process_time() - c0 + kids.ru_utime + kids.ru_stime
-    estimates = {s.name: estimate_values(s.estimate) for s in result.sensors if s.estimate is not None}
-    missing = [s.name for s in result.sensors if s.estimate is None]
     out.write_text(json.dumps({
         "case": case, "wall_s": wall, "cpu_s": cpu, "rss_mb": max(me.ru_maxrss, kids.ru_maxrss) / 1024.0,
-        "sensors": len(result.sensors), "estimates": estimates, "missing": missing,
-        "errors": [f.message for f in result.findings if f.rule_id.startswith(("internal.", "estimate.", "input."))],
+        "sensors": n_sensors, "estimates": estimates, "missing": missing, "errors": errors, "findings": findings,
     }, indent=1, sort_keys=True))
 
 
@@ -149,6 +167,7 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--sizes", action="store_true", help="CPU time exponent over four touchpad sizes")
     ap.add_argument("--write-reference", action="store_true")
     ap.add_argument("--reference", type=Path, default=REFERENCE)
+    ap.add_argument("--findings", type=Path, help="also write each case's findings (rule, severity, sensor, message) here")
     ap.add_argument("--one", help=argparse.SUPPRESS)
     ap.add_argument("--out", type=Path, help=argparse.SUPPRESS)
     args = ap.parse_args(argv)
@@ -162,10 +181,13 @@ def main(argv: list[str] | None = None) -> int:
     head = f"{'case':16s} {'sensors':>7s} {'wall s':>8s} {'CPU s':>8s} {'RSS MB':>7s} {'wall/s':>7s} {'CPU/s':>7s}"
     rows: list[str] = []
     for case in cases:
-        if case in BOARDS and not (CORPUS / BOARDS[case][0]).exists():
+        if case.partition(":")[0] in BOARDS and not (CORPUS / BOARDS[case.partition(":")[0]][0]).exists():
             print(f"{case}: ../shared/corpus absent, skipped")
             continue
         run = measure(case)
+        if args.findings is not None:
+            args.findings.mkdir(parents=True, exist_ok=True)
+            (args.findings / f"{case}.json").write_text(json.dumps(run["findings"], indent=1) + "\n")
         n = max(run["sensors"], 1)
         rows.append(f"{case:16s} {run['sensors']:7d} {run['wall_s']:8.1f} {run['cpu_s']:8.1f} {run['rss_mb']:7.0f} "
                     f"{run['wall_s'] / n:7.2f} {run['cpu_s'] / n:7.2f}")

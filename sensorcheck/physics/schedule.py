@@ -98,10 +98,17 @@ def _keys(design: "Design", names: list[str], heights: int, max_h: float) -> tup
 def solve_sensors(design: "Design", names: list[str], *, heights: int, max_h: float, workers: int,
                   progress: Progress | None = None) -> dict[str, Any]:
     """name -> SensorEstimate, or the error text of that sensor; in the order of ``names``."""
+    t0 = time.perf_counter()
+    n_workers = min(workers, len(names))
+    with _Pool(design, n_workers) as pool:  # started first: the workers import while the fingerprints are made
+        return _solve(design, names, heights, max_h, pool, progress, t0)
+
+
+def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool: "_Pool", progress: Progress | None,
+           t0: float) -> dict[str, Any]:
     from sensorcheck.physics.fingerprint import translated
     from sensorcheck.physics.sensors import _one
 
-    t0 = time.perf_counter()
     keys, stack_notes = _keys(design, names, heights, max_h)
     groups: dict[str, list[str]] = {}
     reps: list[str] = []
@@ -153,14 +160,13 @@ def solve_sensors(design: "Design", names: list[str], *, heights: int, max_h: fl
         state["to_solve"] += len(own)
         return own
 
-    n_workers = min(workers, len(reps)) if reps else 1
-    if n_workers <= 1:
+    if pool.executor is None or len(reps) <= 1:
         queue = list(reps)
         while queue:
             n = queue.pop(0)
             queue.extend(finished(n, _one((design, n, heights, max_h))[1]))
     else:
-        _pool_solve(design, reps, heights, max_h, n_workers, finished)
+        _pool_solve(pool.executor, reps, heights, max_h, finished)
     if progress is not None:
         solved = state["solved"]
         progress(f"estimates done: {total} sensors ({solved} solved, {total - solved} from identical windows) "
@@ -168,34 +174,60 @@ def solve_sensors(design: "Design", names: list[str], *, heights: int, max_h: fl
     return {n: results[n] for n in names}
 
 
-def _pool_solve(design: "Design", reps: list[str], heights: int, max_h: float, n_workers: int,
-                finished: Callable[[str, Any], list[str]]) -> None:
-    import multiprocessing as mp
+class _Pool:
+    """A spawn process pool with one BLAS thread per worker and the design sent once; none for one worker."""
 
-    from sensorcheck.physics.sensors import INTERNAL_PREFIX
+    def __init__(self, design: "Design", n_workers: int) -> None:
+        self.design = design
+        self.n = n_workers
+        self.executor: ProcessPoolExecutor | None = None
+        self.saved: dict[str, str | None] = {}
 
-    names = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
-    saved = {k: os.environ.get(k) for k in names}
-    try:
-        for k in names:
+    def __enter__(self) -> "_Pool":
+        if self.n <= 1:
+            return self
+        import multiprocessing as mp
+
+        self.saved = {k: os.environ.get(k) for k in BLAS_THREADS}
+        for k in BLAS_THREADS:
             os.environ[k] = "1"  # one BLAS thread per worker process: the processes share the cores
-        with ProcessPoolExecutor(max_workers=n_workers, mp_context=mp.get_context("spawn"),
-                                 initializer=_init_worker, initargs=(design,)) as pool:
-            pending: dict[Future[tuple[str, Any]], str] = {pool.submit(_solve_in_worker, (n, heights, max_h)): n for n in reps}
-            while pending:
-                done, _ = wait(pending, return_when=FIRST_COMPLETED)
-                # in the order asked, not the order finished: the same twins get the same representative
-                for fut in sorted(done, key=lambda f: reps.index(pending[f]) if pending[f] in reps else len(reps)):
-                    name = pending.pop(fut)
-                    try:
-                        _, res = fut.result()
-                    except Exception as exc:  # noqa: BLE001 - a dead worker loses only its own sensor
-                        res = f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
-                    for t in finished(name, res):
-                        pending[pool.submit(_solve_in_worker, (t, heights, max_h))] = t
-    finally:
-        for k, v in saved.items():
+        self.executor = ProcessPoolExecutor(max_workers=self.n, mp_context=mp.get_context("spawn"),
+                                            initializer=_init_worker, initargs=(self.design,))
+        for _ in range(self.n):
+            self.executor.submit(_warm)
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        if self.executor is not None:
+            self.executor.shutdown(wait=True, cancel_futures=True)
+        for k, v in self.saved.items():
             if v is None:
                 os.environ.pop(k, None)
             else:
                 os.environ[k] = v
+
+
+BLAS_THREADS = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
+
+
+def _warm() -> None:
+    import sensorcheck.physics.sensors  # noqa: F401  (the import is the work: done while the parent makes fingerprints)
+
+
+def _pool_solve(pool: ProcessPoolExecutor, reps: list[str], heights: int, max_h: float,
+                finished: Callable[[str, Any], list[str]]) -> None:
+    from sensorcheck.physics.sensors import INTERNAL_PREFIX
+
+    pending: dict[Future[tuple[str, Any]], str] = {pool.submit(_solve_in_worker, (n, heights, max_h)): n for n in reps}
+    order = {n: i for i, n in enumerate(reps)}
+    while pending:
+        done, _ = wait(pending, return_when=FIRST_COMPLETED)
+        # in the order asked, not the order finished: the same twins get the same representative
+        for fut in sorted(done, key=lambda f: order.get(pending[f], len(reps))):
+            name = pending.pop(fut)
+            try:
+                _, res = fut.result()
+            except Exception as exc:  # noqa: BLE001 - a dead worker loses only its own sensor
+                res = f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
+            for t in finished(name, res):
+                pending[pool.submit(_solve_in_worker, (t, heights, max_h))] = t
