@@ -188,6 +188,9 @@ def main(argv: list[str] | None = None) -> int:
         if args.findings is not None:
             args.findings.mkdir(parents=True, exist_ok=True)
             (args.findings / f"{case}.json").write_text(json.dumps(run["findings"], indent=1) + "\n")
+            (args.findings / f"{case}.run.json").write_text(json.dumps(run, indent=1, sort_keys=True) + "\n")
+        if args.reference.exists():  # read again: a reference may have been added meanwhile
+            ref_all = json.loads(args.reference.read_text())
         n = max(run["sensors"], 1)
         rows.append(f"{case:16s} {run['sensors']:7d} {run['wall_s']:8.1f} {run['cpu_s']:8.1f} {run['rss_mb']:7.0f} "
                     f"{run['wall_s'] / n:7.2f} {run['cpu_s'] / n:7.2f}")
