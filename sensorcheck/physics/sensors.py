@@ -8,7 +8,9 @@ Model (each estimate carries a one-line summary in ``SensorEstimate.model``):
 * the overlay layers, the board dielectrics and air above and below as a layered medium
   (:mod:`sensorcheck.physics.greens`);
 * a finger (:mod:`sensorcheck.physics.finger`) above the sensor's most sensitive point (a coarse
-  search over the node at touch), moved from ``max_height_mm`` down to the overlay surface;
+  search over the node at touch), moved from ``max_height_mm`` down to the overlay surface (the
+  heights where the curve bends or turns solved, the smooth stretches interpolated:
+  :mod:`sensorcheck.physics.approach`; the notes say how many were solved);
 * mutual sensors: Cm between TX and RX with everything else at the device ground; self sensors:
   capacitance of the electrode (plus its trace in the window) with the other copper grounded, a
   shield net driven at the electrode's potential.
