@@ -160,22 +160,6 @@ def _parser() -> argparse.ArgumentParser:
     return p
 
 
-def _progress_printer() -> tuple[object | None, "callable | None"]:  # type: ignore[valid-type]
-    """A progress callback: a live status line on a terminal, nothing when stderr is piped."""
-    if not sys.stderr.isatty():
-        return None, None
-    from rich.console import Console
-
-    console = Console(stderr=True)
-    status = console.status("reading...")
-    status.start()
-
-    def progress(message: str) -> None:
-        status.update(message)
-
-    return status, progress
-
-
 def _run_check(args: argparse.Namespace) -> int:
     from sensorcheck.check import CheckOptions, check_boards, exit_code
     from sensorcheck.report.writer import load_baseline, write_reports
@@ -198,14 +182,15 @@ def _run_check(args: argparse.Namespace) -> int:
 
         options.timestamp = dt.datetime.now(dt.timezone.utc).replace(microsecond=0).isoformat()
     from sensorcheck.cluster import executor_for
+    from sensorcheck.commands.progress import progress_printer
 
     with executor_for(args.scheduler) as executor:
-        status, progress = _progress_printer()
+        stop, progress = progress_printer(sys.stderr)
         try:
             results = check_boards(args.paths, options, workers=args.jobs, progress=progress, executor=executor)  # type: ignore[arg-type]
         finally:
-            if status is not None:
-                status.stop()  # type: ignore[attr-defined]
+            if stop is not None:
+                stop()
     detail = "quiet" if args.quiet else "verbose" if args.verbose else "normal"
     write_reports(results, specs, stdout=sys.stdout, detail=detail)
     for r in results:

@@ -282,11 +282,14 @@ def _run(args: argparse.Namespace, design: Any, names: list[str] | None, known: 
             json.dump({"sweep": param, "values": values, "sensors": payload, "disclaimer": DISCLAIMER}, sys.stdout, indent=2, sort_keys=True)
             sys.stdout.write("\n")
         return 0
-    progress = None
-    if sys.stderr.isatty():
-        def progress(name: str) -> None:
-            print(f"solved {name}", file=sys.stderr)
-    estimates = estimate_design(design, sensors=names, progress=progress, executor=executor)
+    from sensorcheck.commands.progress import progress_printer
+
+    stop, progress = progress_printer(sys.stderr)
+    try:
+        estimates = estimate_design(design, sensors=names, progress=progress, executor=executor)
+    finally:
+        if stop is not None:
+            stop()
     if fmt == "json":
         json.dump(estimates_json(estimates), sys.stdout, indent=2, sort_keys=True)
         sys.stdout.write("\n")

@@ -28,6 +28,7 @@ finger's rows and columns.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -196,7 +197,37 @@ def _merge_plane_images(images: Images, z_src: float) -> tuple[np.ndarray, np.nd
     return amp, zimg / cnt
 
 
+#: tables cached per process (keyed by their inputs, the range rounded up to RANGE_STEP): the
+#: same pair of copper planes, or the same finger height, recurs in every window of a board
+_TABLE_CACHE: dict[tuple[object, ...], object] = {}
+TABLE_CACHE_MAX = 400
+#: a table's range is rounded up to a power of this factor, so that windows of about the same
+#: size share one table (a wider range on the same number of nodes: the tables' interpolation
+#: error, far below the mesh's, changes by a few parts in a million)
+RANGE_STEP = 2.0 ** 0.25
+
+
+def _range_up(rho_max: float) -> float:
+    return float(RANGE_STEP ** np.ceil(np.log(rho_max) / np.log(RANGE_STEP)))
+
+
+def _cached(key: tuple[object, ...], make: "Callable[[], object]") -> object:
+    hit = _TABLE_CACHE.get(key)
+    if hit is None:
+        if len(_TABLE_CACHE) >= TABLE_CACHE_MAX:
+            _TABLE_CACHE.pop(next(iter(_TABLE_CACHE)))  # the oldest first
+        hit = _TABLE_CACHE[key] = make()
+    return hit
+
+
 def _radial_table(amp: np.ndarray, dz: np.ndarray, rho_max: float, n: int = 20000) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    """:func:`_radial_table_of` over a range rounded up (:data:`RANGE_STEP`), cached per process."""
+    r = _range_up(rho_max)
+    key = ("radial", amp.tobytes(), dz.tobytes(), r, n)
+    return _cached(key, lambda: _radial_table_of(amp, dz, r, n))  # type: ignore[return-value]
+
+
+def _radial_table_of(amp: np.ndarray, dz: np.ndarray, rho_max: float, n: int = 20000) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """Tabulate g(rho) = sum A/R and l(rho) = sum A (rho^2 - 2 dz^2)/R^5 on u = log(rho^2 + d0^2)."""
     d0 = float(np.min(np.abs(dz)))
     u = np.linspace(np.log(d0 * d0), np.log(rho_max * rho_max * 1.01 + d0 * d0), n)
@@ -362,7 +393,6 @@ class BoardSystem:
     x: np.ndarray = field(init=False, repr=False)  # A^-1 S
     c0: np.ndarray = field(init=False)  # Maxwell matrix without the body (F)
     groups: dict[float, np.ndarray] = field(init=False, repr=False)
-    _tables: dict[tuple[float, float, float], RectBivariateSpline] = field(default_factory=dict, init=False, repr=False)
 
     def __post_init__(self) -> None:
         groups, other = plane_groups(self.panels)
@@ -377,9 +407,16 @@ class BoardSystem:
 
     # ---- coupling between the board and a body in one layer above the board (the finger)
     def _coupling_table(self, z_plane: float, z_lo: float, z_hi: float, rho_max: float, obs_layer: int) -> tuple[RectBivariateSpline, RectBivariateSpline, float, float]:
-        key = (z_plane, round(z_lo, 12), round(z_hi, 12), round(rho_max, 9), obs_layer)
-        if key in self._tables:
-            return self._tables[key]  # type: ignore[return-value]
+        rho_max = _range_up(rho_max)
+        key = self._coupling_key(z_plane, z_lo, z_hi, rho_max, obs_layer)
+        return _cached(key, lambda: self._make_coupling_table(z_plane, z_lo, z_hi, rho_max, obs_layer))  # type: ignore[return-value]
+
+    def _coupling_key(self, z_plane: float, z_lo: float, z_hi: float, rho_max: float, obs_layer: int) -> tuple[object, ...]:
+        m = self.medium
+        return ("coupling", m.eps_r, m.interfaces_m, m.ground_below, m.tol, round(z_plane, 12), round(z_lo, 12),
+                round(z_hi, 12), rho_max, obs_layer)
+
+    def _make_coupling_table(self, z_plane: float, z_lo: float, z_hi: float, rho_max: float, obs_layer: int) -> tuple[RectBivariateSpline, RectBivariateSpline, float, float]:
         ls = int(self.medium.layer_of(z_plane)[0])
         amp, zimg = _merge_plane_images(self.medium.images(ls, obs_layer), z_plane)
         d0 = float(z_lo - zimg.max())
@@ -397,9 +434,7 @@ class BoardSystem:
         lap = (((rho2[:, None, None] - 2.0 * dz * dz) * inv**5) @ amp) * rref**3
         tg = RectBivariateSpline(u, v, g, kx=3, ky=3)
         tl = RectBivariateSpline(u, v, lap, kx=3, ky=3)
-        out = (tg, tl, d0, float(zimg.max()))
-        self._tables[key] = out  # type: ignore[assignment]
-        return out
+        return tg, tl, d0, float(zimg.max())
 
     def body_coupling(self, obs: np.ndarray, body: Panels, z_range: tuple[float, float]) -> tuple[np.ndarray, np.ndarray]:
         """(P_bf, P_fb): potentials on the board from body panels, and on the body from board panels."""
@@ -416,18 +451,20 @@ class BoardSystem:
             c = self.panels.centroid[idx]
             rho2 = (obs[:, 0][:, None] - c[None, :, 0]) ** 2 + (obs[:, 1][:, None] - c[None, :, 1]) ** 2
             rho_max = float(np.sqrt(rho2.max())) + 1e-9
+            rho_max = _range_up(rho_max)
             tg, tl, d0, ztop = self._coupling_table(zp, z_range[0], z_range[1], rho_max, obs_layer)
             # the spline evaluated once per distinct body height on a fine u grid, then linear in u
             u_lo, u_hi = np.log(d0 * d0), np.log(rho_max**2 * 1.01 + d0 * d0)
             ufine = np.linspace(u_lo, u_hi, 4000)
+            tkey = self._coupling_key(zp, z_range[0], z_range[1], rho_max, obs_layer)
             g = np.empty(rho2.shape)
             lap = np.empty(rho2.shape)
             for q in range(zvals.size):
                 rows = np.nonzero(zinv == q)[0]
                 z = obs[rows[0], 2]
-                vz = np.full(ufine.shape, np.log(z - z_range[0] + d0))
-                gt = tg.ev(ufine, vz)
-                lt = tl.ev(ufine, vz)
+                vz = float(np.log(z - z_range[0] + d0))
+                gt, lt = _cached(("fine", tkey, vz), lambda: (tg.ev(ufine, np.full(ufine.shape, vz)),  # type: ignore[misc]
+                                                              tl.ev(ufine, np.full(ufine.shape, vz))))
                 r2 = rho2[rows]
                 uq = np.log(r2 + d0 * d0)
                 gi, li = _lerp2(uq, ufine, gt, lt)
@@ -440,11 +477,24 @@ class BoardSystem:
             p_bf[idx, :] = (body.area[:, None] * (g + (body.m2 * horiz)[:, None] / 4.0 * lap)).T
         return p_bf, p_fb
 
-    def with_body(self, body: Panels, z_range: tuple[float, float]) -> np.ndarray:
-        """Maxwell matrix (F) of the board conductors plus one floating body (last row/column)."""
+    def with_body(self, body: Panels, z_range: tuple[float, float], self_key: tuple[object, ...] | None = None,
+                  body_at_origin: Panels | None = None) -> np.ndarray:
+        """Maxwell matrix (F) of the board conductors plus one floating body (last row/column).
+
+        ``self_key`` names the body's shape and height (not its x, y), and ``body_at_origin`` is the
+        same body moved sideways to x = y = 0: the body's own block does not change when it moves
+        sideways over the layered medium, so bodies of one key share the block made at the origin
+        (the same numbers whichever position came first).
+        """
         obs = body.centroid
         obs_layer = int(self.medium.layer_of(obs[:, 2].min())[0])
-        d = general_block(obs, body, pruned(self.medium.images(obs_layer, obs_layer), BODY_IMAGE_TOL))
+        m = self.medium
+
+        def own() -> np.ndarray:
+            src = body if body_at_origin is None else body_at_origin
+            return general_block(src.centroid, src, pruned(m.images(obs_layer, obs_layer), BODY_IMAGE_TOL))
+
+        d = own() if self_key is None or body_at_origin is None else _cached(("body", m.eps_r, m.interfaces_m, m.ground_below, m.tol, *self_key), own)
         b, cc = self.body_coupling(obs, body, z_range)
         w = sla.lu_solve(self.lu, b, check_finite=False)  # A^-1 B
         sch = d - cc @ w

@@ -8,7 +8,9 @@ Model (each estimate carries a one-line summary in ``SensorEstimate.model``):
 * the overlay layers, the board dielectrics and air above and below as a layered medium
   (:mod:`sensorcheck.physics.greens`);
 * a finger (:mod:`sensorcheck.physics.finger`) above the sensor's most sensitive point (a coarse
-  search over the node at touch), moved from ``max_height_mm`` down to the overlay surface;
+  search over the node at touch), moved from ``max_height_mm`` down to the overlay surface (the
+  heights where the curve bends or turns solved, the smooth stretches interpolated:
+  :mod:`sensorcheck.physics.approach`; the notes say how many were solved);
 * mutual sensors: Cm between TX and RX with everything else at the device ground; self sensors:
   capacitance of the electrode (plus its trace in the window) with the other copper grounded, a
   shield net driven at the electrode's potential.
@@ -21,7 +23,7 @@ from __future__ import annotations
 import copy
 import os
 from collections.abc import Callable
-from concurrent.futures import Executor, ProcessPoolExecutor
+from concurrent.futures import Executor
 from dataclasses import dataclass, replace
 from typing import Any, Literal
 
@@ -37,6 +39,8 @@ from sensorcheck.limits import DEFAULT_LIMITS, Limits
 from sensorcheck.materials import FR4_EPSILON_R
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
+from sensorcheck.physics.approach import ADAPT_REL_TOL, adaptive_curve
+from sensorcheck.physics.fingerprint import centre_note
 from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, mutual_f, self_f, turning_point, validate_finger
 from sensorcheck.physics.greens import LayeredMedium
 from sensorcheck.physics.mesh import ESTIMATE_FACTORS, MeshSpec, cylinder_panels, estimate_panels, flat_panels
@@ -72,6 +76,7 @@ class SolverOptions:
     proximity_floor_pf: float = 0.01  # assumption: a resolvable change of 10 fF; a parameter
     hand_diameter_mm: float = 80.0  # hand-sized target for proximity range (stated model choice)
     hand_max_height_mm: float = 200.0
+    adaptive_heights: bool = True  # solve the approach heights where the curve bends (physics/approach.py)
 
     @classmethod
     def from_config(cls, options: dict[str, Any]) -> "SolverOptions":
@@ -356,12 +361,27 @@ def mesh_conductors(
     return Panels(np.concatenate(parts), np.concatenate(conds))
 
 
+#: finger meshes at the origin, per process: a finger moved sideways is the same mesh moved
+_FINGER_MESHES: dict[tuple[object, ...], np.ndarray] = {}
+
+
 def finger_panels(finger: Finger, x_mm: float, y_mm: float, z_bottom_m: float, opts: SolverOptions, coarse: bool = False) -> Panels:
+    key = (repr(finger), repr(opts), coarse, z_bottom_m)
+    v = _FINGER_MESHES.get(key)
+    if v is None:
+        if len(_FINGER_MESHES) > 200:
+            _FINGER_MESHES.clear()
+        v = _FINGER_MESHES[key] = _finger_mesh(finger, z_bottom_m, opts, coarse)
+    return Panels(v + np.array([x_mm * MM, y_mm * MM, 0.0]), np.zeros(len(v), dtype=int))
+
+
+def _finger_mesh(finger: Finger, z_bottom_m: float, opts: SolverOptions, coarse: bool) -> np.ndarray:
+    """The finger's cylinder standing at x = y = 0 (metres)."""
     f = 2.0 if coarse else 1.0
     sides = max(12, int(round(opts.finger_sides * (opts.refine if not coarse else 0.67))))
     v = cylinder_panels(
-        x_mm * MM,
-        y_mm * MM,
+        0.0,
+        0.0,
         z_bottom_m,
         finger.contact_diameter_mm / 2.0 * MM,
         finger.length_mm * MM,
@@ -369,7 +389,7 @@ def finger_panels(finger: Finger, x_mm: float, y_mm: float, z_bottom_m: float, o
         h_max=opts.finger_max_mm * f / opts.refine * MM,
         n_theta=sides,
     )
-    return Panels(v, np.zeros(len(v), dtype=int))
+    return v
 
 
 # --------------------------------------------------------------------------------------------
@@ -412,7 +432,8 @@ class SensorModel:
         body = finger_panels(self.finger, x_mm, y_mm, z_b, self.opts, coarse)
         z_lo = self.stack.surface_m + self.opts.touch_gap_mm * MM
         z_hi = self.stack.surface_m + (max(max_h_mm, h_mm) + self.finger.length_mm + 1.0) * MM
-        return self.system.with_body(body, (z_lo, z_hi))
+        return self.system.with_body(body, (z_lo, z_hi), self_key=("finger", repr(self.finger), repr(self.opts), coarse, z_b),
+                                     body_at_origin=finger_panels(self.finger, 0.0, 0.0, z_b, self.opts, coarse))
 
 
 def describe(model: SensorModel) -> str:
@@ -544,6 +565,23 @@ def approach_heights(n: int, max_height_mm: float) -> list[float]:
     return [float(h) for h in far] + [0.0]
 
 
+def _approach(model: SensorModel, x: float, y: float, hs: list[float], base_pf: float, max_h_mm: float,
+              mats: dict[float, np.ndarray]) -> tuple[list[tuple[float, float]], int]:
+    """The approach curve over (x, y) at the heights ``hs``: every height solved, or (the default,
+    ``SolverOptions.adaptive_heights``) those :func:`sensorcheck.physics.approach.adaptive_curve` picks.
+    Returns the curve (pF) and the number of heights solved; ``mats`` receives the solved Maxwell matrices."""
+    k = len(model.conductors)
+
+    def at(h: float) -> float:
+        c = mats[h] = model.with_finger(x, y, h, max_h_mm=max_h_mm)
+        return model.value_f(c, k) / PF
+
+    if not model.opts.adaptive_heights:
+        return [(h, at(h)) for h in hs], len(hs)
+    curve, solved = adaptive_curve(at, hs, base_pf)
+    return curve, sum(solved)
+
+
 def _neighbour_channels(model: SensorModel) -> dict[str, dict[str, list[int]]]:
     out: dict[str, dict[str, list[int]]] = {}
     design = model.design
@@ -627,14 +665,11 @@ def estimate_with(
         bx, by, _ = max(search, key=lambda t: abs(t[2]))
     else:
         bx, by = cands[0]
-    curve: list[tuple[float, float]] = []
-    c_touch: np.ndarray | None = None
-    for h in approach_heights(heights, max_height_mm):
-        c = model.with_finger(bx, by, h, max_h_mm=max_height_mm)
-        curve.append((h, model.value_f(c, k) / PF))
-        c_touch = c
-    assert c_touch is not None
     base_pf = base_f / PF
+    hs = approach_heights(heights, max_height_mm)
+    mats: dict[float, np.ndarray] = {}
+    curve, n_solved = _approach(model, bx, by, hs, base_pf, max_height_mm, mats)
+    c_touch = mats[hs[-1]]
     touch_pf = curve[-1][1]
     delta = touch_pf - base_pf
     tp = turning_point(curve, base_pf)
@@ -644,16 +679,12 @@ def estimate_with(
     curve_c: list[tuple[float, float]] = []
     extra_notes: list[str] = []
     if np.hypot(centre.x - bx, centre.y - by) > 1.0:
-        for h in approach_heights(heights, max_height_mm):
-            curve_c.append((h, model.value_f(model.with_finger(centre.x, centre.y, h, max_h_mm=max_height_mm), k) / PF))
+        curve_c, n_c = _approach(model, centre.x, centre.y, hs, base_pf, max_height_mm, {})
+        n_solved += n_c
         tp_c = turning_point(curve_c, base_pf)
         if tp_c is not None and (tp is None or tp_c > tp):
             tp = tp_c
-            extra_notes.append(
-                f"turning point from the approach over the node centre ({centre.x:.1f}, {centre.y:.1f}) mm; "
-                f"over the most sensitive point ({bx:.1f}, {by:.1f}) mm the signal "
-                + ("turns lower" if turning_point(curve, base_pf) is not None else "does not turn")
-            )
+            extra_notes.append(centre_note((centre.x, centre.y), (bx, by), turning_point(curve, base_pf) is not None))
     cross: dict[str, float] = {}
     for name, which in _neighbour_channels(model).items():
         b = model.value_f(model.system.c0, None, which)
@@ -667,6 +698,10 @@ def estimate_with(
             t = model.value_f(c_touch, k, w)
             channels[model.conductors[i].name] = (b / PF, (t - b) / PF)
     notes = list(model.notes) + extra_notes
+    n_curve = len(hs) * (2 if curve_c else 1)
+    if n_solved < n_curve:
+        notes.append(f"approach: {n_solved} of {n_curve} heights solved, the others interpolated where the curve is "
+                     f"smooth (within {100 * ADAPT_REL_TOL:g} % of the signal swing, by comparing two interpolants)")
     if model.kind == "self" and model.main.get("shield"):
         notes.append("shield net driven at the electrode's potential")
     if sensor.kind == "matrix":
@@ -750,52 +785,27 @@ def estimate_design(
     opts = design.config.estimate
     heights = int(opts.get("heights", 12))
     max_h = float(opts.get("max_height_mm", 20.0))
-    jobs = [(design, n, heights, max_h) for n in names]
-    n_workers = min(workers or os.cpu_count() or 1, len(jobs)) if jobs else 1
+    from sensorcheck.physics.schedule import solve_sensors
+
     results: dict[str, SensorEstimate] = {}
     failed: list[str] = errors if errors is not None else []
-    if executor is not None or n_workers <= 1:
-        done = map(_one, jobs) if executor is None else executor.map(_one, jobs)
-        for name, res in done:
-            _collect(name, res, results, failed, progress)
+    if executor is not None:  # a cluster (sensorcheck.cluster): one job per sensor, results in order
+        outcomes: dict[str, SensorEstimate | str] = {}
+        for name, res in executor.map(_one, [(design, n, heights, max_h) for n in names]):
+            outcomes[name] = res
+            if progress is not None:
+                progress(f"sensor {len(outcomes)}/{len(names)} {name}")
     else:
-        saved = {k: os.environ.get(k) for k in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")}
-        try:
-            for k in saved:
-                os.environ[k] = "1"  # one BLAS thread per worker process: the processes share the cores
-            import multiprocessing as mp
-
-            with ProcessPoolExecutor(max_workers=n_workers, mp_context=mp.get_context("spawn")) as pool:
-                futures = [pool.submit(_one, j) for j in jobs]
-                for k, v in saved.items():
-                    if v is None:
-                        os.environ.pop(k, None)
-                    else:
-                        os.environ[k] = v
-                for job, fut in zip(jobs, futures):
-                    try:
-                        name, res = fut.result()
-                    except Exception as exc:  # noqa: BLE001 - a dead worker loses only its own sensor
-                        name, res = job[1], f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
-                    _collect(name, res, results, failed, progress)
-        finally:
-            for k, v in saved.items():
-                if v is None:
-                    os.environ.pop(k, None)
-                else:
-                    os.environ[k] = v
+        outcomes = solve_sensors(design, names, heights=heights, max_h=max_h,
+                                 workers=workers or os.cpu_count() or 1, progress=progress)
+    for name, res in outcomes.items():
+        if isinstance(res, str):
+            failed.append(f"{name}: {res}")
+        else:
+            results[name] = res
     if failed and errors is None:
         raise InputError(design.board.source, None, "; ".join(failed), "sensors the field solver can model")
     return results
-
-
-def _collect(name: str, res: SensorEstimate | str, results: dict[str, SensorEstimate], errors: list[str], progress: Callable[[str], None] | None) -> None:
-    if isinstance(res, str):
-        errors.append(f"{name}: {res}")
-    else:
-        results[name] = res
-    if progress is not None:
-        progress(name)
 
 
 def with_overlay(design: Design, param: Literal["overlay_thickness_mm", "overlay_epsilon_r"], value: float) -> Design:
