@@ -98,7 +98,7 @@ def run_one(case: str, out: Path) -> None:
         lines: list[str] = []
         t0, c0 = time.perf_counter(), time.process_time()
         if first:
-            from sensorcheck.physics.sensors import estimate_design
+            from sensorcheck.physics.schedule import estimate_design
 
             design = build_design_for(fab, cfg)
             names = [s.name for s in design.sensors][: int(first)]

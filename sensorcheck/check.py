@@ -153,7 +153,7 @@ def _internal_error_finding(stage: str, exc: BaseException) -> Finding:
 
 def _scan_dict(est: Any) -> dict[str, Any]:
     """Per-node (matrix) and per-segment (slider, wheel) values for the reports: the channels table, the centroid error."""
-    from sensorcheck.commands.estimate import scan_json
+    from sensorcheck.report.common import scan_json
 
     out = scan_json(est, lambda x, n=6: None if x is None else round(float(x), n))
     chans = {f"{n['tx']}/{n['rx']}": [n["cm_pf"], n["touch_delta_pf"]] for n in out.get("nodes", [])}
@@ -315,7 +315,8 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     want_estimates = options.estimate if options.estimate is not None else bool(config.estimate.get("enabled", True))
     if want_estimates and design.sensors:
         try:
-            from sensorcheck.physics.sensors import INTERNAL_PREFIX, estimate_design
+            from sensorcheck.physics.schedule import estimate_design
+            from sensorcheck.physics.sensors import INTERNAL_PREFIX
 
             failed: list[str] = []
             estimates = estimate_design(design, progress=progress, errors=failed)

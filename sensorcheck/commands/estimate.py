@@ -16,6 +16,7 @@ from typing import Any, Literal, TextIO, cast
 
 from sensorcheck.errors import ConfigError, SensorcheckError
 from sensorcheck.physics.estimate import SensorEstimate
+from sensorcheck.report.common import scan_json
 
 SweepParam = Literal["overlay_thickness_mm", "overlay_epsilon_r"]
 SWEEP_PARAMS: tuple[str, ...] = ("overlay_thickness_mm", "overlay_epsilon_r")
@@ -91,32 +92,6 @@ def estimates_json(estimates: dict[str, SensorEstimate]) -> dict[str, Any]:
             **scan_json(e, r),
         })
     return {"estimates": out, "disclaimer": DISCLAIMER}
-
-
-def scan_json(e: SensorEstimate, r: Callable[..., float | None]) -> dict[str, Any]:
-    """A matrix's nodes and a slider's or wheel's segments and position response (only where estimated)."""
-    out: dict[str, Any] = {}
-    if e.nodes:
-        out["nodes"] = [
-            {"tx": n.tx, "rx": n.rx, "centre_mm": [r(n.centre_mm[0], 4), r(n.centre_mm[1], 4)], "cm_pf": r(n.cm_pf),
-             "touch_delta_pf": r(n.touch_delta_pf), "percent_change": r(n.percent_change, 4)}
-            for n in e.nodes
-        ]
-    if e.segments:
-        out["segments"] = [
-            {"net": g.net, "centre_mm": [r(g.centre_mm[0], 4), r(g.centre_mm[1], 4)], "position_mm": r(g.position_mm, 4),
-             "parasitic_pf": r(g.parasitic_pf), "touch_delta_pf": r(g.touch_delta_pf),
-             "crosstalk_pf": {k: r(v) for k, v in sorted(g.crosstalk_pf.items())}}
-            for g in e.segments
-        ]
-    p = e.position
-    if p is not None:
-        out["position"] = {
-            "travel_mm": r(p.travel_mm, 4), "cyclic": p.cyclic, "max_error_mm": r(p.max_error_mm, 4), "floor_pf": r(p.floor_pf),
-            "dead_zones_mm": [[r(a, 4), r(b, 4)] for a, b in p.dead_zones_mm],
-            "points": [[r(x, 4), r(c, 4), r(er, 4)] for x, c, er in p.points],
-        }
-    return out
 
 
 def output_width(stream: TextIO) -> int:
@@ -267,7 +242,8 @@ def run(args: argparse.Namespace) -> int:
 
 def _run(args: argparse.Namespace, design: Any, names: list[str] | None, known: dict[str, Any], fmt: str,
          sweep_text: str | None, executor: Any) -> int:
-    from sensorcheck.physics.sensors import estimate_design, sweep
+    from sensorcheck.physics.schedule import estimate_design
+    from sensorcheck.physics.sensors import sweep
 
     if sweep_text:
         param, values = parse_sweep(sweep_text)

@@ -24,7 +24,7 @@ import shapely
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
-from sensorcheck.physics.sensors import Conductor
+from sensorcheck.physics.model import Conductor
 
 DETAIL_TOL_MM = 0.05
 #: the relative change of baseline and touch delta the coarsening was tested to stay within

@@ -35,15 +35,16 @@ from typing import TYPE_CHECKING
 import shapely
 from shapely.geometry import box
 
+from sensorcheck.physics.model import CENTRE_NOTE_PREFIX, centre_note
+
 if TYPE_CHECKING:
     from sensorcheck.design.model import Design, Sensor
     from sensorcheck.physics.estimate import SensorEstimate
-    from sensorcheck.physics.sensors import Conductor
+    from sensorcheck.physics.model import Conductor
 
 #: copper is snapped to this grid (mm) before it is compared
 GRID_MM = 1e-3
 #: the note estimate_with writes when the turnaround came from the approach over the node centre
-CENTRE_NOTE_PREFIX = "turning point from the approach over the node centre"
 
 
 @dataclass(frozen=True, slots=True)
@@ -115,10 +116,6 @@ def window_key(design: "Design", sensor: "Sensor", window_mm: float, context: st
                      tuple(conductors[i].sensor for i in order), tuple(notes))
 
 
-def centre_note(centre: tuple[float, float], best: tuple[float, float], turns_lower: bool) -> str:
-    """The note of a turning point found over the node centre rather than the most sensitive point."""
-    return (f"{CENTRE_NOTE_PREFIX} ({centre[0]:.1f}, {centre[1]:.1f}) mm; over the most sensitive point "
-            f"({best[0]:.1f}, {best[1]:.1f}) mm the signal " + ("turns lower" if turns_lower else "does not turn"))
 
 
 def translated(est: "SensorEstimate", src: WindowKey, dst: WindowKey, dst_name: str,

@@ -22,7 +22,7 @@ from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.physics.estimate import NodeEstimate, SensorEstimate
 from sensorcheck.physics.finger import PF, turning_point
-from sensorcheck.physics.sensors import SensorModel, _neighbour_channels, approach_heights, describe
+from sensorcheck.physics.model import SensorModel, _neighbour_channels, approach_heights, describe
 
 CROSS_GROW_MM = 0.5  # the row and the column grown by their distance plus this to find where they cross
 

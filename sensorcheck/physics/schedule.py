@@ -1,6 +1,6 @@
 """Many sensors' estimates: identical windows solved once, the solves spread over processes.
 
-:func:`solve_sensors` is the work behind :func:`sensorcheck.physics.sensors.estimate_design`:
+:func:`solve_sensors` is the work behind :func:`estimate_design` (below):
 
 1. every sensor's window fingerprint (:mod:`sensorcheck.physics.fingerprint`), in this process
    (cheap: the window's copper is clipped, not meshed);
@@ -23,8 +23,10 @@ from __future__ import annotations
 import os
 import time
 from collections.abc import Callable
-from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
+from concurrent.futures import FIRST_COMPLETED, Executor, Future, ProcessPoolExecutor, wait
 from typing import TYPE_CHECKING, Any
+
+from sensorcheck.errors import ConfigError, InputError
 
 if TYPE_CHECKING:
     from sensorcheck.design.model import Design
@@ -231,3 +233,52 @@ def _pool_solve(pool: ProcessPoolExecutor, reps: list[str], heights: int, max_h:
                 res = f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
             for t in finished(name, res):
                 pending[pool.submit(_solve_in_worker, (t, heights, max_h))] = t
+
+
+def estimate_design(
+    design: Design,
+    *,
+    sensors: list[str] | None = None,
+    workers: int | None = None,
+    progress: Callable[[str], None] | None = None,
+    errors: list[str] | None = None,
+    executor: Executor | None = None,
+) -> dict[str, SensorEstimate]:
+    """Estimates for the design's sensors (or those named), in parallel across processes.
+
+    ``executor``: run the sensors there instead (a Dask cluster, :mod:`sensorcheck.cluster`).
+
+    Errors of one sensor (bad copper, over the mesh budget) are raised as one InputError after
+    the others ran; pass ``errors`` (a list) to collect their messages there instead and keep
+    the estimates of the other sensors.
+    """
+    names = [s.name for s in design.sensors] if sensors is None else list(sensors)
+    known = {s.name for s in design.sensors}
+    for n in names:
+        if n not in known:
+            raise ConfigError(design.config.file, "sensor", f"no sensor named {n!r} (known: {', '.join(sorted(known))})")
+    from sensorcheck.physics.sensors import _one
+
+    opts = design.config.estimate
+    heights = int(opts.get("heights", 12))
+    max_h = float(opts.get("max_height_mm", 20.0))
+
+    results: dict[str, SensorEstimate] = {}
+    failed: list[str] = errors if errors is not None else []
+    if executor is not None:  # a cluster (sensorcheck.cluster): one job per sensor, results in order
+        outcomes: dict[str, SensorEstimate | str] = {}
+        for name, res in executor.map(_one, [(design, n, heights, max_h) for n in names]):
+            outcomes[name] = res
+            if progress is not None:
+                progress(f"sensor {len(outcomes)}/{len(names)} {name}")
+    else:
+        outcomes = solve_sensors(design, names, heights=heights, max_h=max_h,
+                                 workers=workers or os.cpu_count() or 1, progress=progress)
+    for name, res in outcomes.items():
+        if isinstance(res, str):
+            failed.append(f"{name}: {res}")
+        else:
+            results[name] = res
+    if failed and errors is None:
+        raise InputError(design.board.source, None, "; ".join(failed), "sensors the field solver can model")
+    return results

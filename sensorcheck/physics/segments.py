@@ -26,7 +26,7 @@ import shapely
 
 from sensorcheck.physics.estimate import PositionResponse, SegmentEstimate, SensorEstimate
 from sensorcheck.physics.finger import PF
-from sensorcheck.physics.sensors import SensorModel
+from sensorcheck.physics.model import SensorModel
 
 STEPS_PER_PITCH = 3  # finger positions per segment pitch (the segment centres among them)
 #: assumption: a touch is detected above half the signal a segment gives with the finger centred on it

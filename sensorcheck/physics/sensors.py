@@ -21,11 +21,10 @@ Every number is an estimate of this model; a prototype must be measured.
 from __future__ import annotations
 
 import copy
-import os
 from collections.abc import Callable
 from concurrent.futures import Executor
-from dataclasses import dataclass, replace
-from typing import Any, Literal
+from dataclasses import replace
+from typing import Literal
 
 import numpy as np
 import shapely
@@ -33,19 +32,29 @@ from shapely.geometry import Polygon, box
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.board.model import Stackup, StackupLayer
-from sensorcheck.design.model import Design, Finger, Overlay, OverlayLayer, Sensor
+from sensorcheck.design.model import Design, Overlay, OverlayLayer, Sensor
 from sensorcheck.errors import ConfigError, InputError, LimitError
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 from sensorcheck.materials import FR4_EPSILON_R
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
 from sensorcheck.physics.approach import ADAPT_REL_TOL, adaptive_curve
-from sensorcheck.physics.fingerprint import centre_note
-from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, mutual_f, self_f, turning_point, validate_finger
+from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, turning_point, validate_finger
 from sensorcheck.physics.greens import LayeredMedium
-from sensorcheck.physics.mesh import ESTIMATE_FACTORS, MeshSpec, cylinder_panels, estimate_panels, flat_panels
+from sensorcheck.physics.model import (  # the shared model pieces (re-exported for older imports)
+    MM,
+    Conductor,
+    SensorModel,
+    SolverOptions,
+    Stack,
+    _neighbour_channels,
+    approach_heights,
+    centre_note,
+    describe,
+    finger_panels,
+)
+from sensorcheck.physics.mesh import ESTIMATE_FACTORS, MeshSpec, estimate_panels, flat_panels
 
-MM = 1e-3
 FR4_EPS = FR4_EPSILON_R  # the material table's FR-4 (IPC-4101 4.2-4.8 at 1 MHz; see sensorcheck.materials)
 DEFAULT_STACKUP = Stackup(
     layers=[
@@ -58,42 +67,12 @@ DEFAULT_STACKUP = Stackup(
 )
 
 
-@dataclass(frozen=True, slots=True)
-class SolverOptions:
-    """Mesh and model options (mm); ``refine`` divides every panel size (the bench uses 4)."""
-
-    window_mm: float = 15.0
-    h_edge_mm: float = 0.8  # width of the edge band (rows at 0.08 and 0.3 of it) and panel length along edges
-    h_near_mm: float | None = None  # None: 1.2 x the overlay thickness, within 0.8-2.0 mm
-    h_far_mm: float = 3.0
-    finger_edge_mm: float = 0.7
-    finger_max_mm: float = 3.0
-    finger_sides: int = 20
-    touch_gap_mm: float = 0.02  # the finger "on" the overlay: this thin film of air
-    refine: float = 1.0
-    edge_band: bool = True  # thin rows of panels along edges near the sensor (off: plain graded quadtree)
-    search: bool = True
-    proximity_floor_pf: float = 0.01  # assumption: a resolvable change of 10 fF; a parameter
-    hand_diameter_mm: float = 80.0  # hand-sized target for proximity range (stated model choice)
-    hand_max_height_mm: float = 200.0
-    adaptive_heights: bool = True  # solve the approach heights where the curve bends (physics/approach.py)
-
-    @classmethod
-    def from_config(cls, options: dict[str, Any]) -> "SolverOptions":
-        known = {f for f in cls.__dataclass_fields__}
-        return cls(**{k: v for k, v in options.items() if k in known})
 
 
 # --------------------------------------------------------------------------------------------
 # the layered medium from the stackup and overlay
 
 
-@dataclass(slots=True)
-class Stack:
-    medium: LayeredMedium
-    copper_z_m: dict[str, float]  # our layer name -> z (m), touched face up
-    surface_m: float  # top of the overlay
-    notes: list[str]
 
 
 def build_stack(design: Design, overlay: Overlay) -> Stack:
@@ -178,13 +157,6 @@ def build_stack(design: Design, overlay: Overlay) -> Stack:
 # conductors in the window
 
 
-@dataclass(slots=True)
-class Conductor:
-    name: str
-    kind: Literal["sensor", "neighbour", "ground", "shield"]
-    copper: dict[str, BaseGeometry]  # layer -> geometry (mm)
-    sensor: str | None = None
-    role: str | None = None
 
 
 def _clean(geom: BaseGeometry, where: str, design: Design) -> BaseGeometry:
@@ -362,88 +334,18 @@ def mesh_conductors(
 
 
 #: finger meshes at the origin, per process: a finger moved sideways is the same mesh moved
-_FINGER_MESHES: dict[tuple[object, ...], np.ndarray] = {}
 
 
-def finger_panels(finger: Finger, x_mm: float, y_mm: float, z_bottom_m: float, opts: SolverOptions, coarse: bool = False) -> Panels:
-    key = (repr(finger), repr(opts), coarse, z_bottom_m)
-    v = _FINGER_MESHES.get(key)
-    if v is None:
-        if len(_FINGER_MESHES) > 200:
-            _FINGER_MESHES.clear()
-        v = _FINGER_MESHES[key] = _finger_mesh(finger, z_bottom_m, opts, coarse)
-    return Panels(v + np.array([x_mm * MM, y_mm * MM, 0.0]), np.zeros(len(v), dtype=int))
 
 
-def _finger_mesh(finger: Finger, z_bottom_m: float, opts: SolverOptions, coarse: bool) -> np.ndarray:
-    """The finger's cylinder standing at x = y = 0 (metres)."""
-    f = 2.0 if coarse else 1.0
-    sides = max(12, int(round(opts.finger_sides * (opts.refine if not coarse else 0.67))))
-    v = cylinder_panels(
-        0.0,
-        0.0,
-        z_bottom_m,
-        finger.contact_diameter_mm / 2.0 * MM,
-        finger.length_mm * MM,
-        h_edge=opts.finger_edge_mm * f / opts.refine * MM,
-        h_max=opts.finger_max_mm * f / opts.refine * MM,
-        n_theta=sides,
-    )
-    return v
 
 
 # --------------------------------------------------------------------------------------------
 # one sensor
 
 
-@dataclass(slots=True)
-class SensorModel:
-    """A sensor's solved board block, ready for finger positions."""
-
-    design: Design
-    sensor: Sensor
-    overlay: Overlay
-    finger: Finger
-    stack: Stack
-    conductors: list[Conductor]
-    system: BoardSystem
-    opts: SolverOptions
-    notes: list[str]
-    kind: Literal["mutual", "self"]
-    main: dict[str, list[int]]  # "tx"/"rx" or "electrode"; plus "shield"
-
-    @property
-    def body_f(self) -> float:
-        return self.finger.body_capacitance_pf * PF
-
-    @property
-    def device_f(self) -> float | None:
-        d = self.finger.device_ground_coupling_pf
-        return None if d is None else d * PF
-
-    def value_f(self, c: np.ndarray, floating: int | None, which: dict[str, list[int]] | None = None) -> float:
-        w = which or self.main
-        if "tx" in w:
-            return mutual_f(c, w["tx"], w["rx"], floating=floating, body_f=self.body_f, device_f=self.device_f)
-        return self_f(c, w["electrode"], shield=w.get("shield"), floating=floating, body_f=self.body_f, device_f=self.device_f)
-
-    def with_finger(self, x_mm: float, y_mm: float, h_mm: float, coarse: bool = False, max_h_mm: float = 20.0) -> np.ndarray:
-        z_b = self.stack.surface_m + max(h_mm, self.opts.touch_gap_mm) * MM
-        body = finger_panels(self.finger, x_mm, y_mm, z_b, self.opts, coarse)
-        z_lo = self.stack.surface_m + self.opts.touch_gap_mm * MM
-        z_hi = self.stack.surface_m + (max(max_h_mm, h_mm) + self.finger.length_mm + 1.0) * MM
-        return self.system.with_body(body, (z_lo, z_hi), self_key=("finger", repr(self.finger), repr(self.opts), coarse, z_b),
-                                     body_at_origin=finger_panels(self.finger, 0.0, 0.0, z_b, self.opts, coarse))
 
 
-def describe(model: SensorModel) -> str:
-    """The one-line model summary every estimate of this model carries."""
-    f = model.finger
-    ground = "earthed device" if f.device_ground_coupling_pf is None else f"device ground {f.device_ground_coupling_pf:g} pF to earth"
-    return (
-        f"3-D boundary elements (collocation, layered-media images); finger {f.contact_diameter_mm:g} mm x "
-        f"{f.length_mm:g} mm cylinder, body {f.body_capacitance_pf:g} pF, {ground}; overlay {model.overlay.thickness_mm:g} mm"
-    )
 
 
 def _roles_of(sensor: Sensor, conductors: list[Conductor]) -> tuple[Literal["mutual", "self"], dict[str, list[int]]]:
@@ -555,14 +457,6 @@ def _candidates(sensor: Sensor, model: SensorModel) -> list[tuple[float, float]]
     return out or [(c.x, c.y)]
 
 
-def approach_heights(n: int, max_height_mm: float) -> list[float]:
-    """Far to near: geometric from max_height_mm down to 0.25 mm, then 0 (touching)."""
-    if n < 2:
-        raise ValueError("need at least 2 heights")
-    if max_height_mm <= 0.25:
-        raise ValueError("max height must exceed 0.25 mm")
-    far = np.geomspace(max_height_mm, 0.25, n - 1)
-    return [float(h) for h in far] + [0.0]
 
 
 def _approach(model: SensorModel, x: float, y: float, hs: list[float], base_pf: float, max_h_mm: float,
@@ -582,24 +476,6 @@ def _approach(model: SensorModel, x: float, y: float, hs: list[float], base_pf: 
     return curve, sum(solved)
 
 
-def _neighbour_channels(model: SensorModel) -> dict[str, dict[str, list[int]]]:
-    out: dict[str, dict[str, list[int]]] = {}
-    design = model.design
-    by_name = {s.name: s for s in design.sensors}
-    idx = {c.name: i for i, c in enumerate(model.conductors)}
-    for c in model.conductors:
-        if c.kind != "neighbour" or c.sensor is None or c.sensor in out or c.sensor not in by_name:
-            continue
-        s = by_name[c.sensor]
-        tx = [idx[e.net] for e in s.electrodes_with("transmitter") if e.net in idx]
-        rx = [idx[e.net] for e in s.electrodes_with("receiver") if e.net in idx]
-        if tx and rx:
-            out[s.name] = {"tx": tx, "rx": rx}
-        else:
-            el = [idx[n] for n in s.nets if n in idx]
-            if el:
-                out[s.name] = {"electrode": el, "shield": model.main.get("shield", [])}
-    return out
 
 
 def _hand_range(model: SensorModel, x: float, y: float, base_f: float) -> float | None:
@@ -760,52 +636,6 @@ def _one(args: tuple[Design, str, int, float]) -> tuple[str, SensorEstimate | st
         return name, f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
 
 
-def estimate_design(
-    design: Design,
-    *,
-    sensors: list[str] | None = None,
-    workers: int | None = None,
-    progress: Callable[[str], None] | None = None,
-    errors: list[str] | None = None,
-    executor: Executor | None = None,
-) -> dict[str, SensorEstimate]:
-    """Estimates for the design's sensors (or those named), in parallel across processes.
-
-    ``executor``: run the sensors there instead (a Dask cluster, :mod:`sensorcheck.cluster`).
-
-    Errors of one sensor (bad copper, over the mesh budget) are raised as one InputError after
-    the others ran; pass ``errors`` (a list) to collect their messages there instead and keep
-    the estimates of the other sensors.
-    """
-    names = [s.name for s in design.sensors] if sensors is None else list(sensors)
-    known = {s.name for s in design.sensors}
-    for n in names:
-        if n not in known:
-            raise ConfigError(design.config.file, "sensor", f"no sensor named {n!r} (known: {', '.join(sorted(known))})")
-    opts = design.config.estimate
-    heights = int(opts.get("heights", 12))
-    max_h = float(opts.get("max_height_mm", 20.0))
-    from sensorcheck.physics.schedule import solve_sensors
-
-    results: dict[str, SensorEstimate] = {}
-    failed: list[str] = errors if errors is not None else []
-    if executor is not None:  # a cluster (sensorcheck.cluster): one job per sensor, results in order
-        outcomes: dict[str, SensorEstimate | str] = {}
-        for name, res in executor.map(_one, [(design, n, heights, max_h) for n in names]):
-            outcomes[name] = res
-            if progress is not None:
-                progress(f"sensor {len(outcomes)}/{len(names)} {name}")
-    else:
-        outcomes = solve_sensors(design, names, heights=heights, max_h=max_h,
-                                 workers=workers or os.cpu_count() or 1, progress=progress)
-    for name, res in outcomes.items():
-        if isinstance(res, str):
-            failed.append(f"{name}: {res}")
-        else:
-            results[name] = res
-    if failed and errors is None:
-        raise InputError(design.board.source, None, "; ".join(failed), "sensors the field solver can model")
-    return results
 
 
 def with_overlay(design: Design, param: Literal["overlay_thickness_mm", "overlay_epsilon_r"], value: float) -> Design:
@@ -852,7 +682,6 @@ __all__ = [
     "build_model",
     "estimate_sensor",
     "estimate_with",
-    "estimate_design",
     "sweep",
     "with_overlay",
     "approach_heights",

@@ -9,12 +9,15 @@ from __future__ import annotations
 import math
 import os
 import unicodedata
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from pathlib import Path, PurePath
-from typing import Literal
+from typing import TYPE_CHECKING, Any, Literal
 from urllib.parse import quote
 
 from sensorcheck.findings import Finding, Location, Result, RuleInfo, SensorSummary, sort_key
+
+if TYPE_CHECKING:
+    from sensorcheck.physics.estimate import SensorEstimate
 
 FormatName = Literal["text", "json", "sarif", "junit", "codequality", "github", "markdown", "html", "gerber"]
 FORMATS: tuple[FormatName, ...] = (
@@ -480,4 +483,30 @@ def fold_notes(notes: dict[str, list[str]], total: int, every: bool = False) -> 
         for text, names in items:
             who = "all" if len(names) == total and total > 1 else ", ".join(safe_text(n) for n in names)
             out.append((who, safe_text(text)))
+    return out
+
+
+def scan_json(e: SensorEstimate, r: Callable[..., float | None]) -> dict[str, Any]:
+    """A matrix's nodes and a slider's or wheel's segments and position response (only where estimated)."""
+    out: dict[str, Any] = {}
+    if e.nodes:
+        out["nodes"] = [
+            {"tx": n.tx, "rx": n.rx, "centre_mm": [r(n.centre_mm[0], 4), r(n.centre_mm[1], 4)], "cm_pf": r(n.cm_pf),
+             "touch_delta_pf": r(n.touch_delta_pf), "percent_change": r(n.percent_change, 4)}
+            for n in e.nodes
+        ]
+    if e.segments:
+        out["segments"] = [
+            {"net": g.net, "centre_mm": [r(g.centre_mm[0], 4), r(g.centre_mm[1], 4)], "position_mm": r(g.position_mm, 4),
+             "parasitic_pf": r(g.parasitic_pf), "touch_delta_pf": r(g.touch_delta_pf),
+             "crosstalk_pf": {k: r(v) for k, v in sorted(g.crosstalk_pf.items())}}
+            for g in e.segments
+        ]
+    p = e.position
+    if p is not None:
+        out["position"] = {
+            "travel_mm": r(p.travel_mm, 4), "cyclic": p.cyclic, "max_error_mm": r(p.max_error_mm, 4), "floor_pf": r(p.floor_pf),
+            "dead_zones_mm": [[r(a, 4), r(b, 4)] for a, b in p.dead_zones_mm],
+            "points": [[r(x, 4), r(c, 4), r(er, 4)] for x, c, er in p.points],
+        }
     return out

@@ -8,6 +8,7 @@ from pathlib import Path
 
 import pytest
 
+import sensorcheck.physics.schedule as sched
 import sensorcheck.physics.sensors as ps
 from sensorcheck.check import CheckOptions, build_design_for, check_board, exit_code
 
@@ -27,7 +28,7 @@ def test_one_failing_sensor_keeps_the_others(monkeypatch: pytest.MonkeyPatch) ->
 
     monkeypatch.setattr(ps, "estimate_sensor", fake)
     errors: list[str] = []
-    got = ps.estimate_design(design, workers=1, errors=errors)
+    got = sched.estimate_design(design, workers=1, errors=errors)
     assert set(calls) == {s.name for s in design.sensors}
     assert "BTN1" not in got and len(got) == len(design.sensors) - 1
     assert errors == [f"BTN1: {ps.INTERNAL_PREFIX}ZeroDivisionError: seeded failure"]
@@ -40,7 +41,7 @@ def test_failed_estimates_become_entries_of_the_report(monkeypatch: pytest.Monke
         errors.append("BTN2: sensor BTN2 needs more than 12000 panels (expected a smaller sensor)")
         return {}
 
-    monkeypatch.setattr(ps, "estimate_design", fake_design)
+    monkeypatch.setattr(sched, "estimate_design", fake_design)
     result = check_board(CLEAN, CheckOptions())
     by_rule = {f.rule_id: f for f in result.findings}
     assert by_rule["internal.estimate"].kind == "internal-error" and by_rule["internal.estimate"].sensor == "BTN1"

@@ -22,7 +22,8 @@ from sensorcheck.commands.estimate import estimates_json
 from sensorcheck.commands.progress import StageLines
 from sensorcheck.design.model import Electrode, Sensor
 from sensorcheck.physics.schedule import duration
-from sensorcheck.physics.sensors import SolverOptions, estimate_design, estimate_with
+from sensorcheck.physics.schedule import estimate_design
+from sensorcheck.physics.sensors import SolverOptions, estimate_with
 
 REPO = Path(__file__).resolve().parents[2]
 FAST = {"h_edge_mm": 1.0, "h_near_mm": 1.5, "h_far_mm": 4.0, "window_mm": 8.0, "finger_sides": 16, "search": False,

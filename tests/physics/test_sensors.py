@@ -17,7 +17,8 @@ from sensorcheck.design.model import Electrode, Finger, Overlay, OverlayLayer, S
 from sensorcheck.errors import ConfigError, InputError, LimitError
 from sensorcheck.limits import Limits
 from sensorcheck.physics.mesh import ESTIMATE_FACTORS
-from sensorcheck.physics.sensors import SolverOptions, build_model, estimate_design, estimate_sensor, estimate_with, sweep
+from sensorcheck.physics.schedule import estimate_design
+from sensorcheck.physics.sensors import SolverOptions, build_model, estimate_sensor, estimate_with, sweep
 
 FAST = {"h_edge_mm": 1.0, "h_near_mm": 1.5, "h_far_mm": 4.0, "window_mm": 10.0, "finger_sides": 16, "search": False}
 WEAK = Finger(8.0, 20.0, 150.0, 15.0)  # a battery product: 15 pF device ground to earth (scenario)
