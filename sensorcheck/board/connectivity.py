@@ -55,7 +55,7 @@ def _polygons(geom: BaseGeometry | None) -> list[Polygon]:
     return [p for p in parts if isinstance(p, Polygon) and not p.is_empty and p.area > 0]
 
 
-def _hole_shape(h: Hole) -> BaseGeometry:
+def hole_shape(h: Hole) -> BaseGeometry:
     r = max(h.diameter_mm / 2, 1e-4)
     if h.end_x_mm is not None and h.end_y_mm is not None:
         return LineString([(h.x_mm, h.y_mm), (h.end_x_mm, h.end_y_mm)]).buffer(r, quad_segs=8)
@@ -111,7 +111,7 @@ def name_islands(
     for hole in board.holes:
         if hole.plated is False:
             continue
-        shape = _hole_shape(hole)
+        shape = hole_shape(hole)
         touched: list[int] = []
         for tree, ids in trees.values():
             for k in tree.query(shape, predicate="intersects"):

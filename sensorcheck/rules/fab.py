@@ -8,6 +8,8 @@ from typing import Any
 import numpy as np
 import shapely
 
+from sensorcheck.board.connectivity import hole_shape
+from sensorcheck.board.model import Board, Feature
 from sensorcheck.design.model import Design
 from sensorcheck.rules.common import (
     VIA_DIAMETER_PARAM,
@@ -23,7 +25,7 @@ from sensorcheck.rules.common import (
     source_near,
     union,
 )
-from sensorcheck.rules.base import MissingInput, Param, Rule
+from sensorcheck.rules.base import Param, Rule
 from sensorcheck.findings import Finding
 
 
@@ -132,18 +134,67 @@ def _touching(lay: Any, geom: Any, boxes: dict[str, np.ndarray]) -> list[Any]:
     return [lay.features[int(k)] for k in near if lay.features[int(k)].geometry.intersects(geom)]
 
 
+def _is_pad(f: Feature, pins_given: bool) -> bool:
+    """A component pad: a pin (X2 ``.P``) where the files give pins, else a flash or a pad function."""
+    if pins_given:
+        return f.pin is not None
+    fn = (f.aperture_function or "").split(",")[0]
+    if fn == "FiducialPad":
+        return False
+    return f.kind == "flash" or fn.endswith("Pad")
+
+
+def unconnected_by_geometry(board: Board) -> set[str]:
+    """Nets of a board without net names that reach no component pad and no plated component hole.
+
+    Every connected piece of copper (islands joined through plated holes) has one net there, given
+    by connectivity; a piece is connected when a dark copper object of it is a pad (:func:`_is_pad`)
+    or a plated hole that is not a via meets it.
+    """
+    copper = board.copper_layers()
+    nets = {n for lay in copper for n in lay.by_net}
+    pins_given = any(f.pin is not None for lay in copper for f in lay.features)
+    connected = {f.net for lay in copper for f in lay.features
+                 if f.polarity == "dark" and f.net is not None and _is_pad(f, pins_given)}
+    holes = [hole_shape(h) for h in board.holes if h.plated is not False and h.function != "via"]
+    if holes:
+        shapes = np.array(holes, dtype=object)
+        for lay in copper:
+            names = [n for n in lay.by_net if n not in connected]
+            if not names:
+                continue
+            tree = shapely.STRtree(np.array([lay.by_net[n] for n in names], dtype=object))
+            _, hit = tree.query(shapes, predicate="intersects")
+            connected.update(names[int(k)] for k in hit)
+    return nets - connected
+
+
 class FloatingCopper(Rule):
     """Unconnected copper near sensors.
 
     What it checks:
         Copper islands with no net (not connected to any pad) on any copper layer within
         ``distance_mm`` of a sensor's electrodes.  Each island is a warning.
+
+        Where the files name nets (X2 ``.N``, IPC-D-356), floating copper is copper no name reaches:
+        its connected piece (islands joined through plated holes) carries no X2 net and no netlist
+        point.  Where they name none, every piece has a net from connectivity, so the rule judges by
+        geometry instead: a piece is floating when it meets no component pad and no plated
+        component hole.  A pad is an object with a pin attribute (X2 ``.P``) where the files give
+        pins at all, else a flash or an object whose aperture function is a pad (``...Pad``), but not
+        a fiducial (``FiducialPad``); a plated hole counts unless the drill file calls it a via (a
+        via only joins layers, it connects to nothing).
     Why it matters:
         Floating metal couples neighbouring sensors to each other and drifts with humidity and touch.
     Known limitations:
         Net assignment comes from the board's connectivity; copper whose net could not be found
-        counts as floating.  Boards without net names (no X2 net attributes, no IPC-D-356) get one
-        note instead.
+        counts as floating.  By geometry (boards without net names) the two readings can differ:
+        copper the files name but that is cut off from every pad (a pour island a CAD tool kept,
+        stitched by vias only) is floating by geometry, not by name; a pad the files give no net (an
+        unconnected pin, a fiducial written as an ordinary pad flash on files without pin
+        attributes) connects by geometry but is floating by name; a netless via or plated hole that
+        the drill file does not call a via connects by geometry.  On the corpus boards with names
+        (b01, b02, b03, b04, b06) both readings give the same findings.
     Example:
         A leftover copper square 3 mm from a button.
     Fix:
@@ -165,12 +216,12 @@ class FloatingCopper(Rule):
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         if design.board.net_source == "geometry":
-            raise MissingInput(
-                "the board carries no net names, so unconnected copper cannot be told from unnamed nets",
-                "export Gerber X2 with net attributes (.N) or an IPC-D-356 netlist with the fabrication files",
-            )
+            unconnected = unconnected_by_geometry(design.board)
+            floating = unconnected.__contains__
+        else:
+            floating = is_floating_id
         feature_boxes: dict[str, np.ndarray] = {}  # layer -> bounds of its features, made when first needed
-        islands = {lay.name: sorted((n, g) for n, g in lay.by_net.items() if is_floating_id(n))
+        islands = {lay.name: sorted((n, g) for n, g in lay.by_net.items() if floating(n))
                    for lay in design.board.copper_layers()}  # once per run, not per sensor
         # the islands' boxes, as arrays, once per run (empty islands get NaN boxes, which meet nothing)
         island_boxes = {name: shapely.bounds(np.array([g for _, g in isl], dtype=object)).reshape(-1, 4)

@@ -187,26 +187,20 @@ def test_trace_width_without_names(tmp_path: Path) -> None:
 # --------------------------------------------------------------------------- a legacy edge file name
 
 
-LEGACY_EDGE = """G04 legacy RS-274X edge layer, no X2 attributes*
-%FSLAX46Y46*%
-%MOMM*%
-%ADD10C,0.100000*%
-%LPD*%
-D10*
-G01*
-X-10000000Y-10000000D02*
-X45000000Y-10000000D01*
-X45000000Y15000000D01*
-X-10000000Y15000000D01*
-X-10000000Y-10000000D01*
-M02*
-"""
+def legacy_edge(x0_mm: float, y0_mm: float, x1_mm: float, y1_mm: float) -> str:
+    """A legacy RS-274X edge layer (no X2 attributes): a rectangle drawn with a 0.1 mm line, 4.6 mm format."""
+    c = [(x0_mm, y0_mm), (x1_mm, y0_mm), (x1_mm, y1_mm), (x0_mm, y1_mm), (x0_mm, y0_mm)]
+    moves = "".join(f"X{round(x * 1e6)}Y{round(y * 1e6)}{'D02' if i == 0 else 'D01'}*\n" for i, (x, y) in enumerate(c))
+    return ("G04 legacy RS-274X edge layer, no X2 attributes*\n%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,0.100000*%\n"
+            f"%LPD*%\nD10*\nG01*\n{moves}M02*\n")
+
+
+LEGACY_EDGE = legacy_edge(-10.0, -10.0, 45.0, 15.0)
 
 
 def test_legacy_edge_file_with_a_files_override(tmp_path: Path) -> None:
     """A 2012-era ``*-PCB_Edges.gbr`` (no X2 file function): with ``[files]`` mapping it to the
-    outline, the board has its 55 x 25 mm outline.  (That it is recognised without the mapping is
-    the identification work of issue 16 item 5, not tested here.)"""
+    outline, the board has its 55 x 25 mm outline.  (Without the mapping: the test below.)"""
     cfg = wide_trace(tmp_path)
     folder = tmp_path / "wide"
     (folder / "board-Edge_Cuts.gbr").unlink()
@@ -215,3 +209,24 @@ def test_legacy_edge_file_with_a_files_override(tmp_path: Path) -> None:
     design = build_design_for(folder, cfg)
     assert design.board.outline is not None
     assert design.board.outline.area == pytest.approx(55.0 * 25.0, rel=1e-9)
+
+
+def test_legacy_edge_file_is_the_outline_without_a_files_mapping(tmp_path: Path) -> None:
+    """The same legacy edge file and no ``[files]``: file identification takes ``*-PCB_Edges.gbr``
+    as the outline by its name (KiCad's edge layer name before Edge.Cuts), so the rules that need
+    the outline run.  The edge is drawn 1.0 mm left of the key's disc (r 5 at the origin, edge at
+    x = -6): the distance by hand is 6 - 5 = 1.0 mm, under the edge rule's 2 mm (common practice)."""
+    cfg = wide_trace(tmp_path)
+    folder = tmp_path / "wide"
+    (folder / "board-Edge_Cuts.gbr").unlink()
+    (folder / "board-PCB_Edges.gbr").write_text(legacy_edge(-6.0, -10.0, 45.0, 15.0))
+    assert "[files]" not in cfg.read_text()
+    design, run = _check(cfg)
+    outline = design.board.outline
+    assert outline is not None and outline.area == pytest.approx(51.0 * 25.0, rel=1e-9)
+    assert [lay.file for lay in design.board.layers if lay.function == "outline"] == ["board-PCB_Edges.gbr"]
+    assert "fab.board-edge-near-sensor" in run.rules_run
+    (edge,) = [f for f in run.findings if f.rule_id == "fab.board-edge-near-sensor"]
+    assert edge.sensor == "key" and edge.severity == "warning"
+    assert edge.value == pytest.approx(1.0, abs=1e-3)  # the disc is a polygon of many sides: within 1 um
+    assert not [f for f in run.findings if f.message.startswith("not checked") and "outline" in f.message]

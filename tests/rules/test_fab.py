@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 import pytest
+import shapely
 from shapely.geometry import box
 
-from .build import electrode, make_board, make_config, make_design, region, sensor, via
+from .build import Shape, electrode, make_board, make_config, make_design, region, sensor, via
 from .helpers import run_one
 
 PAD = box(-6, -6, 6, 6)
@@ -40,13 +41,60 @@ def test_floating_copper(distance: float, warn: bool) -> None:
         assert found[0].value == pytest.approx(distance)
 
 
-def test_floating_copper_needs_net_names() -> None:
-    from sensorcheck.rules.engine import run_rules
+def unnamed_button(*extra, holes=(), pins: bool = False):
+    """``button`` on a board without net names: nets from connectivity (board/connectivity.py).
 
-    d = button(region("top-copper", box(9, -1, 11, 1), None))
-    d.board.net_source = "geometry"  # no X2 nets, no IPC-D-356: every island is unnamed
-    (f,) = [f for f in run_rules(d).findings if f.rule_id == "fab.floating-copper"]
-    assert f.severity == "note" and "IPC-D-356" in f.message
+    The electrode's trace ends in a pad (an ``SMDPad`` flash; with ``pins``, a feature with an X2
+    ``.P`` pin and no flash), so the electrode's own copper is connected.
+    """
+    from sensorcheck.board.connectivity import assign_nets
+
+    pad = Shape("top-copper", box(-1, -1, 1, 1), None, kind="flash", aperture_function="SMDPad,CuDef")
+    d = button(pad, *extra, holes=holes)
+    for lay in d.board.copper_layers():
+        for f in lay.features:
+            f.net = None
+        lay.dark = shapely.union_all([f.geometry for f in lay.features]) if lay.features else shapely.Polygon()
+    if pins:
+        for f in d.board.layer("top-copper").features:
+            if f.kind == "flash" and f.geometry.equals(box(-1, -1, 1, 1)):
+                f.kind, f.pin, f.component = "region", "1", "U1"
+    assign_nets(d.board, None, use_x2=False)
+    assert d.board.net_source == "geometry"
+    return d
+
+
+def _floating_places(d) -> list[tuple[str, float]]:
+    return sorted((f.location.layer, round(f.value, 3)) for f in run_one("fab.floating-copper", d))
+
+
+# Without net names, floating copper is copper that meets no component pad and no plated component
+# hole.  The pad functions are the Gerber specification's (2023.08, .AperFunction: SMDPad,
+# ComponentPad, FiducialPad; section number from memory); a fiducial is a mark, not a connection.
+@pytest.mark.parametrize("pins", [False, True])
+def test_floating_copper_by_geometry_without_names(pins: bool) -> None:
+    far = box(9, -1, 11, 1)  # 3 mm right of the electrode
+    # BAD: a bare island; a fiducial (FiducialPad flash) on its own
+    assert _floating_places(unnamed_button(region("top-copper", far, None), pins=pins)) == [("top-copper", 3.0)]
+    fid = Shape("top-copper", far, None, kind="flash", aperture_function="FiducialPad,Local")
+    assert _floating_places(unnamed_button(fid, pins=pins)) == [("top-copper", 3.0)]
+    # BAD: islands on both sides joined by a via only connect to nothing (both are reported)
+    both = (region("top-copper", far, None), region("bottom-copper", far, None))
+    assert _floating_places(unnamed_button(*both, holes=[via(10, 0)], pins=pins)) == [
+        ("bottom-copper", 3.0), ("top-copper", 3.0)]
+    # GOOD: the same islands through a plated component hole (a through-hole pin)
+    assert _floating_places(unnamed_button(*both, holes=[via(10, 0, 1.0, function="component")], pins=pins)) == []
+    # a pad flash: a component pad where the files give no pins; with pins, only a pin connects
+    pad = Shape("top-copper", far, None, kind="flash", aperture_function="SMDPad,CuDef")
+    assert _floating_places(unnamed_button(pad, pins=pins)) == ([("top-copper", 3.0)] if pins else [])
+
+
+def test_floating_copper_same_with_and_without_names() -> None:
+    # the named reading (copper without a net) and the geometric one agree on the same board
+    island = region("top-copper", box(9, -1, 11, 1), None)
+    named = button(Shape("top-copper", box(-1, -1, 1, 1), "TOUCH1", kind="flash", aperture_function="SMDPad,CuDef"),
+                   island)
+    assert _floating_places(named) == _floating_places(unnamed_button(island)) == [("top-copper", 3.0)]
 
 
 @pytest.mark.parametrize("distance, warn", [(4.0, True), (20.0, False)])
