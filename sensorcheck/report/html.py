@@ -130,6 +130,11 @@ def _unit_of(key: str) -> tuple[str, str]:
     return key.replace("_", " "), ""
 
 
+def _ff(v: object) -> object:
+    """A value in pF shown in fF (the touch delta's unit in every report); anything else as it is."""
+    return 1000.0 * v if isinstance(v, int | float) and not isinstance(v, bool) else v
+
+
 def _value(v: Any) -> str:
     if isinstance(v, float) and not math.isfinite(v):
         return "n/a"
@@ -594,21 +599,21 @@ def _estimate_block(est: dict[str, Any]) -> str:
     if isinstance(channels, dict) and channels:
         body = "".join(
             f"<tr><td><code>{esc(k)}</code></td><td>{esc(_value(v[0] if isinstance(v, list | tuple) else v))}</td>"
-            f"<td>{esc(_value(v[1] if isinstance(v, list | tuple) and len(v) > 1 else None))}</td></tr>"
+            f"<td>{esc(_value(_ff(v[1]) if isinstance(v, list | tuple) and len(v) > 1 else None))}</td></tr>"
             for k, v in sorted(channels.items())
         )
         out.append(
             '<table class="grid"><caption>Channels</caption><thead><tr><th>net</th><th>baseline (pF)</th>'
-            f"<th>touch delta (pF)</th></tr></thead><tbody>{body}</tbody></table>"
+            f"<th>touch delta (fF)</th></tr></thead><tbody>{body}</tbody></table>"
         )
     crosstalk = est.get("crosstalk_pf")
     if isinstance(crosstalk, dict) and crosstalk:
         body = "".join(
-            f"<tr><td>{esc(k)}</td><td>{esc(_value(v))}</td></tr>" for k, v in sorted(crosstalk.items())
+            f"<tr><td>{esc(k)}</td><td>{esc(_value(_ff(v)))}</td></tr>" for k, v in sorted(crosstalk.items())
         )
         out.append(
             '<table class="grid"><caption>Crosstalk: neighbour\'s delta with the finger here</caption>'
-            f"<thead><tr><th>sensor</th><th>delta (pF)</th></tr></thead><tbody>{body}</tbody></table>"
+            f"<thead><tr><th>sensor</th><th>delta (fF)</th></tr></thead><tbody>{body}</tbody></table>"
         )
     notes = est.get("notes")
     if isinstance(notes, list) and notes:

@@ -369,8 +369,8 @@ def estimate_ok(est: Any, min_delta_pf: float, min_percent_self: float, min_perc
     turned = est.turning_point_mm is not None and est.turning_point_mm > 0
     ok = delta >= min_delta_pf and pct >= floor_pct and not turned
     text = (
-        f"field-solver estimate: touch delta {est.touch_delta_pf:+.3f} pF ({est.percent_change:+.1f} %), "
-        f"floors {min_delta_pf:.2f} pF and {floor_pct:.1f} %"
+        f"field-solver estimate: touch delta {1000 * est.touch_delta_pf:+.1f} fF ({est.percent_change:+.1f} %), "
+        f"floors {1000 * min_delta_pf:.0f} fF and {floor_pct:.1f} %"
     )
     if turned:
         text += f", signal turns around {est.turning_point_mm:.2f} mm above the overlay"

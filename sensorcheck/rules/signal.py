@@ -138,15 +138,16 @@ class TouchBelowFloor(Rule):
             if delta < params["min_delta_pf"]:
                 yield finding(
                     "warning",
-                    f"estimated touch delta of {s.name} is {fmt(delta, 3)} pF; floor {fmt(params['min_delta_pf'], 3)} pF "
+                    f"estimated touch delta of {s.name} is {fmt(1000 * delta, 3)} fF; floor {fmt(1000 * params['min_delta_pf'], 3)} fF "
                     f"(estimate: {est.model})",
-                    value=delta, limit=params["min_delta_pf"], unit="pF", layer=s.layer, geom=s.outline,
+                    # the touch delta in fF, as every report shows it; the parameter stays in pF
+                    value=1000 * delta, limit=1000 * params["min_delta_pf"], unit="fF", layer=s.layer, geom=s.outline,
                     point=est.best_point_mm, nets=s.nets, sensor=s.name,
                 )
             elif pct < floor_pct:
                 yield finding(
                     "warning",
-                    f"estimated touch change of {s.name} is {fmt(pct, 1)} % ({est.touch_delta_pf:+.3f} pF on "
+                    f"estimated touch change of {s.name} is {fmt(pct, 1)} % ({1000 * est.touch_delta_pf:+.1f} fF on "
                     f"{fmt(est.baseline_pf)} pF); floor {fmt(floor_pct, 1)} % (estimate: {est.model})",
                     value=pct, limit=floor_pct, unit="%", layer=s.layer, geom=s.outline,
                     point=est.best_point_mm, nets=s.nets, sensor=s.name,

@@ -65,7 +65,7 @@ def test_no_turnaround_above_surface(turn: float | None) -> None:
     "estimate, expect_unit",
     [
         (est(-0.2, -15.0), None),  # GOOD mutual: 0.2 pF >= 0.1, 15 % >= 10 % (common practice)
-        (est(-0.05, -15.0), "pF"),  # BAD: delta below 0.1 pF
+        (est(-0.05, -15.0), "fF"),  # BAD: delta below 0.1 pF (reported in fF, as every report shows the delta)
         (est(-0.2, -5.0), "%"),  # BAD: 5 % below the mutual floor 10 %
         (est(0.5, 4.0, kind="self"), None),  # GOOD self: 4 % >= 3 %
         (est(0.5, 2.0, kind="self"), "%"),  # BAD self: 2 % < 3 %

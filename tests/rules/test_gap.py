@@ -57,7 +57,7 @@ def test_estimate_decides_for_tx_rx_gap() -> None:
     assert run_one("gap.tx-rx-vs-overlay", design, {"K1": estimate(-0.2, -15.0)}) == []
     # a weak one (-0.05 pF, -4 %) does not: the warning cites it
     (f,) = run_one("gap.tx-rx-vs-overlay", design, {"K1": estimate(-0.05, -4.0)})
-    assert "field-solver estimate" in f.message and "-0.050 pF" in f.message
+    assert "field-solver estimate" in f.message and "touch delta -50.0 fF" in f.message  # the estimate in fF, as every report shows it
 
 
 def self_button(gap_mm: float, overlay_mm: float):
