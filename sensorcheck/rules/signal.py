@@ -138,7 +138,7 @@ class TouchBelowFloor(Rule):
             if delta < params["min_delta_pf"]:
                 yield finding(
                     "warning",
-                    f"estimated touch delta of {s.name} is {fmt(1000 * delta, 3)} fF; floor {fmt(1000 * params['min_delta_pf'], 3)} fF "
+                    f"estimated touch delta of {s.name} is {fmt(1000 * delta, 1)} fF; floor {fmt(1000 * params['min_delta_pf'], 1)} fF "
                     f"(estimate: {est.model})",
                     # the touch delta in fF, as every report shows it; the parameter stays in pF
                     value=1000 * delta, limit=1000 * params["min_delta_pf"], unit="fF", layer=s.layer, geom=s.outline,
