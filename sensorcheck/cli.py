@@ -135,7 +135,10 @@ def _parser() -> argparse.ArgumentParser:
     est.add_argument("--plot", type=Path, help="write the approach curves to this PNG or SVG file")
     est.add_argument("--sweep", metavar="PARAM=V1,V2,...", help="sweep overlay_thickness_mm or overlay_epsilon_r")
     est.add_argument("--format", choices=["text", "json"], default="text")
-    est.add_argument("-v", "--verbose", action="store_true", help="every estimate note of every sensor")
+    est_detail = est.add_mutually_exclusive_group()
+    est_detail.add_argument("-q", "--quiet", action="store_true",
+                            help="the table, the model and the disclaimer only (no per-segment lines, no notes)")
+    est_detail.add_argument("-v", "--verbose", action="store_true", help="every estimate note of every sensor")
     est.add_argument("--scheduler", metavar="ADDRESS", help=scheduler_help)
 
     rules = sub.add_parser(

@@ -102,7 +102,7 @@ def output_width(stream: TextIO) -> int:
 
 
 def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str = "Field-solver estimates",
-                width: int | None = None, verbose: bool = False) -> None:
+                width: int | None = None, verbose: bool = False, quiet: bool = False) -> None:
     """The estimates as a plain ASCII table that fits the width (columns dropped, never cut),
     then the model once and each note once."""
     from sensorcheck.report.common import fold_notes
@@ -133,14 +133,14 @@ def print_table(estimates: dict[str, SensorEstimate], stream: TextIO, title: str
         lines.append(f"model: {m}")
     notes: dict[str, list[str]] = {}
     for name in sorted(estimates):
-        for line in channel_lines(estimates[name]):
+        for line in ([] if quiet else channel_lines(estimates[name])):
             lines.append(f"{name}: {line}")
     for name in sorted(estimates):
-        for note in estimates[name].notes:
+        for note in ([] if quiet else estimates[name].notes):
             notes.setdefault(note, []).append(name)
     for who, note in fold_notes(notes, len(estimates), every=verbose):
         lines.append(f"note ({who}): {note}")
-    lines.append(DISCLAIMER)
+    lines.append(DISCLAIMER)  # also with --quiet: an estimate is never shown without it
     stream.write("\n".join(_wrap(line, width) for line in lines) + "\n")
 
 
@@ -270,7 +270,8 @@ def _run(args: argparse.Namespace, design: Any, names: list[str] | None, known: 
         json.dump(estimates_json(estimates), sys.stdout, indent=2, sort_keys=True)
         sys.stdout.write("\n")
     else:
-        print_table(estimates, sys.stdout, verbose=bool(getattr(args, "verbose", False)))
+        print_table(estimates, sys.stdout, verbose=bool(getattr(args, "verbose", False)),
+                    quiet=bool(getattr(args, "quiet", False)))
     plot = getattr(args, "plot", None)
     if plot is not None:
         plot_curves(estimates, Path(plot))

@@ -119,3 +119,23 @@ def test_nodes_segments_and_position_are_shown_and_in_json() -> None:
     assert j["nodes"][0]["tx"] == "TX1" and j["segments"][0]["crosstalk_pf"] == {"S2": 0.04}
     assert j["position"]["points"][1] == [10.0, None, None] and j["position"]["dead_zones_mm"] == [[10.0, 10.0]]
     assert "nodes" not in cmd.estimates_json({"K1": _est()})["estimates"][0]  # only where estimated
+
+
+def test_quiet_table_keeps_the_numbers_and_the_disclaimer_but_no_notes() -> None:
+    import io
+
+    est = {"K1": _est(), "A0": _est("A0", None)}
+    loud, quiet = io.StringIO(), io.StringIO()
+    cmd.print_table(est, loud, width=100)
+    cmd.print_table(est, quiet, width=100, quiet=True)
+    assert "window 15 mm" in loud.getvalue() and "window 15 mm" not in quiet.getvalue()
+    for row in cmd.estimate_rows(est):
+        assert f" {row['touch_delta_ff']}" in quiet.getvalue()
+    # an estimate is never shown without saying it is one (the brief's safety line)
+    assert "measure a prototype" in quiet.getvalue()
+    from sensorcheck.cli import _parser
+
+    args = _parser().parse_args(["estimate", "x", "--quiet"])
+    assert args.quiet and not args.verbose
+    with pytest.raises(SystemExit):
+        _parser().parse_args(["estimate", "x", "--quiet", "--verbose"])
