@@ -779,7 +779,7 @@ def unnamed_labels(sensors: Sequence[Sensor]) -> dict[str, str]:
         if len(s.nets) == 1:
             out.setdefault(unnamed[0], s.name)
             continue
-        if s.kind == "mutual-node":
+        if s.kind == "mutual-button":
             for e in s.electrodes:
                 if e.net.startswith("~"):
                     out.setdefault(e.net, f"{s.name}.{'TX' if e.role == 'transmitter' else 'RX'}")

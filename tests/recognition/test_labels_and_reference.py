@@ -62,3 +62,17 @@ def test_named_ground_stays_by_name(tmp_path: Path) -> None:
     d, text = _design(tmp_path, "buttons", named=True)
     assert d.ground_nets() == ["GND"]
     assert "ground by name" in text
+
+
+def test_unnamed_mutual_button_electrodes_are_named_tx_and_rx() -> None:
+    # the kind is "mutual-button" (the config's old spelling "mutual-node" is mapped to it on
+    # reading), so a mutual key's two unnamed electrodes take the sensor's name and their role
+    from shapely.geometry import Point, box
+
+    from sensorcheck.design.model import Electrode, Sensor
+    from sensorcheck.design.sensors import unnamed_labels
+
+    tx = Electrode("~na", "transmitter", "top-copper", Point(0, 0).buffer(6).difference(Point(0, 0).buffer(4)))
+    rx = Electrode("~nb", "receiver", "top-copper", Point(0, 0).buffer(3))
+    key = Sensor("K1", "mutual-button", "top-copper", [tx, rx], box(-8, -8, 8, 8), 2.0)
+    assert unnamed_labels([key]) == {"~na": "K1.TX", "~nb": "K1.RX"}
