@@ -23,7 +23,7 @@ from __future__ import annotations
 import re
 from collections.abc import Sequence
 
-from sensorcheck.report.common import board_labels, ordered, place_of
+from sensorcheck.report.common import board_labels, finding_sensors, ordered, place_of
 from sensorcheck.findings import Finding, Result
 
 MARKER_RADIUS_MM: dict[str, float] = {"error": 1.5, "warning": 1.1, "note": 0.8}
@@ -153,8 +153,9 @@ def _attributes(f: Finding, board: str) -> list[str]:
         ("SensorcheckBoard", attr_value(board)),
         ("SensorcheckStatus", "waived" if f.waived else "open"),
     ]
-    if f.sensor:
-        attrs.append(("SensorcheckSensor", attr_value(f.sensor)))
+    sensors = finding_sensors(f)  # a grouped finding may cover several
+    if sensors:
+        attrs.append(("SensorcheckSensor", ",".join(attr_value(s) for s in sensors)))
     if f.nets:
         # One field per net (fields are comma-separated; a comma inside a name is escaped).
         attrs.append(("SensorcheckNets", ",".join(attr_value(n) for n in f.nets)))

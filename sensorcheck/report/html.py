@@ -33,6 +33,7 @@ from typing import Any
 
 from sensorcheck.report.common import (
     board_labels,
+    finding_sensors,
     counts,
     num,
     ordered,
@@ -492,8 +493,9 @@ def _finding_item(f: Finding, fid: str, rules: dict[str, RuleInfo]) -> str:
     title = f' title="{esc(info.title)}"' if info is not None and info.title else ""
     meas = value_text(f)
     where = [esc(where_text(f.location))]
-    if f.sensor:
-        where.append(f"sensor <b>{esc(f.sensor)}</b>")
+    sensors = finding_sensors(f)  # a grouped finding may cover several
+    if sensors:
+        where.append(("sensor " if len(sensors) == 1 else "sensors ") + ", ".join(f"<b>{esc(s)}</b>" for s in sensors))
     if f.nets:
         where.append("nets " + ", ".join(f"<code>{esc(n)}</code>" for n in f.nets))
     if f.location.file:

@@ -33,6 +33,7 @@ from sensorcheck.report.common import (
     artifact_path,
     artifact_uri,
     board_labels,
+    finding_sensors,
     first_paragraph,
     full_message,
     is_archive,
@@ -113,8 +114,8 @@ def _location(loc: Location, f: Finding, result: Result, label: str, text: str, 
     if loc.layer:
         logical.append({"kind": "layer", "name": loc.layer, "fullyQualifiedName": f"{label}/{loc.layer}"})
     if primary:
-        if f.sensor:
-            logical.append({"kind": "sensor", "name": f.sensor, "fullyQualifiedName": f"{label}/sensor/{f.sensor}"})
+        for sensor in finding_sensors(f):  # a grouped finding may cover several
+            logical.append({"kind": "sensor", "name": sensor, "fullyQualifiedName": f"{label}/sensor/{sensor}"})
         for net in f.nets:
             logical.append({"kind": "net", "name": net, "fullyQualifiedName": f"{label}/net/{net}"})
     out["logicalLocations"] = logical
