@@ -14,8 +14,9 @@ from typing import Any
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck import __version__
-from sensorcheck.errors import ConfigError, InputError, SensorcheckError
+from sensorcheck.errors import ConfigError, EmptyInputError, InputError, SensorcheckError
 from sensorcheck.findings import (
+    NOTHING_CHECKED,
     Finding,
     Location,
     Result,
@@ -256,7 +257,7 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         design, config = _design_and_config(path, options.config_file, options.layer_map, progress,
                                             strict=options.strict)
     except SensorcheckError as err:
-        if options.allow_empty and isinstance(err, InputError) and getattr(err, "message", "") == "the folder is empty":
+        if options.allow_empty and isinstance(err, EmptyInputError):
             result.notes.append("The folder is empty: nothing was checked (allowed by --allow-empty).")
             finish(result, options.baseline)
             return result
@@ -365,7 +366,6 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
     return result
 
 
-NOTHING_CHECKED = "input.nothing-checked"
 INIT_HINT = ("run `sensorcheck init PATH` for a starter sensorcheck.toml that names the sensing nets, "
              "check that PATH is the folder (or .zip) of fabrication outputs, or pass --allow-empty "
              "when a board without sensors is expected")
@@ -386,7 +386,7 @@ def _nothing_checked(board: Any, design: Any) -> list[Finding]:
         return []
     return [Finding(rule_id=NOTHING_CHECKED, severity="error", kind="input-error",
                     message=f"nothing was checked ({what}): {INIT_HINT}",
-                    location=Location(file=None))]
+                    location=Location(file=board.source))]
 
 
 def finish(result: Result, baseline: frozenset[str] | None = None) -> None:

@@ -43,6 +43,10 @@ class InputError(SensorcheckError):
         return text
 
 
+class EmptyInputError(InputError):
+    """The folder (or archive) holds no file at all: ``--allow-empty`` lets such a board pass."""
+
+
 class LimitError(InputError):
     """An input exceeds a configured resource limit (size, count, expansion)."""
 

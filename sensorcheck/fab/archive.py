@@ -30,7 +30,7 @@ from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path, PurePosixPath
 
-from sensorcheck.errors import InputError, LimitError
+from sensorcheck.errors import EmptyInputError, InputError, LimitError
 from sensorcheck.limits import DEFAULT_LIMITS, Limits
 
 #: members this small are not held to the compression-ratio limit (a few KB of zeros compress
@@ -246,7 +246,7 @@ def open_input(path: str | Path, *, limits: Limits = DEFAULT_LIMITS) -> Iterator
     if p.is_dir():
         files = _walk_folder(p, limits)
         if not files:
-            raise InputError(shown, None, "the folder is empty", "fabrication outputs (Gerber, Excellon, ...)")
+            raise EmptyInputError(shown, None, "the folder is empty", "fabrication outputs (Gerber, Excellon, ...)")
         yield files
         return
     if p.suffix.lower() == ".zip" or is_zip(p):
