@@ -11,6 +11,10 @@ from typing import Any, Literal
 
 Severity = Literal["error", "warning", "note"]
 SEVERITY_ORDER: dict[str, int] = {"note": 0, "warning": 1, "error": 2}
+#: how a rule's note saying what it could not measure begins (see :func:`is_not_checked`)
+NOT_CHECKED = "not checked: "
+#: the check's own finding for a board where nothing was checked (no data, no copper, no sensor)
+NOTHING_CHECKED = "input.nothing-checked"
 SourceClass = Literal["standard", "handbook", "paper", "common practice", "derived", "input"]
 
 
@@ -86,6 +90,11 @@ def _round(v: float | None, step: float = 0.5) -> str:
         return "-"
     return f"{round(v / step) * step:.1f}"
 
+
+
+def is_not_checked(f: Finding) -> bool:
+    """A rule's one note saying what it is listed for but could not measure ("not checked: ...")."""
+    return f.kind == "finding" and f.severity == "note" and f.message.startswith(NOT_CHECKED)
 
 def fingerprint_for(finding: Finding, board: str = "") -> str:
     """A stable fingerprint from rule, layer, sensor, nets and place (rounded to 0.5 mm).

@@ -288,10 +288,8 @@ def _read_all(board: Board, files: list[InputFile], layer_map: dict[str, str], l
                                 features=g.features, dark=g.dark)
                 unknown_layers.append((ident, unknown))
                 x2_images[id(unknown)] = g.by_net  # used if its content makes it copper
-            except SensorcheckError:
-                pass  # not understood stays not understood; nothing claimed it
-            except Exception:  # noqa: BLE001 - a reader bug on an unclaimed file must not lose the board
-                pass
+            except Exception:  # noqa: BLE001 - not understood stays not understood (nothing claimed it); a
+                pass  # reader bug on an unclaimed file must not lose the board
             continue
         if ident is None or ident.role is None:
             continue

@@ -11,7 +11,6 @@ import argparse
 import json
 import sys
 from pathlib import Path
-from collections.abc import Callable
 from typing import Any, Literal, TextIO, cast
 
 from sensorcheck.errors import ConfigError, SensorcheckError
@@ -21,10 +20,6 @@ from sensorcheck.report.common import scan_json
 SweepParam = Literal["overlay_thickness_mm", "overlay_epsilon_r"]
 SWEEP_PARAMS: tuple[str, ...] = ("overlay_thickness_mm", "overlay_epsilon_r")
 DISCLAIMER = "Estimates of a field-solver model, not measurements: measure a prototype before release."
-
-
-def _fmt(value: float | None, spec: str, none: str = "-") -> str:
-    return none if value is None else format(value, spec)
 
 
 def _sig(value: float | None, none: str = "-", signed: bool = False) -> str:

@@ -22,10 +22,6 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
-import shapely
-from shapely.geometry import Polygon
-from shapely.geometry.base import BaseGeometry
-
 from sensorcheck.board.model import Board, Stackup
 from sensorcheck.design.roles import matches, natural_key
 from sensorcheck.design.recognise import Found, Recognition, is_unnamed, recognise
@@ -169,10 +165,6 @@ def _stackup_lines(stackup: Stackup | None) -> list[str]:
             lines.append(f"{prefix}epsilon_r = {la.epsilon_r:g}")
     lines.append("")
     return lines
-
-
-def _role_name(role: str) -> str:
-    return {"transmitter": "transmitter", "receiver": "receiver"}.get(role, role)
 
 
 def recognise_board(board: Board) -> tuple[Recognition, dict[str, tuple[str, str | None, str]]]:

@@ -502,7 +502,7 @@ def _read_mutual(board: Board, pairs: list[_Pair], cands: dict[str, list[_Cand]]
             # two layers: the side with more copper is nearer the touch, and is taken as the RX
             tx_side = 0 if area[0] < area[1] else 1
             how = "by layer (the side with more copper faces the touch: RX; the one under it: TX)"
-    txs, rxs = sides[tx_side], sides[1 - tx_side]
+    txs = sides[tx_side]
     # touching nodes with 2+ nets each side: a matrix (touchpad); else keys
     nodes = [Node(tx=p.a if p.a in txs else p.b, rx=p.b if p.a in txs else p.a, tx_layer=p.layer_a,
                   rx_layer=p.layer_b, footprint=p.footprint) for p in pairs]

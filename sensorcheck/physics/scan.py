@@ -24,7 +24,7 @@ from sensorcheck.physics.estimate import NodeEstimate, SensorEstimate
 from sensorcheck.physics.finger import PF, turning_point
 from sensorcheck.physics.model import SensorModel, _neighbour_channels, approach_heights, describe
 
-CROSS_GROW_MM = 0.5  # the row and the column grown by their distance plus this to find where they cross
+CROSS_GROW_MM = 0.5  # the row and the column grown by their distance plus this to find where they cross (stated model choice)
 
 
 def matrix_lines(model: SensorModel) -> tuple[list[str], list[str]]:

@@ -34,7 +34,6 @@ if TYPE_CHECKING:
     from sensorcheck.physics.fingerprint import WindowKey
 
 Progress = Callable[[str], None]
-Outcome = "SensorEstimate | str"
 #: a note build_model writes when the window had to shrink: the fingerprinted window is then not the solved one
 COARSENED_PREFIX = "mesh reduced to stay within"
 
@@ -65,7 +64,6 @@ def _solve_in_worker(job: tuple[str, int, float]) -> tuple[str, Any]:
 def _keys(design: "Design", names: list[str], heights: int, max_h: float) -> tuple[dict[str, "WindowKey | None"], int]:
     """Window fingerprints (None where one cannot be made: that sensor is solved alone and reports
     its own error) and the number of stackup notes that lead every estimate's notes."""
-    from sensorcheck.design.model import Sensor  # noqa: F401  (type only)
     from sensorcheck.limits import DEFAULT_LIMITS
     from sensorcheck.physics.finger import FINGER_DEFAULTS
     from sensorcheck.physics.fingerprint import _net_roles, context_digest, window_key

@@ -14,7 +14,7 @@ from pathlib import Path, PurePath
 from typing import TYPE_CHECKING, Any, Literal
 from urllib.parse import quote
 
-from sensorcheck.findings import Finding, Location, Result, RuleInfo, SensorSummary, sort_key
+from sensorcheck.findings import NOT_CHECKED, Finding, Location, Result, RuleInfo, SensorSummary, is_not_checked, sort_key
 
 if TYPE_CHECKING:
     from sensorcheck.physics.estimate import SensorEstimate
@@ -210,12 +210,9 @@ def finding_sensors(f: Finding) -> tuple[str, ...]:
     return (f.sensor,) if f.sensor else ()
 
 
-NOT_CHECKED = "not checked: "
-
-
-def is_not_checked(f: Finding) -> bool:
-    """A rule's one note saying what input it lacked (the engine's "not checked: ..." note)."""
-    return f.kind == "finding" and f.severity == "note" and f.message.startswith(NOT_CHECKED) and not f.waived
+def open_not_checked(f: Finding) -> bool:
+    """A rule's unwaived "not checked: ..." note (the report folds these into one line)."""
+    return is_not_checked(f) and not f.waived
 
 
 def not_checked_summary(findings: Iterable[Finding]) -> tuple[list[str], list[str]] | None:
@@ -223,7 +220,7 @@ def not_checked_summary(findings: Iterable[Finding]) -> tuple[list[str], list[st
     rules: list[str] = []
     reasons: dict[str, None] = {}
     for f in findings:
-        if is_not_checked(f):
+        if open_not_checked(f):
             rules.append(f.rule_id)
             for part in f.message[len(NOT_CHECKED):].split("; "):
                 reasons.setdefault(part.strip(), None)
@@ -238,8 +235,9 @@ def full_message(f: Finding) -> str:
     Viewers that show only a message (code scanning, CI annotations) still tell where it is.
     """
     extra = [where_text(f.location)]
-    if f.sensor:
-        extra.append(f"sensor {safe_text(f.sensor)}")
+    sensors = finding_sensors(f)  # a grouped finding may cover several
+    if sensors:
+        extra.append(("sensor " if len(sensors) == 1 else "sensors ") + safe_text(", ".join(sensors)))
     return f"{safe_text(f.message)} [{'; '.join(extra)}]"
 
 

@@ -9,7 +9,6 @@ and control characters are shown as escapes, so a net name cannot style or rewri
 from __future__ import annotations
 
 import io
-import re
 from collections.abc import Sequence
 from typing import Literal
 
@@ -23,7 +22,7 @@ from sensorcheck.report.common import (
     estimate_notes,
     finding_sensors,
     fold_notes,
-    is_not_checked,
+    open_not_checked,
     is_problem,
     not_checked_summary,
     num,
@@ -40,11 +39,9 @@ from sensorcheck.report.common import (
     where_text,
     xy_text,
 )
-from sensorcheck.findings import Finding, Result, RuleInfo, SensorSummary
+from sensorcheck.findings import NOTHING_CHECKED, Finding, is_not_checked, Result, RuleInfo, SensorSummary
 from sensorcheck.report.table import Column, table
 
-#: the check's own finding for a board where nothing was checked (``check.NOTHING_CHECKED``)
-NOTHING_CHECKED = "input.nothing-checked"
 _STYLE = {"error": "bold red", "warning": "yellow", "note": "cyan", "waived": "dim", "internal": "bold magenta"}
 _LABEL = {"error": "ERROR", "warning": "WARNING", "note": "NOTE"}
 
@@ -64,10 +61,6 @@ _UNITS = ("mm2", "mm", "pf", "ff", "percent", "pct")
 _UNIT_LABEL = {"mm2": "mm2", "mm": "mm", "pf": "pF", "ff": "fF", "percent": "%", "pct": "%"}
 #: places listed under a grouped finding before "+N more" (all of them with --verbose)
 _PLACES_SHOWN = 4
-
-
-def _t(text: object, style: str = "") -> Text:
-    return Text(safe_text(text), style=style)
 
 
 def _label(key: str) -> str:
@@ -237,7 +230,7 @@ def _finding_lines(f: Finding, detail: Detail, models: Sequence[str] = ()) -> Re
 def _findings_block(findings: list[Finding], catalogue: dict[str, RuleInfo], detail: Detail,
                     models: Sequence[str] = ()) -> list[RenderableType]:
     out: list[RenderableType] = []
-    open_findings = [f for f in findings if not f.waived and f.kind == "finding" and not is_not_checked(f)]
+    open_findings = [f for f in findings if not f.waived and f.kind == "finding" and not open_not_checked(f)]
     for sev in ("error", "warning", "note"):
         if detail == "quiet" and sev != "error":
             continue
@@ -304,8 +297,7 @@ def _board(result: Result, label: str, catalogue: dict[str, RuleInfo], fancy: bo
     head.append(f"  ({safe_text(result.source)})", style="")
     parts: list[RenderableType] = [head]
     ran = len(set(result.rules_run))  # the rules that measured
-    blind = len({f.rule_id for f in findings if f.kind == "finding" and f.severity == "note"
-                 and f.message.startswith("not checked")} - set(result.rules_run))
+    blind = len({f.rule_id for f in findings if is_not_checked(f)} - set(result.rules_run))
     counted = f"{ran} rule{'s' if ran != 1 else ''} measured" + (f", {blind} not checked" if blind else "")
     verdict = sensor_verdict(findings).split(" ", 1)[0]
     summary = Text(f"{verdict}: {summary_line(findings)}; {counted}", style="bold")

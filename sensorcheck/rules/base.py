@@ -8,13 +8,14 @@ The family modules import this (never the engine), and the engine finds them thr
 
 from __future__ import annotations
 
+import functools
 import inspect
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, ClassVar, Literal
 
-from sensorcheck.findings import Finding, Severity, SourceClass
+from sensorcheck.findings import NOT_CHECKED, Finding, Severity, SourceClass
 
 if TYPE_CHECKING:
     from sensorcheck.design.model import Design
@@ -200,7 +201,13 @@ def rule_doc(cls: type[Rule]) -> str:
 
 
 def doc_sections(cls: type[Rule]) -> dict[str, str]:
-    """Split a rule docstring into its headings (``Heading:`` lines) -> text."""
+    """Split a rule docstring into its headings (``Heading:`` lines) -> text (parsed once per rule:
+    the engine reads the fix and the references for every finding)."""
+    return dict(_doc_sections(cls))
+
+
+@functools.cache
+def _doc_sections(cls: type[Rule]) -> tuple[tuple[str, str], ...]:
     out: dict[str, str] = {}
     current: str | None = None
     lines: list[str] = []
@@ -215,10 +222,8 @@ def doc_sections(cls: type[Rule]) -> dict[str, str]:
             lines.append(line)
     if current is not None:
         out[current] = "\n".join(lines).strip()
-    return out
+    return tuple(out.items())
 
-
-NOT_CHECKED = "not checked: "
 
 
 def missing_note(rule_id: str, what: list[tuple[str, str]]) -> Finding:
@@ -232,6 +237,3 @@ def not_checked_note(rule_id: str, what: str, how: str) -> Finding:
     how to make it measurable); a rule that yields nothing else did not measure (``rules_run``)."""
     return missing_note(rule_id, [(what, how)])
 
-
-def is_not_checked(f: Finding) -> bool:
-    return f.kind == "finding" and f.severity == "note" and f.message.startswith(NOT_CHECKED)

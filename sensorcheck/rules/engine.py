@@ -43,6 +43,7 @@ from sensorcheck.errors import ConfigError, SensorcheckError
 from sensorcheck.design.model import readable
 from sensorcheck.findings import (
     SEVERITY_ORDER,
+    is_not_checked,
     Severity,
     Finding,
     Location,
@@ -52,20 +53,14 @@ from sensorcheck.findings import (
     fingerprint_for,
     sort_key,
 )
-from sensorcheck.rules.base import (  # re-exported: older code imports these from the engine
+from sensorcheck.rules.base import (
     DOC_HEADINGS,
     HOW_TO_GIVE,
     MissingInput,
-    Need,
-    Param,
     Rule,
-    NOT_CHECKED,
     RunCache,
     doc_sections,
-    grow_outline,
-    is_not_checked,
     missing_note,
-    not_checked_note,
     rule_doc,
 )
 from sensorcheck.rules.catalogue import FAMILIES

@@ -25,7 +25,6 @@ from typing import Any
 
 import pytest
 import shapely
-from shapely.geometry import Point
 
 from sensorcheck.check import build_design_for
 from sensorcheck.design.roles import nets_at_place
@@ -92,7 +91,7 @@ def place_config(named: Any, stripped_board: Any, config_text: str) -> tuple[str
                         conflicts.append(f"{hit[0]}: {prev} and {(net, role)}")
                     continue
                 claimed[key] = (net, role)
-                entry = [f"[[roles.place]]", f"layer = {_toml_str(lay.name)}",
+                entry = ["[[roles.place]]", f"layer = {_toml_str(lay.name)}",
                          f"point_mm = [{pt.x!r}, {pt.y!r}]", f"role = {_toml_str(role)}"]
                 if role == "aggressor" and kind:
                     entry.append(f"kind = {_toml_str(kind)}")

@@ -17,7 +17,6 @@ import math
 from pathlib import Path
 
 import pytest
-import shapely
 from shapely.geometry import Point
 
 from sensorcheck.errors import InputError

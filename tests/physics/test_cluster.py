@@ -8,7 +8,6 @@ the optional extra (``sensorcheck[cluster]``) is not installed.
 from __future__ import annotations
 
 import argparse
-import io
 import json
 import socket
 from pathlib import Path

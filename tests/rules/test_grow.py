@@ -13,7 +13,7 @@ import pytest
 from shapely.geometry import Point, Polygon, box
 
 from sensorcheck.design.zones import sensing_zone
-from sensorcheck.rules.engine import grow_outline
+from sensorcheck.rules.base import grow_outline
 
 
 def _grow(outline: Polygon, margin_mm: float, d_mm: float) -> Polygon:
