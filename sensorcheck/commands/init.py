@@ -192,10 +192,14 @@ def starter_config(board: Board, recognition: tuple[Recognition, dict[str, tuple
     sensor_of: dict[str, str] = {}
     groups: list[Found] = []
     places: list[tuple[Found, str, str]] = []  # (sensor, net, role)
+    # the board's face: where most sensors are touched; a sensor touched from the other face gets a
+    # [[sensors]] table of its own carrying its face
+    face_count = {fc: sum(1 for f in rec.sensors if f.face == fc) for fc in ("top", "bottom")}
+    face = "bottom" if face_count["bottom"] > face_count["top"] else "top"
     for f in rec.sensors:
         mutual_segments = f.kind in ("slider", "wheel") and bool(f.tx)
-        if mutual_segments or (f.kind == "proximity" and not any(re.search(r"PROX|HAND|PRESENCE", n.upper())
-                                                                 for n in f.nets)):
+        if mutual_segments or f.face != face or (
+                f.kind == "proximity" and not any(re.search(r"PROX|HAND|PRESENCE", n.upper()) for n in f.nets)):
             groups.append(f)
             continue
         for n in f.all_nets:
@@ -214,8 +218,6 @@ def starter_config(board: Board, recognition: tuple[Recognition, dict[str, tuple
         if not is_unnamed(n):
             roles[n] = (role, None, why)
     faces = {f.face for f in rec.sensors}
-    face_count = {fc: sum(1 for f in rec.sensors if f.face == fc) for fc in ("top", "bottom")}
-    face = "bottom" if face_count["bottom"] > face_count["top"] else "top"
     if not rec.sensors:
         face_why = "no sensors recognised: top is the usual touched face"
     elif len(faces) == 1:
@@ -223,8 +225,9 @@ def starter_config(board: Board, recognition: tuple[Recognition, dict[str, tuple
     else:
         other = [f.name for f in rec.sensors if f.face != face]
         face_why = (f"{face_count[face]} sensor(s) face the {face}, but {', '.join(other)} have their electrodes "
-                    f"only or mostly on the other face: the check takes one touched face per board, so check "
-                    f"those with a second config (face = \"{'top' if face == 'bottom' else 'bottom'}\")")
+                    f"only or mostly on the other face: each of those has a [[sensors]] table below with "
+                    f"face = \"{'top' if face == 'bottom' else 'bottom'}\" (check both faces' overlays: one "
+                    f"overlay stack is given for the board)")
     lines: list[str] = [
         f"# sensorcheck.toml: starter config written by `sensorcheck init` for {_comment(board.name)}.",
         "# Every guess is marked REVIEW with the reason; check each before trusting a report.",
@@ -320,7 +323,12 @@ def starter_config(board: Board, recognition: tuple[Recognition, dict[str, tuple
                                   for n in f.all_nets[:6] if n in f.points)
                 lines.append(f"# (unnamed copper is named by its geometry id: {_comment(where)})")
             lines += ["[[sensors]]", f"name = {_q(f.name)}", f"kind = {_q(f.kind)}"]
-            if f.tx:
+            if f.face != face:
+                lines.append(f"face = {_q(f.face)}  # touched from the {f.face}: see the REVIEW in [board]")
+            if f.kind == "matrix":
+                lines += [f"rows = [{', '.join(_q(n) for n in f.tx)}]",
+                          f"columns = [{', '.join(_q(n) for n in f.rx)}]"]
+            elif f.tx:
                 lines += [f"tx = [{', '.join(_q(n) for n in f.tx)}]", f"rx = [{', '.join(_q(n) for n in f.rx)}]"]
             else:
                 lines.append(f"nets = [{', '.join(_q(n) for n in f.nets)}]")

@@ -433,7 +433,7 @@ def _groups(ctx: _Ctx, value: Any) -> list[SensorGroup]:
     for i, gv in enumerate(value):
         where = f"sensors[{i}]"
         g = _table(ctx, gv, where)
-        _check_keys(ctx, g, ("name", "kind", *_GROUP_FIELDS), where)
+        _check_keys(ctx, g, ("name", "kind", "face", *_GROUP_FIELDS), where)
         for req in ("name", "kind"):
             if req not in g:
                 raise ctx.err(f"{where}.{req}", "missing")
@@ -489,7 +489,8 @@ def _groups(ctx: _Ctx, value: Any) -> list[SensorGroup]:
         dup = sorted({n for n in all_nets if all_nets.count(n) > 1})
         if dup:
             raise ctx.err(where, f"net {dup[0]!r} is listed in two places of this group")
-        groups.append(SensorGroup(name=name, kind=kind, **lists))  # type: ignore[arg-type]
+        face = _string(ctx, g["face"], f"{where}.face", choices=("top", "bottom")) if "face" in g else None
+        groups.append(SensorGroup(name=name, kind=kind, face=face, **lists))  # type: ignore[arg-type]
     return groups
 
 

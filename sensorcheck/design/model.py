@@ -85,6 +85,8 @@ class SensorGroup:
     rx: tuple[str, ...] = ()
     rows: tuple[str, ...] = ()
     columns: tuple[str, ...] = ()
+    #: the face this sensor is touched from ([[sensors]] face); None: the board's face ([board] face)
+    face: Literal["top", "bottom"] | None = None
 
 
 @dataclass(slots=True)
@@ -154,6 +156,9 @@ class Sensor:
     rows: tuple[str, ...] = ()
     columns: tuple[str, ...] = ()
     how_found: str = ""  # "roles", "group", "place"
+    #: the face the sensor is touched from: its group's ``face``, else the board's (build_design sets
+    #: it; None, for a sensor made by hand: the board's face, Config.face)
+    face: Literal["top", "bottom"] | None = None
     #: the outline once made, with the electrode geometries it was made from (see :attr:`outline`)
     _outline_memo: tuple[tuple[BaseGeometry, ...], BaseGeometry] | None = field(
         default=None, init=False, repr=False, compare=False)

@@ -4,7 +4,10 @@ Order of work:
 
 1. Roles of nets (``design/roles.py``): patterns, then places.
 2. Explicit ``[[sensors]]`` groups, in config order.  A group naming a net the board does not
-   have is a config error (``sensors[i].nets``).
+   have is a config error (``sensors[i].nets``).  A group with its own ``face`` is touched from
+   that face: its electrodes are taken nearest that face, and ``Sensor.face`` says so (rules read
+   the electrodes' layers; the estimate turns the stack over for it).  Every other sensor takes the
+   board's face.
 3. Matrices by name: transmitter (or self) nets whose names pair as rows and columns
    (``X*``/``Y*``, ``ROW*``/``COL*``, ``R*``/``C*``, ``H*``/``V*`` after a common prefix).
 4. Mutual nodes from geometry: every transmitter/receiver pair is looked at on each copper
@@ -719,11 +722,16 @@ def build_design(board: Board, config: Config) -> Design:
         notes.append("the board has no copper layers: no sensors")
         return Design(board=board, config=config, roles=roles, sensors=[], notes=notes)
 
-    # 2. explicit groups
+    # 2. explicit groups, each from its own face where it gives one ([[sensors]] face)
     for i, g in enumerate(config.groups):
         _check_group_nets(board_nets, g, i, config)
-        sensors.append(_group_sensor(board, g, roles, margin, face, face_order, notes))
+        g_face = g.face or face
+        g_order = face_order if g_face == face else [la.name for la in face_layers(board, g_face)]
+        sensor = _group_sensor(board, g, roles, margin, g_face, g_order, notes)
+        sensor.face = g_face  # type: ignore[assignment]
+        sensors.append(sensor)
         used.update(g.nets, g.tx, g.rx, g.rows, g.columns)
+    n_groups = len(sensors)
 
     # 3. matrices by name
     for role_a, role_b in (("transmitter", "receiver"), ("self", "self")):
@@ -752,7 +760,8 @@ def build_design(board: Board, config: Config) -> Design:
             "[[roles.place]] for boards without net names, or [[sensors]] groups; "
             "`sensorcheck init PATH` writes a starter file"
         )
-    for s in sensors:
+    for s in sensors[n_groups:]:
+        s.face = face  # type: ignore[assignment]
         if s.how_found == "roles" and any(n in ra.by_place for n in s.nets):
             s.how_found = "place"
     names: dict[str, int] = {}

@@ -89,7 +89,9 @@ def _keys(design: "Design", names: list[str], heights: int, max_h: float) -> tup
     for n in names:
         try:
             s = by_name[n]
-            out[n] = None if s.outline.is_empty else window_key(design, s, opts.window_mm, context, roles)
+            # a sensor touched from another face than the overlay's is solved alone (the context is the board's)
+            out[n] = (None if s.outline.is_empty or s.face not in (None, cfg.overlay.face)
+                      else window_key(design, s, opts.window_mm, context, roles))
         except Exception:  # noqa: BLE001 - bad copper: the sensor's own solve says what is wrong
             out[n] = None
     return out, len(dict.fromkeys(stack.notes))

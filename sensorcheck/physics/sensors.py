@@ -375,6 +375,8 @@ def build_model(
         validate_finger(finger)
     except ValueError as exc:
         raise ConfigError(cfg.file, "finger", str(exc)) from None
+    if sensor.face is not None and sensor.face != overlay.face:  # a sensor touched from the other face ([[sensors]] face)
+        overlay = replace(overlay, face=sensor.face)
     stack = build_stack(design, overlay)
     notes = list(stack.notes)
     outline = sensor.outline

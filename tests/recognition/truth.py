@@ -58,6 +58,9 @@ def load_truth(path: Path) -> list[dict[str, Any]]:
 
 
 def _face(design: Design, s: Sensor) -> str:
+    """The sensor's touched face: its own (``[[sensors]] face``, set by build_design), else its layer's side."""
+    if s.face is not None:
+        return s.face
     cu = design.board.copper_layers()
     return "bottom" if len(cu) > 1 and s.layer == cu[-1].name else "top"
 
