@@ -31,8 +31,14 @@ Order of work (every threshold below is a rule of thumb, "common practice", not 
 4. Self sensors: the remaining electrode nets; those lying next to each other (gaps at most
    :data:`SEGMENT_GAP_MAX_MM`) in a row or round a circle are sliders and wheels, the rest are
    buttons, or proximity electrodes when large (over :data:`MAX_BUTTON_MM2`) or a thin loop.
-5. The touched face per sensor: the outer layer its electrodes are on; a net with electrode
-   copper on both outer layers is taken where it has more, with a REVIEW note.
+5. The touched face per sensor, from which side its electrodes face free of other copper: the
+   outer layer they are on faces its own side; the other side is shielded when other nets' copper
+   on a layer between covers at least :data:`FAR_BLOCK_SHARE` of them (a ground pour or hatch
+   behind the electrodes), and then the face is certain.  Where nothing shields them and they lie
+   on the other face than most of the board's sensors, the copper cannot tell (touched directly,
+   or through the board like the others): taken on their own side, with a REVIEW note.  A net
+   with electrode copper on both outer layers is taken where it has more, with a REVIEW note.  A
+   mutual sensor is placed by its RX (the TX may lie under it on the other layer).
 
 Names: sensors are named by kind and place (``B1``, ``S1``, ``W1``, ``K1``, ``M1``, ``P1``), from
 the top left of the board, in reading order; a slider or wheel named by its nets keeps the stem.
@@ -87,6 +93,7 @@ PIN_PAD_MAX_MM2 = 20.0  # a smaller piece holding a part's pin (netlist) is that
 COMB_FILL = 0.3  # thin copper filling this share of its hull is a comb or spiral, not a line
 LOOP_SOLIDITY = 0.35  # a proximity loop: its copper fills at most this share of its outline
 MAX_COORDINATES = 20000  # a net with more outline points is a pour or lettering, not an electrode
+FAR_BLOCK_SHARE = 0.3  # other copper covering this share of the electrodes towards a face shields them from it
 _POWER_RE = re.compile(r"(GND|VCC|VDD|VSS|VBAT|VBUS|VIN|VOUT|^\+|^-|(^|[_.])[0-9]+V[0-9]*([_.]|$)|^V[0-9])")
 _REFERENCE = ("ground", "shield", "guard")
 
@@ -666,10 +673,7 @@ def _name_and_face(board: Board, found: list[Found], cands: dict[str, list[_Cand
             f.name = f"{k}{count[k]}"
     found.sort(key=lambda f: (prefix.get(f.kind, "Z"), natural_key(f.name)))
     for f in found:
-        layers: dict[str, float] = {}
-        for n in f.all_nets:
-            for c in cands.get(n, []):
-                layers[c.layer] = layers.get(c.layer, 0.0) + c.area
+        layers = _electrode_layers(f, cands)
         if layers:
             f.layer = max(sorted(layers), key=lambda k: layers[k])
         elif not f.layer:
@@ -687,12 +691,83 @@ def _name_and_face(board: Board, found: list[Found], cands: dict[str, list[_Cand
                 x, y = _point_in(g)
                 f.points[n] = (lname, x, y)
         f.face = _face_of(board, f.layer)
+    _touched_faces(board, found, cands)
+
+
+def _electrode_layers(f: Found, cands: dict[str, list[_Cand]]) -> dict[str, float]:
+    """Electrode copper (mm2) per outer layer of the nets that face the touch: a mutual sensor's RX (the
+    TX may lie under it on the other layer), every net of a self sensor."""
+    layers: dict[str, float] = {}
+    nets = f.rx if f.rx and any(n in cands for n in f.rx) else f.all_nets
+    for n in nets:
+        for c in cands.get(n, []):
+            layers[c.layer] = layers.get(c.layer, 0.0) + c.area
+    return layers
+
+
+def _far_cover(board: Board, f: Found, cands: dict[str, list[_Cand]]) -> tuple[str, float] | None:
+    """The copper layer between ``f``'s electrodes and the opposite face that covers most of them with
+    other nets' copper, and the share it covers; None on a one-layer board or without electrode copper."""
+    cu = board.copper_layers()
+    names = [la.name for la in cu]
+    if len(cu) < 2 or f.layer not in names:
+        return None
+    nets = set(f.all_nets)
+    own = [c.geometry for n in nets for c in cands.get(n, []) if c.layer == f.layer]
+    electrode = shapely.union_all(own) if own else Polygon()
+    if electrode.is_empty or electrode.area <= 0:
+        return None
+    i = names.index(f.layer)
+    between = cu[i + 1:] if f.face == "top" else cu[:i]
+    best = ("", 0.0)
+    for la in between:
+        if la.dark is None or la.dark.is_empty:
+            continue
+        cover = electrode.intersection(la.dark)
+        if cover.is_empty:
+            continue
+        mine = [la.by_net[n] for n in nets if n in la.by_net]
+        if mine:
+            cover = cover.difference(shapely.union_all(mine))
+        share = cover.area / electrode.area
+        if share > best[1]:
+            best = (la.name, share)
+    return best
+
+
+def _touched_faces(board: Board, found: list[Found], cands: dict[str, list[_Cand]]) -> None:
+    """Evidence and REVIEW notes for each sensor's touched face (see the module docstring, step 5)."""
+    cu = board.copper_layers()
+    layers_of = {id(f): _electrode_layers(f, cands) for f in found}
+    count = {fc: sum(1 for f in found if f.face == fc and layers_of[id(f)]) for fc in ("top", "bottom")}
+    board_face = "bottom" if count["bottom"] > count["top"] else "top"
+    for f in found:
+        layers = layers_of[id(f)]
         others = [la for la in layers if la != f.layer]
         if len(cu) == 1:
             f.evidence.append("one copper layer: touched on the top")
-        elif others:
+            continue
+        if not layers:  # no electrode copper on this board (a wire, a spring): nothing tells its face
+            f.face = board_face
+            f.evidence.append(f"no electrode copper on the board: taken as touched from the {board_face}, as the "
+                              "board's other sensors")
+            continue
+        far = "bottom" if f.face == "top" else "top"
+        if others:
             f.evidence.append(f"electrode copper on {f.layer} ({layers[f.layer]:.0f} mm2) and on "
                               f"{', '.join(others)} ({sum(layers[o] for o in others):.0f} mm2): taken where it has more")
             f.review.append(f"electrodes on both outer layers: check that the {f.face} is the touched face")
+            continue
+        cover = _far_cover(board, f, cands)
+        if cover is not None and cover[1] >= FAR_BLOCK_SHARE:
+            f.evidence.append(f"electrodes on {f.layer} only, and {cover[0]} covers {100 * cover[1]:.0f} % of them "
+                              f"with other copper: they face the {f.face} only")
+        elif f.face == board_face:
+            f.evidence.append(f"electrodes on {f.layer} only: touched from the {f.face}, as the board's other "
+                              f"sensors (no copper shields them from the {far} either)")
         else:
-            f.evidence.append(f"electrodes on {f.layer} only: touched from the {f.face}")
+            f.evidence.append(f"electrodes on {f.layer} only, with no other copper over them towards the {far}")
+            f.review.append(f"cannot tell the touched face from the copper: its electrodes are on the {f.face} "
+                            f"copper and nothing covers them towards the {far}, where the board's other sensors "
+                            f"are touched; taken as touched from the {f.face} (its own [[sensors]] face); if it is "
+                            f"touched through the board from the {far}, remove that face")
