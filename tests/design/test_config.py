@@ -317,6 +317,8 @@ def test_out_of_range(tmp_path: Path, text: str, key: str) -> None:
         ("[[sensors]]\nname='a'\nkind='mutual-button'\ntx=['A']\n", "sensors[0].rx", "receiver"),
         ("[[sensors]]\nname='a'\nkind='matrix'\nrows=['A']\nnets=['B']\n", "sensors[0].nets", "not nets"),
         ("[[sensors]]\nname='a'\nkind='slider'\nnets=['A','A']\n", "sensors[0].nets[1]", "twice"),
+        ("[[sensors]]\nname='a'\nkind='self-button'\nnets=['A']\nface='back'\n", "sensors[0].face", "'bottom'"),
+        ("[[sensors]]\nname='a'\nkind='self-button'\nnets=['A']\nface=1\n", "sensors[0].face", "a string"),
         ("[[sensors]]\nname='a'\nkind='self-button'\nnets=['A']\n[[sensors]]\nname='a'\nkind='self-button'\nnets=['B']\n",
          "sensors[1].name", "twice"),
         ("profile = 'paranoid'\n", "profile", "no shipped profile"),
