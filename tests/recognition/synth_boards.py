@@ -4,9 +4,9 @@ Each board is made from shapely geometry whose answer is known by construction, 
 RS-274X regions (Gerber specification, section 4.10: a region is a contour; a polygon with holes
 is written as hole-free pieces that meet edge to edge), with ``%TO.N`` net attributes (section
 5.6.13) on the named variant and none on the unnamed one, in millimetres (``%MOMM%``) or inches
-(``%MOIN%``), with the sensors on the top or the bottom copper.  :func:`write_all` writes every
-variant into a folder and returns (board folder, truth entries) pairs; the truth entries follow
-``tests/recognition/truth.py``.
+(``%MOIN%``), with the sensors on the top or the bottom copper (on both: ``two_faces``).
+:func:`write_all` writes every variant into a folder and returns (board folder, truth entries)
+pairs; the truth entries follow ``tests/recognition/truth.py``.
 """
 
 from __future__ import annotations
@@ -134,9 +134,22 @@ def mutual_wheel() -> tuple[Copper, Truth, tuple[float, float, float, float]]:
     return {"s": s, "o": o}, truth, (0, 0, 50, 50)
 
 
+def two_faces() -> tuple[Copper, Truth, tuple[float, float, float, float]]:
+    """Buttons touched from both faces: three on the sensing face in openings of a ground pour there;
+    on the other face one button under the pour (shielded towards the sensing face: touched from its
+    own face only) and one under an opening in it (the copper cannot tell: a REVIEW, its own face)."""
+    s = {f"KEY_{c}": disc(10 + 20 * k, 10, 5) for k, c in enumerate("ABC")}
+    o = {"KEY_D": disc(70, 10, 5), "KEY_E": disc(90, 10, 5)}
+    s["GND"] = _ground(0, 0, 100, 20, [*s.values(), o["KEY_D"]])
+    truth = [{"kind": "self-button", "nets": [f"KEY_{c}"]} for c in "ABC"]
+    truth += [{"kind": "self-button", "nets": [f"KEY_{c}"], "side": "o"} for c in "DE"]
+    return {"s": s, "o": o}, truth, (0, 0, 100, 20)
+
+
 MAKERS: dict[str, Callable[[], tuple[Copper, Truth, tuple[float, float, float, float]]]] = {
     "buttons": buttons, "self-slider": self_slider, "self-wheel": self_wheel, "proximity": proximity_loop,
     "mutual-keys": mutual_keys, "matrix": matrix, "mutual-slider": mutual_slider, "mutual-wheel": mutual_wheel,
+    "two-faces": two_faces,
 }
 
 
@@ -207,7 +220,8 @@ def write_board(folder: Path, kind: str, *, named: bool, units: str, face: str) 
     every = {**copper["s"], **copper["o"]}
     out: Truth = []
     for e in truth:
-        e = dict(e, face=face)
+        e = dict(e, face=face if e.get("side", "s") == "s" else other)  # "side": "o": on the other face
+        e.pop("side", None)
         if not named:
             from sensorcheck.design.roles import matches
 
