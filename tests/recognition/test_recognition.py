@@ -44,6 +44,19 @@ def test_synthetic_board(kind: str, named: bool, units: str, face: str, tmp_path
     assert (sc.right, sc.false) == (sc.truth, 0), sc.details
 
 
+def test_every_kind_is_on_a_named_and_an_unnamed_synthetic_board() -> None:
+    # issue 12: "each recognised kind has a test on both a named and an unnamed board"; the boards
+    # above are test_synthetic_board's, every variant of which must be right (KNOWN_WRONG is empty)
+    from typing import get_args
+
+    from sensorcheck.design.model import SensorKind
+    from tests.recognition.synth_boards import MAKERS
+
+    seen = {(e["kind"], named) for kind, named, _u, _f in variants() for e in MAKERS[kind]()[1]}
+    assert {(k, named) for k in get_args(SensorKind) for named in (True, False)} <= seen
+    assert not KNOWN_WRONG
+
+
 @pytest.mark.corpus
 @pytest.mark.parametrize("board_id", sorted(p.stem for p in TRUTH_DIR.glob("*.toml")))
 def test_corpus_board_against_its_designers(board_id: str, shared_dir: Path, tmp_path: Path) -> None:
