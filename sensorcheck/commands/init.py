@@ -194,8 +194,8 @@ def starter_config(board: Board, recognition: tuple[Recognition, dict[str, tuple
     places: list[tuple[Found, str, str]] = []  # (sensor, net, role)
     # the board's face: where most sensors are touched; a sensor touched from the other face gets a
     # [[sensors]] table of its own carrying its face
+    face = rec.face
     face_count = {fc: sum(1 for f in rec.sensors if f.face == fc) for fc in ("top", "bottom")}
-    face = "bottom" if face_count["bottom"] > face_count["top"] else "top"
     for f in rec.sensors:
         mutual_segments = f.kind in ("slider", "wheel") and bool(f.tx)
         if mutual_segments or f.face != face or (

@@ -136,6 +136,8 @@ class Recognition:
     #: net -> (role, why) for reference copper recognised by geometry (not by name)
     reference: dict[str, tuple[str, str]] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
+    #: the board's touched face: the one most sensors with electrode copper face (top on a tie)
+    face: str = "top"
 
 
 def is_unnamed(net: str) -> bool:
@@ -438,7 +440,7 @@ def recognise(board: Board, named_roles: dict[str, str] | None = None) -> Recogn
                            evidence=["a proximity electrode by name; only thin copper of it is on this board (the "
                                      "electrode itself is likely a wire, a spring or the case)"],
                            review=["no area copper of it on the board: check where its electrode is"]))
-    _name_and_face(board, found, cands)
+    rec.face = _name_and_face(board, found, cands)
     rec.sensors = found
     return rec
 
@@ -656,8 +658,9 @@ def _off_line(segs: list[Electrode]) -> float:
     return float(abs(off).max()) / extent if extent > 0 else 1.0
 
 
-def _name_and_face(board: Board, found: list[Found], cands: dict[str, list[_Cand]]) -> None:
-    """Names by kind in reading order (top left first), points per net and the face per sensor."""
+def _name_and_face(board: Board, found: list[Found], cands: dict[str, list[_Cand]]) -> str:
+    """Names by kind in reading order (top left first), points per net and the face per sensor; returns
+    the board's face."""
     prefix = {"self-button": "B", "slider": "S", "wheel": "W", "mutual-button": "K", "matrix": "M", "proximity": "P"}
     count: dict[str, int] = {}
     cu = board.copper_layers()
@@ -691,7 +694,7 @@ def _name_and_face(board: Board, found: list[Found], cands: dict[str, list[_Cand
                 x, y = _point_in(g)
                 f.points[n] = (lname, x, y)
         f.face = _face_of(board, f.layer)
-    _touched_faces(board, found, cands)
+    return _touched_faces(board, found, cands)
 
 
 def _electrode_layers(f: Found, cands: dict[str, list[_Cand]]) -> dict[str, float]:
@@ -735,8 +738,9 @@ def _far_cover(board: Board, f: Found, cands: dict[str, list[_Cand]]) -> tuple[s
     return best
 
 
-def _touched_faces(board: Board, found: list[Found], cands: dict[str, list[_Cand]]) -> None:
-    """Evidence and REVIEW notes for each sensor's touched face (see the module docstring, step 5)."""
+def _touched_faces(board: Board, found: list[Found], cands: dict[str, list[_Cand]]) -> str:
+    """Evidence and REVIEW notes for each sensor's touched face (see the module docstring, step 5);
+    returns the board's face."""
     cu = board.copper_layers()
     layers_of = {id(f): _electrode_layers(f, cands) for f in found}
     count = {fc: sum(1 for f in found if f.face == fc and layers_of[id(f)]) for fc in ("top", "bottom")}
@@ -771,3 +775,4 @@ def _touched_faces(board: Board, found: list[Found], cands: dict[str, list[_Cand
                             f"copper and nothing covers them towards the {far}, where the board's other sensors "
                             f"are touched; taken as touched from the {f.face} (its own [[sensors]] face); if it is "
                             f"touched through the board from the {far}, remove that face")
+    return board_face
