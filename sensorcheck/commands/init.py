@@ -318,6 +318,7 @@ def starter_config(board: Board, recognition: tuple[Recognition, dict[str, tuple
         lines.append("")
         for f in groups:
             lines.append(f"# REVIEW: {_sensor_comment(f)}")
+            lines += [f"# REVIEW: {_comment(r)}" for r in f.review]
             if any(is_unnamed(n) for n in f.all_nets):
                 where = "; ".join(f"{n} at {f.points[n][0]} ({f.points[n][1]:g}, {f.points[n][2]:g})"
                                   for n in f.all_nets[:6] if n in f.points)
