@@ -39,7 +39,7 @@ from sensorcheck.materials import FR4_EPSILON_R
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
 from sensorcheck.physics.approach import ADAPT_REL_TOL, adaptive_curve
-from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, turning_point, validate_finger
+from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, turnarounds, validate_finger
 from sensorcheck.physics.greens import LayeredMedium
 from sensorcheck.physics.model import (  # the shared model pieces (re-exported for older imports)
     MM,
@@ -548,7 +548,7 @@ def estimate_with(
     c_touch = mats[hs[-1]]
     touch_pf = curve[-1][1]
     delta = touch_pf - base_pf
-    tp = turning_point(curve, base_pf)
+    turns = turnarounds(curve, base_pf)
     # the turnaround is worst where the finger couples straight into the receiver: also approach
     # over the node's centre (where a user presses) when that is not the most sensitive point
     centre = sensor.outline.centroid
@@ -557,10 +557,11 @@ def estimate_with(
     if np.hypot(centre.x - bx, centre.y - by) > 1.0:
         curve_c, n_c = _approach(model, centre.x, centre.y, hs, base_pf, max_height_mm, {})
         n_solved += n_c
-        tp_c = turning_point(curve_c, base_pf)
-        if tp_c is not None and (tp is None or tp_c > tp):
-            tp = tp_c
-            extra_notes.append(centre_note((centre.x, centre.y), (bx, by), turning_point(curve, base_pf) is not None))
+        turns_c = turnarounds(curve_c, base_pf, over="centre")
+        if turns_c and (not turns or turns_c[0].height_mm > turns[0].height_mm):
+            extra_notes.append(centre_note((centre.x, centre.y), (bx, by), bool(turns)))
+        turns = sorted(turns + turns_c, key=lambda t: -t.height_mm)
+    tp = turns[0].height_mm if turns else None
     cross: dict[str, float] = {}
     for name, which in _neighbour_channels(model).items():
         b = model.value_f(model.system.c0, None, which)
@@ -598,6 +599,7 @@ def estimate_with(
         touch_delta_pf=delta,
         percent_change=100.0 * delta / base_pf,
         turning_point_mm=tp,
+        turnarounds=turns,
         curve=curve,
         best_point_mm=(bx, by),
         crosstalk_pf=cross,
