@@ -32,6 +32,18 @@ def turn_text(turns: Iterable[tuple[float, str]], num: Callable[[float], str] = 
     return parts[0] if len(parts) < 2 else ", ".join(parts[:-1]) + " and " + parts[-1]
 
 
+def turns_by_curve(turns: Iterable[Turn], over: dict[str, str], num: Callable[[float], str] = lambda v: f"{v:.2f}") -> list[str]:
+    """One phrase per approach curve that changes course, in the order of ``over`` (curve -> where
+    the finger is): "turns at 1.87 mm above the overlay surface with the finger over the node centre"."""
+    turns = list(turns)
+    out = []
+    for curve, where in over.items():
+        mine = [(t.height_mm, t.kind) for t in turns if t.curve == curve]
+        if mine:
+            out.append(f"{turn_text(mine, num)} above the overlay surface with the finger over {where}")
+    return out
+
+
 @dataclass(slots=True)
 class SensorEstimate:
     """What the field solver estimates for one sensor. Every number is an estimate of a model."""

@@ -125,7 +125,7 @@ class Turnaround(Rule):
     params = {"margin_mm": Param(0.0, "mm", "derived", "turns and sign reversals at or below this height above the surface pass")}
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
-        from sensorcheck.physics.estimate import turn_text
+        from sensorcheck.physics.estimate import turns_by_curve
 
         for s in design.sensors:
             est = estimates.get(s.name)
@@ -139,15 +139,12 @@ class Turnaround(Rule):
             curves = {"best": list(est.curve), "centre": list(getattr(est, "curve_centre", None) or [])}
             reverses = any(t.kind == "reverses sign" for t in turns)
             weaker = any(_press_reads_weaker(curves[c], est.baseline_pf, params["margin_mm"]) for c in {t.curve for t in turns})
-            parts = []
-            for c in ("best", "centre") if which == "best" else ("centre", "best"):
-                mine = [(t.height_mm, t.kind) for t in turns if t.curve == c]
-                if not mine:
-                    continue
-                over = ("over the node centre" + (f" ({fmt(centre[0], 1)}, {fmt(centre[1], 1)}) mm" if centre else "")
-                        if c == "centre" else "over the most sensitive point"
-                        + (f" ({fmt(est.best_point_mm[0], 1)}, {fmt(est.best_point_mm[1], 1)}) mm" if est.best_point_mm else ""))
-                parts.append(f"{turn_text(mine, fmt)} above the overlay surface with the finger {over}")
+            def at(c: str) -> str:
+                p = centre if c == "centre" else est.best_point_mm
+                return f" ({fmt(p[0], 1)}, {fmt(p[1], 1)}) mm" if p else ""
+
+            names = {"best": "the most sensitive point" + at("best"), "centre": "the node centre" + at("centre")}
+            parts = turns_by_curve(turns, {c: names[c] for c in ((which, "centre" if which == "best" else "best"))}, fmt)
             if reverses:
                 effect = "a press reads as the opposite of a touch, or near the crossing as nothing"
             elif weaker:
