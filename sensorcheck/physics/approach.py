@@ -65,7 +65,8 @@ def _estimates(heights: list[float], solved: dict[int, float], i: int) -> tuple[
 
     value = through(left[-2:] + right[:2])
     others = [through(s) for s in (left[-3:] + right[:1], left[-1:] + right[:3]) if len(s) == 4]
-    if len(left) < 2 or len(right) < 2:  # at an end of the solved range: also the straight line
+    if len(left) < 2 or len(right) < 2 or not others:  # at an end of the solved range, or no other
+        # four-point stencil (two solved on each side, no more): also the straight line
         others.append(through(left[-1:] + right[:1]))
     return value, max(abs(value - o) for o in others)
 
