@@ -114,8 +114,8 @@ class Turnaround(Rule):
         See the table.
     References:
         Finger return-path physics: derived (this project's field solver); a floating conductor's
-        zero net charge: textbook electrostatics of conductors (e.g. Landau and Lifshitz,
-        Electrodynamics of Continuous Media, chapter 1, from memory).
+        zero net charge: textbook electrostatics of conductors (Landau and Lifshitz,
+        Electrodynamics of Continuous Media, chapter 1; from memory)
     """
 
     id = "signal.turnaround"
