@@ -220,6 +220,16 @@ def parse_sweep(text: str) -> tuple[SweepParam, list[float]]:
         raise SensorcheckError(f"--sweep {text!r}: the values must be numbers separated by commas") from None
     if not nums:
         raise SensorcheckError(f"--sweep {text!r}: no values")
+    # the overlay's physical range, as the config takes it (design/config.py)
+    from sensorcheck.design.config import EPSILON_R_MAX, OVERLAY_THICKNESS_MAX_MM
+
+    if param == "overlay_thickness_mm":
+        bad, expected = [v for v in nums if not 0.0 < v <= OVERLAY_THICKNESS_MAX_MM], \
+            f"thicknesses greater than 0 and at most {OVERLAY_THICKNESS_MAX_MM:g} mm"
+    else:
+        bad, expected = [v for v in nums if not 1.0 <= v <= EPSILON_R_MAX], f"permittivities from 1 to {EPSILON_R_MAX:g}"
+    if bad:
+        raise SensorcheckError(f"--sweep {text!r}: {bad[0]:g} is outside the physical range: expected {expected}")
     return cast(SweepParam, param), nums
 
 

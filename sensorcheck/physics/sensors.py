@@ -366,7 +366,7 @@ def build_model(
 ) -> SensorModel:
     """Window, conductors, mesh and the factorised board block of one sensor."""
     cfg = design.config
-    opts = opts or SolverOptions.from_config(cfg.estimate)
+    opts = opts or SolverOptions.from_config(cfg.estimate, cfg.file)
     overlay = cfg.overlay
     if overlay is None or not overlay.layers:
         raise ConfigError(cfg.file, "overlay", "the field-solver estimate needs the overlay stack ([[overlay.layers]])")
@@ -508,7 +508,7 @@ def _hand_range(model: SensorModel, x: float, y: float, base_f: float) -> float 
 
 def estimate_sensor(design: Design, sensor: Sensor, *, heights: int = 12, max_height_mm: float = 20.0) -> SensorEstimate:
     """Baseline, touch signal, approach curve and neighbours' crosstalk of one sensor."""
-    opts = SolverOptions.from_config(design.config.estimate)
+    opts = SolverOptions.from_config(design.config.estimate, design.config.file)
     limits = getattr(design.config, "limits", None) or DEFAULT_LIMITS
     return estimate_with(design, sensor, opts=opts, heights=heights, max_height_mm=max_height_mm, limits=limits)
 
