@@ -133,3 +133,15 @@ def test_a_sweep_outside_the_physical_range_is_a_usage_error(tmp_path: Path, cap
         rc = main(["estimate", str(REPO / "boards" / "tm1-clean"), "--sweep", sweep, "--sensor", "K1"])
         err = capsys.readouterr().err
         assert rc == 2 and words in err and "Traceback" not in err
+
+
+@pytest.mark.parametrize("jobs", ["0", "-1", "two"])
+def test_a_worker_count_below_one_is_a_usage_error(jobs: str, capsys) -> None:
+    # --jobs -1 reached the process pool and ended in a traceback ("max_workers must be greater than 0")
+    try:
+        rc = main(["check", str(REPO / "boards" / "tm1-clean"), str(REPO / "boards" / "tm1-flawed"), "--no-estimate",
+                   "--jobs", jobs])
+    except SystemExit as exc:  # argparse's usage error
+        rc = exc.code
+    err = capsys.readouterr().err
+    assert rc == 2 and "--jobs" in err and "Traceback" not in err
