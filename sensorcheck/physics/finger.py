@@ -21,7 +21,7 @@ from sensorcheck.finger import FINGER_DEFAULTS, FINGER_SOURCES, Finger, validate
 from sensorcheck.physics.estimate import Turn
 
 __all__ = ["FINGER_DEFAULTS", "FINGER_SOURCES", "Finger", "validate_finger", "PF", "mutual_f", "self_f",
-           "node_charges", "turning_point", "turnarounds", "turn_indices"]
+           "node_charges", "turning_point", "turnarounds", "turn_indices", "TURN_REL_TOL"]
 
 PF = 1e-12
 
@@ -103,6 +103,10 @@ def self_f(
     return float(np.sum(q[electrode]))
 
 
+#: a change of the signal within this share of its swing is no change (numerical noise, interpolation)
+TURN_REL_TOL = 0.01
+
+
 def _x(h: np.ndarray | float) -> np.ndarray | float:
     """The height variable the curve is refined in: log(h + 0.05 mm) (as :mod:`~sensorcheck.physics.approach`)."""
     return np.log(np.asarray(h) + 0.05)
@@ -136,7 +140,7 @@ def _crossing_height(h: np.ndarray, s: np.ndarray, i: int) -> float:
     return float(np.exp(x0 + t * (x1 - x0)) - 0.05)
 
 
-def turn_indices(values: list[float], baseline: float, rel_tol: float = 0.01) -> list[tuple[int, str]]:
+def turn_indices(values: list[float], baseline: float, rel_tol: float = TURN_REL_TOL) -> list[tuple[int, str]]:
     """The changes of course of a signal sampled far to near: ``(index, kind)`` in curve order.
 
     ``kind`` "turns": index ``k`` is an extremum of the signal ``value - baseline`` after which it
@@ -179,7 +183,7 @@ def turn_indices(values: list[float], baseline: float, rel_tol: float = 0.01) ->
     return sorted(out)
 
 
-def turnarounds(curve: list[tuple[float, float]], baseline: float, rel_tol: float = 0.01,
+def turnarounds(curve: list[tuple[float, float]], baseline: float, rel_tol: float = TURN_REL_TOL,
                 over: Literal["best", "centre"] = "best") -> list[Turn]:
     """Every turn and sign reversal of an approach curve (far to near), highest first.
 
@@ -198,7 +202,7 @@ def turnarounds(curve: list[tuple[float, float]], baseline: float, rel_tol: floa
     return sorted(out, key=lambda t: -t.height_mm)
 
 
-def turning_point(curve: list[tuple[float, float]], baseline: float, rel_tol: float = 0.01) -> float | None:
+def turning_point(curve: list[tuple[float, float]], baseline: float, rel_tol: float = TURN_REL_TOL) -> float | None:
     """The highest height (mm) where the signal turns or reverses sign (:func:`turnarounds`), else None."""
     turns = turnarounds(curve, baseline, rel_tol)
     return turns[0].height_mm if turns else None

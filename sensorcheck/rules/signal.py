@@ -23,10 +23,6 @@ def _rx_ground_text(design: Design, s: Any, surround_mm: float = 10.0) -> str:
     return f"; receiver {fmt(rx_area, 1)} mm2 is {fmt(100 * rx_area / gnd, 1)} % of the ground within {fmt(surround_mm, 0)} mm"
 
 
-#: a change of the signal within this share of its swing is no change (as the solver's turnaround detection)
-TURN_REL_TOL = 0.01
-
-
 def turns_of(est: Any) -> list[Any]:
     """The estimate's turnarounds (:class:`~sensorcheck.physics.estimate.Turn`), highest first.
 
@@ -65,6 +61,8 @@ def _press_reads_weaker(curve: list[tuple[float, float]], baseline: float, above
 
     Without the curve (an estimate that gives only its turning point) the turn is taken to be a
     peak, as a turning point was reported before the kinds were told apart."""
+    from sensorcheck.physics.finger import TURN_REL_TOL
+
     if not curve:
         return True
     s = [(h, v - baseline) for h, v in curve]
@@ -104,9 +102,10 @@ class Turnaround(Rule):
         at the approach heights solved; a change between two heights is placed by interpolation.
         Measure a prototype under the real overlay.
     Example:
-        A 20 mm receiver on a battery product: the dip peaks 1.5 mm above the overlay (error); a
-        product with 2 pF to earth whose key reads -16 fF at 2 mm and +218 fF at touch (the signal
-        reverses sign: error).
+        The flawed demo key (a 20 mm receiver with no ground near it, boards/tm1-flawed) in a
+        product with 10 pF to earth: the signal peaks 1.9 mm above the overlay and falls back
+        (error); with 2 pF to earth it falls to -24 fF at 3.5 mm, turns, reverses sign at 0.7 mm
+        and reads +37 fF at touch (error).
     Fix:
         Make the receiver a small fraction of the ground (narrow RX fingers, more ground around the
         node), thin the overlay, or improve the device's ground coupling.
