@@ -188,6 +188,7 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
         est = estimates.get(sensor.name)
         est_dict: dict[str, Any] | None = None
         if isinstance(est, SensorEstimate):
+            from sensorcheck.report.common import turnarounds_json
             from sensorcheck.rules.signal import turning_place
 
             place, which = turning_place(est)
@@ -198,6 +199,7 @@ def _summaries(design: Any, estimates: Mapping[str, Any]) -> list[SensorSummary]
                 "touch_delta_pf": est.touch_delta_pf,
                 "percent_change": est.percent_change,
                 "turning_point_mm": est.turning_point_mm,
+                "turnarounds": turnarounds_json(est, round),
                 "curve": [[round(h, 4), v] for h, v in est.curve],
                 # the approach over the node's centre where it differs from the most sensitive
                 # point, and which of the two curves the turning point refers to

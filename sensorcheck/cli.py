@@ -39,6 +39,17 @@ def _report_spec(value: str) -> str:
     return value
 
 
+def _workers(value: str) -> int:
+    """A count of worker processes: a whole number of at least 1."""
+    try:
+        n = int(value)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number of processes, got {value!r}") from None
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"expected at least 1 process, got {n}")
+    return n
+
+
 EXIT_CODES = """exit codes:
   0  nothing at or above --fail-on (default: error)
   1  findings at or above --fail-on
@@ -99,7 +110,7 @@ def _parser() -> argparse.ArgumentParser:
     chk.add_argument("--strict", action="store_true", help=strict_help)
     chk.add_argument("--no-estimate", action="store_true", help="skip the field-solver estimates (geometry rules only)")
     chk.add_argument("--timestamp", action="store_true", help="put the run time into the reports (off: byte-identical reports)")
-    chk.add_argument("--jobs", type=int, default=None, help="parallel processes for several boards (default: cores)")
+    chk.add_argument("--jobs", type=_workers, default=None, help="parallel processes for several boards (default: cores)")
     chk.add_argument("--allow-empty", action="store_true",
                      help="let a board with no fabrication data, no copper or no sensor recognised pass "
                           "(default: that is an error, exit 2)")

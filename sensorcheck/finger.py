@@ -12,6 +12,9 @@ Defaults and their sources (used when the config gives no ``[finger]``, or leave
 * body capacitance to earth 150 pF: measured values are about 100-200 pF; IEC 61000-4-2 uses
   150 pF for its human-body model (standard);
 * device ground coupling: None (earthed), unless the config says the product is battery powered.
+
+A body capacitance of 0 pF models a floating object (a coin, a water film): a conductor with no
+path to earth beyond its own capacitance, which the field solver takes from its geometry.
 """
 
 from __future__ import annotations
@@ -35,6 +38,11 @@ FINGER_DEFAULTS = Finger(
     body_capacitance_pf=150.0,  # standard: IEC 61000-4-2 human-body model (measured 100-200 pF)
     device_ground_coupling_pf=None,  # earthed unless the config says otherwise
 )
+
+#: the lowest height of the approach curve above the overlay surface before the touch (mm): the
+#: curve is solved from ``[estimate] max_height_mm`` down to here (physics.model.approach_heights),
+#: so a top height must lie above it
+LOWEST_APPROACH_MM = 0.25
 
 FINGER_SOURCES: dict[str, str] = {
     "contact_diameter_mm": "common practice (design finger of touch-sensor guidance)",

@@ -14,8 +14,8 @@ from pathlib import Path
 from typing import Any, Literal, TextIO, cast
 
 from sensorcheck.errors import ConfigError, SensorcheckError
-from sensorcheck.physics.estimate import SensorEstimate
-from sensorcheck.report.common import scan_json
+from sensorcheck.physics.estimate import SensorEstimate, turns_by_curve
+from sensorcheck.report.common import scan_json, turnarounds_json
 
 SweepParam = Literal["overlay_thickness_mm", "overlay_epsilon_r"]
 SWEEP_PARAMS: tuple[str, ...] = ("overlay_thickness_mm", "overlay_epsilon_r")
@@ -74,6 +74,7 @@ def estimates_json(estimates: dict[str, SensorEstimate]) -> dict[str, Any]:
             "touch_delta_pf": r(e.touch_delta_pf),
             "percent_change": r(e.percent_change, 4),
             "turning_point_mm": r(e.turning_point_mm, 4),
+            "turnarounds": turnarounds_json(e, r),
             "best_point_mm": None if e.best_point_mm is None else [r(e.best_point_mm[0], 4), r(e.best_point_mm[1], 4)],
             "curve": [[r(h, 4), r(v)] for h, v in e.curve],
             "curve_centre": [[r(h, 4), r(v)] for h, v in e.curve_centre],
@@ -150,8 +151,10 @@ def _wrap(line: str, width: int) -> str:
 
 
 def channel_lines(e: SensorEstimate) -> list[str]:
-    """One display line per matrix node or slider segment, and the position response's summary."""
-    out = [f"node {n.tx}/{n.rx}: Cm {n.cm_pf:.3f} pF, touch {1000 * n.touch_delta_pf:+.1f} fF ({n.percent_change:+.1f} %)" for n in e.nodes]
+    """The turnarounds of the approach curves, one display line per matrix node or slider segment,
+    and the position response's summary."""
+    out = [turn_line(e)] if e.turnarounds else []
+    out += [f"node {n.tx}/{n.rx}: Cm {n.cm_pf:.3f} pF, touch {1000 * n.touch_delta_pf:+.1f} fF ({n.percent_change:+.1f} %)" for n in e.nodes]
     for g in e.segments:
         cross = ", ".join(f"{k} {1000 * v:+.1f} fF" for k, v in g.crosstalk_pf.items())
         out.append(f"segment {g.net}: parasitic {g.parasitic_pf:.2f} pF, touch {1000 * g.touch_delta_pf:+.1f} fF"
@@ -162,6 +165,11 @@ def channel_lines(e: SensorEstimate) -> list[str]:
         dead = ", ".join(f"{a:.1f}-{b:.1f} mm" for a, b in p.dead_zones_mm) or "none"
         out.append(f"position along {p.travel_mm:.1f} mm: largest centroid error {err}; dead zones {dead}")
     return out
+
+
+def turn_line(e: SensorEstimate) -> str:
+    """"signal turns at 1.87 mm and reverses sign at 0.52 mm above the overlay surface with the finger over ..."."""
+    return "signal " + "; ".join(turns_by_curve(e.turnarounds, {"best": "the most sensitive point", "centre": "the node centre"}))
 
 
 def plot_curves(estimates: dict[str, SensorEstimate], path: Path) -> None:
@@ -212,6 +220,16 @@ def parse_sweep(text: str) -> tuple[SweepParam, list[float]]:
         raise SensorcheckError(f"--sweep {text!r}: the values must be numbers separated by commas") from None
     if not nums:
         raise SensorcheckError(f"--sweep {text!r}: no values")
+    # the overlay's physical range, as the config takes it (design/config.py)
+    from sensorcheck.design.config import EPSILON_R_MAX, OVERLAY_THICKNESS_MAX_MM
+
+    if param == "overlay_thickness_mm":
+        bad, expected = [v for v in nums if not 0.0 < v <= OVERLAY_THICKNESS_MAX_MM], \
+            f"thicknesses greater than 0 and at most {OVERLAY_THICKNESS_MAX_MM:g} mm"
+    else:
+        bad, expected = [v for v in nums if not 1.0 <= v <= EPSILON_R_MAX], f"permittivities from 1 to {EPSILON_R_MAX:g}"
+    if bad:
+        raise SensorcheckError(f"--sweep {text!r}: {bad[0]:g} is outside the physical range: expected {expected}")
     return cast(SweepParam, param), nums
 
 

@@ -38,11 +38,16 @@ from sensorcheck.design.model import (
 )
 from sensorcheck.errors import ConfigError
 from sensorcheck.findings import Waiver
-from sensorcheck.finger import FINGER_DEFAULTS
+from sensorcheck.finger import FINGER_DEFAULTS, LOWEST_APPROACH_MM
 from sensorcheck.limits import Limits
 from sensorcheck.materials import lookup_material, material_names
 
 MAX_CONFIG_BYTES = 1024 * 1024  # a config is a page of text; refuse anything far larger
+
+#: physical ranges of the overlay the config and ``estimate --sweep`` accept: a layer thicker than
+#: 0 mm and at most 200 mm; a relative permittivity from 1 (vacuum; nothing is lower) to 1000
+OVERLAY_THICKNESS_MAX_MM = 200.0
+EPSILON_R_MAX = 1000.0
 
 #: defaults of [estimate]
 ESTIMATE_DEFAULTS: dict[str, Any] = {"enabled": True, "max_height_mm": 20.0, "heights": 12}
@@ -136,23 +141,29 @@ def _number(
         raise ctx.err(where, f"expected a finite number, got an integer of {len(str(value))} digits") from None
     if not math.isfinite(v):
         raise ctx.err(where, f"expected a finite number, got {value}")
-    if min_value is not None:
-        if min_exclusive and v <= min_value:
-            raise ctx.err(where, f"must be greater than {min_value:g}, got {v:g}")
-        if not min_exclusive and v < min_value:
-            raise ctx.err(where, f"must be at least {min_value:g}, got {v:g}")
-    if max_value is not None and v > max_value:
-        raise ctx.err(where, f"must be at most {max_value:g}, got {v:g}")
+    low = min_value is not None and (v <= min_value if min_exclusive else v < min_value)
+    if low or (max_value is not None and v > max_value):
+        raise ctx.err(where, f"must be {range_text(min_value, min_exclusive, max_value)}, got {v:g}")
     return v
+
+
+def range_text(min_value: float | None, min_exclusive: bool, max_value: float | None) -> str:
+    """The expected range in words: "greater than 0 and at most 200", "from 1 to 1000", ..."""
+    parts = []
+    if min_value is not None:
+        parts.append(f"{'greater than' if min_exclusive else 'at least'} {min_value:g}")
+    if max_value is not None:
+        parts.append(f"at most {max_value:g}")
+    if min_value is not None and max_value is not None and not min_exclusive:
+        return f"from {min_value:g} to {max_value:g}"
+    return " and ".join(parts)
 
 
 def _integer(ctx: _Ctx, value: Any, where: str, *, min_value: int | None = None, max_value: int | None = None) -> int:
     if isinstance(value, bool) or not isinstance(value, int):
         raise ctx.err(where, f"expected an integer, got {_type_name(value)}")
-    if min_value is not None and value < min_value:
-        raise ctx.err(where, f"must be at least {min_value}, got {value}")
-    if max_value is not None and value > max_value:
-        raise ctx.err(where, f"must be at most {max_value}, got {value}")
+    if (min_value is not None and value < min_value) or (max_value is not None and value > max_value):
+        raise ctx.err(where, f"must be an integer {range_text(min_value, False, max_value)}, got {value}")
     return value
 
 
@@ -243,8 +254,9 @@ def _finger(ctx: _Ctx, value: Any) -> Finger:
         length = _number(ctx, t["length_mm"], "finger.length_mm", min_value=0.0, min_exclusive=True, max_value=500.0)
     body = base.body_capacitance_pf
     if "body_capacitance_pf" in t:
+        # 0 pF: a floating object (a coin, a water film), no path to earth beyond its own capacitance
         body = _number(ctx, t["body_capacitance_pf"], "finger.body_capacitance_pf", min_value=0.0,
-                       min_exclusive=True, max_value=10000.0)
+                       max_value=10000.0)
     device = base.device_ground_coupling_pf
     if "device_ground" in t:
         v = t["device_ground"]
@@ -277,7 +289,7 @@ def _overlay(ctx: _Ctx, value: Any, face: str) -> Overlay:
         if "thickness_mm" not in lt:
             raise ctx.err(f"{where}.thickness_mm", "missing: every overlay layer needs its thickness in mm")
         thickness = _number(ctx, lt["thickness_mm"], f"{where}.thickness_mm", min_value=0.0, min_exclusive=True,
-                            max_value=200.0)
+                            max_value=OVERLAY_THICKNESS_MAX_MM)
         kind = _string(ctx, lt["kind"], f"{where}.kind", choices=OVERLAY_KINDS) if "kind" in lt else None
         material = None
         if "material" in lt:
@@ -294,7 +306,7 @@ def _overlay(ctx: _Ctx, value: Any, face: str) -> Overlay:
         if kind == "air" and material is None and "epsilon_r" not in lt:
             material = lookup_material("air")
         if "epsilon_r" in lt:
-            eps = _number(ctx, lt["epsilon_r"], f"{where}.epsilon_r", min_value=1.0, max_value=1000.0)
+            eps = _number(ctx, lt["epsilon_r"], f"{where}.epsilon_r", min_value=1.0, max_value=EPSILON_R_MAX)
             source = "config" if material is None else f"config (overrides the table's {material.name})"
             name = material.name if material is not None else "custom"
         elif material is not None:
@@ -338,7 +350,7 @@ def _stackup(ctx: _Ctx, value: Any) -> Stackup:
             material_name = _string(ctx, lt["material"], f"{where}.material") if "material" in lt else None
             eps: float | None = None
             if "epsilon_r" in lt:
-                eps = _number(ctx, lt["epsilon_r"], f"{where}.epsilon_r", min_value=1.0, max_value=1000.0)
+                eps = _number(ctx, lt["epsilon_r"], f"{where}.epsilon_r", min_value=1.0, max_value=EPSILON_R_MAX)
             elif material_name is not None and (m := lookup_material(material_name)) is not None:
                 eps = m.epsilon_r
             layers.append(StackupLayer(name=name, kind=kind, thickness_mm=thickness,  # type: ignore[arg-type]
@@ -727,8 +739,8 @@ def _estimate(ctx: _Ctx, value: Any) -> dict[str, Any]:
     out = dict(ESTIMATE_DEFAULTS)
     if "enabled" in t:
         out["enabled"] = _boolean(ctx, t["enabled"], "estimate.enabled")
-    if "max_height_mm" in t:
-        out["max_height_mm"] = _number(ctx, t["max_height_mm"], "estimate.max_height_mm", min_value=0.0,
+    if "max_height_mm" in t:  # the approach starts above its lowest fixed height
+        out["max_height_mm"] = _number(ctx, t["max_height_mm"], "estimate.max_height_mm", min_value=LOWEST_APPROACH_MM,
                                        min_exclusive=True, max_value=1000.0)
     if "heights" in t:
         out["heights"] = _integer(ctx, t["heights"], "estimate.heights", min_value=2, max_value=200)

@@ -8,8 +8,9 @@ then, between two solved neighbours, compares two interpolants of the unsolved h
 ``x = log(h + 0.05 mm)`` (the variable :func:`sensorcheck.physics.finger.turning_point` uses):
 the straight line between the two, and the cubic through the four nearest solved points.  Where
 they differ by more than ``rel_tol`` of the signal swing (the largest ``|value - baseline|`` solved
-so far), the height in the middle of the gap is solved too.  Finally the largest ``|signal|`` and
-both its neighbours are always solved, so that the turning point (a parabola through those three)
+so far), the height in the middle of the gap is solved too.  Finally the largest ``|signal|``, every
+turn and sign reversal (:func:`sensorcheck.physics.finger.turn_indices`) and both their neighbours
+are always solved, so that a turning point (a parabola through those three) or a zero crossing
 never rests on an interpolated value.  Unsolved heights get the cubic's value.
 
 The bound, and what checks it: the difference of the two interpolants estimates the error of the
@@ -24,6 +25,8 @@ from __future__ import annotations
 from collections.abc import Callable
 
 import numpy as np
+
+from sensorcheck.physics.finger import turn_indices
 
 #: interpolation tolerance as a fraction of the signal swing (see the module docstring)
 ADAPT_REL_TOL = 0.01
@@ -62,7 +65,8 @@ def _estimates(heights: list[float], solved: dict[int, float], i: int) -> tuple[
 
     value = through(left[-2:] + right[:2])
     others = [through(s) for s in (left[-3:] + right[:1], left[-1:] + right[:3]) if len(s) == 4]
-    if len(left) < 2 or len(right) < 2:  # at an end of the solved range: also the straight line
+    if len(left) < 2 or len(right) < 2 or not others:  # at an end of the solved range, or no other
+        # four-point stencil (two solved on each side, no more): also the straight line
         others.append(through(left[-1:] + right[:1]))
     return value, max(abs(value - o) for o in others)
 
@@ -97,7 +101,10 @@ def adaptive_curve(solve: Callable[[float], float], heights: list[float], baseli
                 worst = (err, mid)
         values = _fill(heights, solved)
         k = int(np.argmax([abs(v - baseline) for v in values]))
-        around = [j for j in (k - 1, k, k + 1) if 0 <= j < n and j not in solved]
+        # the peak, every turn and every sign reversal (physics.finger.turn_indices) and their
+        # neighbours rest on solved values: their heights are refined from them
+        marks = {k} | {j for j, _ in turn_indices(values, baseline)}
+        around = sorted({j for m in marks for j in (m - 1, m, m + 1) if 0 <= j < n and j not in solved})
         if around:
             for j in around:
                 need(j)

@@ -2,8 +2,46 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 from typing import Literal
+
+#: the kinds of turnaround an approach curve can show (see :func:`sensorcheck.physics.finger.turnarounds`)
+TurnKind = Literal["turns", "reverses sign"]
+
+
+@dataclass(frozen=True, slots=True)
+class Turn:
+    """One change of the touch signal's course on an approach curve, between the far field and the
+    overlay surface: its height above the surface (mm), its kind, and which approach curve shows it
+    ("best": over the most sensitive point; "centre": over the node's centre).
+
+    ``"turns"``: the signal's slope changes sign (it peaks, or recovers from a dip); ``"reverses
+    sign"``: the signal crosses zero (the finger's effect flips, e.g. a mutual key whose Cm first
+    falls and then rises above its baseline).
+    """
+
+    height_mm: float
+    kind: TurnKind
+    curve: Literal["best", "centre"] = "best"
+
+
+def turn_text(turns: Iterable[tuple[float, str]], num: Callable[[float], str] = lambda v: f"{v:.2f}") -> str:
+    """Turnarounds as words, highest first: "turns at 1.87 mm and reverses sign at 0.52 mm"."""
+    parts = [f"{kind} at {num(h)} mm" for h, kind in sorted(turns, key=lambda t: -t[0])]
+    return parts[0] if len(parts) < 2 else ", ".join(parts[:-1]) + " and " + parts[-1]
+
+
+def turns_by_curve(turns: Iterable[Turn], over: dict[str, str], num: Callable[[float], str] = lambda v: f"{v:.2f}") -> list[str]:
+    """One phrase per approach curve that changes course, in the order of ``over`` (curve -> where
+    the finger is): "turns at 1.87 mm above the overlay surface with the finger over the node centre"."""
+    turns = list(turns)
+    out = []
+    for curve, where in over.items():
+        mine = [(t.height_mm, t.kind) for t in turns if t.curve == curve]
+        if mine:
+            out.append(f"{turn_text(mine, num)} above the overlay surface with the finger over {where}")
+    return out
 
 
 @dataclass(slots=True)
@@ -16,7 +54,8 @@ class SensorEstimate:
     baseline_pf: float  # Cm (mutual) or self capacitance to ground, finger far away
     touch_delta_pf: float  # value at touch minus baseline (negative for mutual)
     percent_change: float  # 100 * delta / baseline
-    #: finger height above the overlay surface where |signal| peaks and the curve turns around (mm); None if monotonic
+    #: the highest finger height above the overlay surface (mm) where the signal turns or reverses
+    #: sign (the top of ``turnarounds``); None when the signal grows monotonically to the touch
     turning_point_mm: float | None
     #: approach curve: (height above overlay surface in mm, value in pF), far to near
     curve: list[tuple[float, float]] = field(default_factory=list)
@@ -42,6 +81,8 @@ class SensorEstimate:
     segments: list["SegmentEstimate"] = field(default_factory=list)
     #: sliders and wheels: the centroid position along the travel (see :class:`PositionResponse`)
     position: "PositionResponse | None" = None
+    #: every turn and sign reversal of the approach curves, highest first (empty: monotonic)
+    turnarounds: list[Turn] = field(default_factory=list)
 
 
 @dataclass(slots=True)

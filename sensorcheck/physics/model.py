@@ -10,6 +10,7 @@ read them from here, so that no physics module imports another round a loop.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Any, Literal
 
@@ -17,6 +18,9 @@ import numpy as np
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.design.model import Design, Finger, Overlay, Sensor
+from sensorcheck.design.config import range_text
+from sensorcheck.errors import ConfigError
+from sensorcheck.finger import LOWEST_APPROACH_MM
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.finger import PF, mutual_f, self_f
 from sensorcheck.physics.greens import LayeredMedium
@@ -45,9 +49,53 @@ class SolverOptions:
     adaptive_heights: bool = True  # solve the approach heights where the curve bends (physics/approach.py)
 
     @classmethod
-    def from_config(cls, options: dict[str, Any]) -> "SolverOptions":
+    def from_config(cls, options: dict[str, Any], file: str | None = None) -> "SolverOptions":
+        """The options of a config's ``estimate`` table (other keys ignored); an option outside its
+        physical range (:data:`SOLVER_RANGES`) is a ConfigError naming ``estimate.<option>``."""
         known = {f for f in cls.__dataclass_fields__}
+        for k in sorted(known & set(options)):
+            problem = _out_of_range(k, options[k])
+            if problem:
+                raise ConfigError(file, f"estimate.{k}", problem)
         return cls(**{k: v for k, v in options.items() if k in known})
+
+    def __post_init__(self) -> None:
+        for k in SOLVER_RANGES:
+            problem = _out_of_range(k, getattr(self, k))
+            if problem:
+                raise ValueError(f"solver option {k}: {problem}")
+
+
+#: physical range of every numeric solver option: (lowest, lowest excluded, highest).  Sizes and
+#: distances are positive; the touch gap (the air film of a finger resting on the overlay) is at
+#: most the lowest approach height, or the touch would be farther than the curve's last height;
+#: the hand-sized target's search starts above its lowest height of 1 mm.
+SOLVER_RANGES: dict[str, tuple[float, bool, float]] = {
+    "window_mm": (0.0, True, 1000.0),
+    "h_edge_mm": (0.0, True, 100.0),
+    "h_near_mm": (0.0, True, 100.0),  # None (the default) picks it from the overlay
+    "h_far_mm": (0.0, True, 100.0),
+    "finger_edge_mm": (0.0, True, 100.0),
+    "finger_max_mm": (0.0, True, 100.0),
+    "finger_sides": (3.0, False, 1000.0),
+    "touch_gap_mm": (0.0, True, LOWEST_APPROACH_MM),
+    "refine": (0.0, True, 100.0),
+    "proximity_floor_pf": (0.0, True, 1e6),
+    "hand_diameter_mm": (0.0, True, 1000.0),
+    "hand_max_height_mm": (1.0, True, 10000.0),
+}
+
+
+def _out_of_range(key: str, value: Any) -> str | None:
+    """Why ``value`` is no physical value of solver option ``key`` (None when it is, or not numeric)."""
+    if key not in SOLVER_RANGES or value is None:
+        return None
+    low, low_open, high = SOLVER_RANGES[key]
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        return f"expected a number, got {type(value).__name__}"
+    if not (math.isfinite(value) and (value > low if low_open else value >= low) and value <= high):
+        return f"must be {range_text(low, low_open, high)}, got {value:g}"
+    return None
 
 @dataclass(slots=True)
 class Stack:
@@ -140,12 +188,12 @@ def describe(model: SensorModel) -> str:
     )
 
 def approach_heights(n: int, max_height_mm: float) -> list[float]:
-    """Far to near: geometric from max_height_mm down to 0.25 mm, then 0 (touching)."""
+    """Far to near: geometric from max_height_mm down to LOWEST_APPROACH_MM (0.25 mm), then 0 (touching)."""
     if n < 2:
         raise ValueError("need at least 2 heights")
-    if max_height_mm <= 0.25:
-        raise ValueError("max height must exceed 0.25 mm")
-    far = np.geomspace(max_height_mm, 0.25, n - 1)
+    if max_height_mm <= LOWEST_APPROACH_MM:
+        raise ValueError(f"max height must exceed {LOWEST_APPROACH_MM:g} mm")
+    far = np.geomspace(max_height_mm, LOWEST_APPROACH_MM, n - 1)
     return [float(h) for h in far] + [0.0]
 
 def _neighbour_channels(model: SensorModel) -> dict[str, dict[str, list[int]]]:

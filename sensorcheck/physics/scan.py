@@ -21,7 +21,7 @@ import shapely
 from shapely.geometry.base import BaseGeometry
 
 from sensorcheck.physics.estimate import NodeEstimate, SensorEstimate
-from sensorcheck.physics.finger import PF, turning_point
+from sensorcheck.physics.finger import PF, turnarounds
 from sensorcheck.physics.model import SensorModel, _neighbour_channels, approach_heights, describe
 
 CROSS_GROW_MM = 0.5  # the row and the column grown by their distance plus this to find where they cross (stated model choice)
@@ -109,6 +109,7 @@ def estimate_matrix(model: SensorModel, *, heights: int, max_height_mm: float) -
     )
     if skipped:
         notes.append(f"matrix nodes not estimated (the lines neither cross nor couple in the model): {', '.join(skipped)}")
+    turns = turnarounds(curve, base_pf)
     return SensorEstimate(
         sensor=model.sensor.name,
         kind="mutual",
@@ -116,7 +117,8 @@ def estimate_matrix(model: SensorModel, *, heights: int, max_height_mm: float) -
         baseline_pf=base_pf,
         touch_delta_pf=delta,
         percent_change=100.0 * delta / base_pf,
-        turning_point_mm=turning_point(curve, base_pf),
+        turning_point_mm=turns[0].height_mm if turns else None,
+        turnarounds=turns,
         curve=curve,
         best_point_mm=(x, y),
         crosstalk_pf=cross,

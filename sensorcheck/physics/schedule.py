@@ -70,7 +70,7 @@ def _keys(design: "Design", names: list[str], heights: int, max_h: float) -> tup
     from sensorcheck.physics.sensors import SolverOptions, build_stack
 
     cfg = design.config
-    opts = SolverOptions.from_config(cfg.estimate)
+    opts = SolverOptions.from_config(cfg.estimate, cfg.file)
     limits = getattr(cfg, "limits", None) or DEFAULT_LIMITS
     try:
         if cfg.overlay is None or not cfg.overlay.layers:

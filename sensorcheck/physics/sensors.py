@@ -39,7 +39,7 @@ from sensorcheck.materials import FR4_EPSILON_R
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
 from sensorcheck.physics.approach import ADAPT_REL_TOL, adaptive_curve
-from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, turning_point, validate_finger
+from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, turnarounds, validate_finger
 from sensorcheck.physics.greens import LayeredMedium
 from sensorcheck.physics.model import (  # the shared model pieces (re-exported for older imports)
     MM,
@@ -366,7 +366,7 @@ def build_model(
 ) -> SensorModel:
     """Window, conductors, mesh and the factorised board block of one sensor."""
     cfg = design.config
-    opts = opts or SolverOptions.from_config(cfg.estimate)
+    opts = opts or SolverOptions.from_config(cfg.estimate, cfg.file)
     overlay = cfg.overlay
     if overlay is None or not overlay.layers:
         raise ConfigError(cfg.file, "overlay", "the field-solver estimate needs the overlay stack ([[overlay.layers]])")
@@ -510,7 +510,7 @@ def _hand_range(model: SensorModel, x: float, y: float, base_f: float) -> float 
 
 def estimate_sensor(design: Design, sensor: Sensor, *, heights: int = 12, max_height_mm: float = 20.0) -> SensorEstimate:
     """Baseline, touch signal, approach curve and neighbours' crosstalk of one sensor."""
-    opts = SolverOptions.from_config(design.config.estimate)
+    opts = SolverOptions.from_config(design.config.estimate, design.config.file)
     limits = getattr(design.config, "limits", None) or DEFAULT_LIMITS
     return estimate_with(design, sensor, opts=opts, heights=heights, max_height_mm=max_height_mm, limits=limits)
 
@@ -550,7 +550,7 @@ def estimate_with(
     c_touch = mats[hs[-1]]
     touch_pf = curve[-1][1]
     delta = touch_pf - base_pf
-    tp = turning_point(curve, base_pf)
+    turns = turnarounds(curve, base_pf)
     # the turnaround is worst where the finger couples straight into the receiver: also approach
     # over the node's centre (where a user presses) when that is not the most sensitive point
     centre = sensor.outline.centroid
@@ -559,10 +559,11 @@ def estimate_with(
     if np.hypot(centre.x - bx, centre.y - by) > 1.0:
         curve_c, n_c = _approach(model, centre.x, centre.y, hs, base_pf, max_height_mm, {})
         n_solved += n_c
-        tp_c = turning_point(curve_c, base_pf)
-        if tp_c is not None and (tp is None or tp_c > tp):
-            tp = tp_c
-            extra_notes.append(centre_note((centre.x, centre.y), (bx, by), turning_point(curve, base_pf) is not None))
+        turns_c = turnarounds(curve_c, base_pf, over="centre")
+        if turns_c and (not turns or turns_c[0].height_mm > turns[0].height_mm):
+            extra_notes.append(centre_note((centre.x, centre.y), (bx, by), bool(turns)))
+        turns = sorted(turns + turns_c, key=lambda t: -t.height_mm)
+    tp = turns[0].height_mm if turns else None
     cross: dict[str, float] = {}
     for name, which in _neighbour_channels(model).items():
         b = model.value_f(model.system.c0, None, which)
@@ -600,6 +601,7 @@ def estimate_with(
         touch_delta_pf=delta,
         percent_change=100.0 * delta / base_pf,
         turning_point_mm=tp,
+        turnarounds=turns,
         curve=curve,
         best_point_mm=(bx, by),
         crosstalk_pf=cross,

@@ -484,6 +484,11 @@ def fold_notes(notes: dict[str, list[str]], total: int, every: bool = False) -> 
     return out
 
 
+def turnarounds_json(e: SensorEstimate, r: Callable[..., float | None]) -> list[dict[str, Any]]:
+    """Every turn and sign reversal of the approach curves, highest first: height, kind, curve."""
+    return [{"height_mm": r(t.height_mm, 4), "kind": t.kind, "curve": t.curve} for t in e.turnarounds]
+
+
 def scan_json(e: SensorEstimate, r: Callable[..., float | None]) -> dict[str, Any]:
     """A matrix's nodes and a slider's or wheel's segments and position response (only where estimated)."""
     out: dict[str, Any] = {}

@@ -699,11 +699,19 @@ def _curve_figure(est: dict[str, Any]) -> str:
         f'<text class="mark-label" x="{px(0) + 4:.1f}" y="{T + 12}">overlay surface</text>'
     )
     over = "over the node centre" if which == "centre" else ("over the most sensitive point" if centre_pts else "")
-    if tp is not None:
+    # every change of course of the curve drawn, labelled with its kind (estimates of old reports
+    # carry only the turning point: a turn there)
+    turns = [(float(t["height_mm"]), str(t["kind"]), t.get("curve")) for t in est.get("turnarounds") or []
+             if isinstance(t, dict) and isinstance(t.get("height_mm"), int | float) and t.get("curve") in ("best", "centre")
+             and (t["curve"] == "best" or centre_pts)]
+    if not turns and tp is not None:
+        turns = [(tp, "turns", which)]
+    for i, (h, kind_t, c) in enumerate(turns):
+        where = "" if not centre_pts else (" (over the node centre)" if c == "centre" else " (over the most sensitive point)")
         g.append(
-            f'<line class="turn" x1="{px(tp):.1f}" y1="{T}" x2="{px(tp):.1f}" y2="{H - B}"/>'
-            f'<text class="mark-label turn-label" x="{px(tp) + 4:.1f}" y="{T + 26}">turns at {esc(num(tp))} mm'
-            f'{" (" + esc(over) + ")" if over else ""}</text>'
+            f'<line class="turn" x1="{px(h):.1f}" y1="{T}" x2="{px(h):.1f}" y2="{H - B}"/>'
+            f'<text class="mark-label turn-label" x="{px(h) + 4:.1f}" y="{T + 26 + 14 * i}">{esc(kind_t)} at {esc(num(h))} mm'
+            f'{esc(where)}</text>'
         )
     line = " ".join(f"{px(x):.1f},{py(y):.1f}" for x, y in pts)
     g.append(f'<polyline class="trace" points="{line}"/>')
@@ -727,10 +735,12 @@ def _curve_figure(est: dict[str, Any]) -> str:
         if centre_pts:
             cap += " Both approaches (over the most sensitive point and over the node centre) are drawn."
     elif tp > 0:
+        changes = " and ".join(f"{esc(k)} at {esc(num(h))} mm" for h, k, _ in turns)
         cap = (
-            f"The signal turns around {esc(num(tp))} mm above the overlay surface"
-            f"{' with the finger ' + esc(over) if over else ''}: a press can read as a release. "
-            "The turning point should stay below the surface."
+            f"The signal {changes} above the overlay surface"
+            f"{' (highest with the finger ' + esc(over) + ')' if over else ''}: a press can read as a release"
+            + (" or as the opposite of a touch" if any(k == "reverses sign" for _, k, _ in turns) else "")
+            + ". The signal should grow steadily down to the surface."
         )
     else:
         cap = f"The turning point ({esc(num(tp))} mm) stays below the overlay surface."

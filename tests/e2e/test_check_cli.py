@@ -152,6 +152,10 @@ def test_field_solver_decides_the_turnaround_on_the_demo(tmp_path: Path) -> None
     assert abs(loc["x_mm"] - 18.0) < 0.5 and abs(loc["y_mm"] - 50.0) < 0.5, loc
     est = next(s for s in flawed["boards"][0]["sensors"] if s["name"] == "K1")["estimate"]
     assert est["turning_curve"] == "centre" and est["curve_centre"]
+    # issue 15: the change is listed with its kind and curve (the signal peaks and falls back; no
+    # sign reversal: it stays a fall of Cm), and the message names the kind
+    assert [(t["kind"], t["curve"]) for t in est["turnarounds"]] == [("turns", "centre")]
+    assert "turns at" in turn[0]["message"] and "reverses sign" not in turn[0]["message"]
     rc, clean = _json_report(tmp_path, str(CLEAN))
     assert rc == 0, _rule_ids(clean)
     k1 = next(s for s in clean["boards"][0]["sensors"] if s["name"] == "K1")

@@ -74,3 +74,21 @@ def test_solver_curve_matches_the_fixed_twelve_heights() -> None:
     assert abs(adapt.turning_point_mm - fixed.turning_point_mm) <= 0.1
     assert adapt.touch_delta_pf == pytest.approx(fixed.touch_delta_pf, rel=1e-9)
     assert any(n.startswith("approach: ") and " of 12 heights solved" in n for n in adapt.notes)
+
+
+@pytest.mark.parametrize("n", range(4, 16))
+def test_curves_that_turn_and_reverse_sign_rest_on_solved_values_at_every_count_of_heights(n: int) -> None:
+    # closed form of tests/physics/test_turnarounds.py: s(h) = 1/(h + 0.5) - 4/(h + 5) turns at 4 mm
+    # and crosses zero at 1 mm (solved by hand); every turn and reversal is found from solved
+    # values only, so the adaptive curve reports the same changes as the exact one
+    from sensorcheck.physics.finger import turnarounds
+
+    hs = approach_heights(n, 20.0)
+
+    def f(h: float) -> float:
+        return 3.0 + 1.0 / (h + 0.5) - 4.0 / (h + 5.0)
+
+    curve, solved = adaptive_curve(f, hs, 3.0)
+    exact = turnarounds([(h, f(h)) for h in hs], 3.0)
+    assert [(t.kind, round(t.height_mm, 9)) for t in turnarounds(curve, 3.0)] == \
+        [(t.kind, round(t.height_mm, 9)) for t in exact]

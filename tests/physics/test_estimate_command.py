@@ -139,3 +139,27 @@ def test_quiet_table_keeps_the_numbers_and_the_disclaimer_but_no_notes() -> None
     assert args.quiet and not args.verbose
     with pytest.raises(SystemExit):
         _parser().parse_args(["estimate", "x", "--quiet", "--verbose"])
+
+
+def test_turnarounds_are_printed_and_in_the_json_with_height_kind_and_curve() -> None:
+    # issue 15: every change of the approach curve with its height and its kind, per curve
+    import io
+
+    from sensorcheck.physics.estimate import Turn
+
+    e = _est()
+    e.turnarounds = [Turn(4.0, "turns", "centre"), Turn(1.0, "reverses sign", "centre"), Turn(0.5, "turns", "best")]
+    out = io.StringIO()
+    cmd.print_table({"K1": e}, out, width=400)  # one line, not wrapped
+    text = out.getvalue()
+    assert ("K1: signal turns at 0.50 mm above the overlay surface with the finger over the most sensitive point; "
+            "turns at 4.00 mm and reverses sign at 1.00 mm above the overlay surface with the finger over the node "
+            "centre") in text
+    data = cmd.estimates_json({"K1": e})["estimates"][0]
+    assert data["turnarounds"] == [{"height_mm": 4.0, "kind": "turns", "curve": "centre"},
+                                   {"height_mm": 1.0, "kind": "reverses sign", "curve": "centre"},
+                                   {"height_mm": 0.5, "kind": "turns", "curve": "best"}]
+    e.turnarounds = []
+    out = io.StringIO()
+    cmd.print_table({"K1": e}, out, width=200)
+    assert "signal " not in out.getvalue() and cmd.estimates_json({"K1": e})["estimates"][0]["turnarounds"] == []

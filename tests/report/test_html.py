@@ -471,3 +471,19 @@ def test_findings_show_fix_and_reference() -> None:
     assert "Fix: Move the via out of the zone." in text
     assert "sensorcheck rules routing.foreign-via-in-zone" in text
     assert "(max)" in text
+
+
+def test_each_turn_and_sign_reversal_is_drawn_with_its_kind() -> None:
+    # issue 15: a floating object over a mutual key (Cm falls, turns, rises above its baseline)
+    result = _result()
+    est = result.sensors[0].estimate
+    assert est is not None
+    est["curve"] = [[10.0, 1.0], [4.0, 0.98], [1.0, 1.0], [0.0, 1.03]]
+    est["turning_point_mm"] = 4.0
+    est["turnarounds"] = [{"height_mm": 4.0, "kind": "turns", "curve": "best"},
+                          {"height_mm": 1.0, "kind": "reverses sign", "curve": "best"}]
+    doc = parse(render([result]))
+    assert len(doc.with_class("turn")) == 2
+    text = "".join(doc.text)
+    assert "turns at 4 mm" in text and "reverses sign at 1 mm" in text
+    assert "the opposite of a touch" in text
