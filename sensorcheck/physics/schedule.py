@@ -160,6 +160,7 @@ def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool:
         state["to_solve"] += len(own)
         return own
 
+    reps = _from_cache(keys, reps, stack_notes, finished)
     if pool.executor is None or len(reps) <= 1:
         queue = list(reps)
         while queue:
@@ -167,11 +168,43 @@ def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool:
             queue.extend(finished(n, _one((design, n, heights, max_h))[1]))
     else:
         _pool_solve(pool.executor, reps, heights, max_h, finished)
+    _to_cache(keys, reps, results, stack_notes)
     if progress is not None:
         solved = state["solved"]
         progress(f"estimates done: {total} sensors ({solved} solved, {total - solved} from identical windows) "
                  f"in {duration(time.perf_counter() - t0)}")
     return {n: results[n] for n in names}
+
+
+def _from_cache(keys: dict[str, Any], reps: list[str], stack_notes: int,
+                finished: Callable[[str, Any], list[str]]) -> list[str]:
+    """The representatives still to solve: those whose window the active cache
+    (:mod:`sensorcheck.physics.cache`) holds are finished from it, twins included."""
+    from sensorcheck.physics.cache import active_cache
+
+    cache = active_cache()
+    if cache is None:
+        return reps
+    todo: list[str] = []
+    for n in reps:
+        hit = cache.lookup(keys[n], n, stack_notes)
+        todo.extend([n] if hit is None else finished(n, hit))
+    return todo
+
+
+def _to_cache(keys: dict[str, Any], reps: list[str], results: dict[str, Any], stack_notes: int) -> None:
+    """Keep what was solved in the active cache (a coarsened window is not the fingerprinted one)."""
+    from sensorcheck.physics.cache import active_cache
+
+    cache = active_cache()
+    if cache is None:
+        return
+    for n in reps:
+        res = results.get(n)
+        if res is None or isinstance(res, str):
+            continue
+        ok = not any(x.startswith(COARSENED_PREFIX) for x in res.notes)
+        cache.store(keys.get(n) if ok else None, res, stack_notes)
 
 
 class _Pool:
