@@ -45,6 +45,8 @@ class CheckOptions:
     allow_empty: bool = False
     #: merge findings of one cause into one finding listing its places (the engine's grouping)
     group: bool = True
+    #: called with the Design once it is built (``compare`` measures the copper near each sensor from it)
+    on_design: Callable[[Any], None] | None = None
 
 
 def _rings(geom: BaseGeometry | None, tolerance_mm: float = 0.02) -> list[list[tuple[float, float]]]:
@@ -271,6 +273,8 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         finish(result, options.baseline)
         return result
     board = design.board
+    if options.on_design is not None:
+        options.on_design(design)
     result.board = board.name or result.board  # the engine fingerprints with the board's own name
     result.config_file = config.file
     if config.file is None:
