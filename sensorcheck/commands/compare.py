@@ -57,6 +57,9 @@ exit codes:
                    help="fail when a sensor's touch delta or %% change falls by more than PERCENT")
     p.add_argument("--fail-on-new", choices=["error", "warning", "note"], default="error",
                    help="fail on a new finding at or above this severity (default: error)")
+    p.add_argument("--comment-for", choices=["github", "gitlab"], default="github",
+                   help="cut the markdown report to this platform's comment size limit (default: github, "
+                        "the smaller, so the comment fits both)")
     p.add_argument("--exit-zero", action="store_true", help="exit 0 even when the gate fails (errors still exit 2)")
     p.add_argument("--cache", type=Path, metavar="DIR",
                    help="keep solved windows in DIR and reuse them (keep it between CI runs)")
@@ -66,7 +69,9 @@ def _check_with(options_base: dict[str, Any]) -> Callable[[Path, Callable[[Any],
     from sensorcheck.check import CheckOptions, check_board
 
     def check(path: Path, on_design: Callable[[Any], None]) -> Any:
-        return check_board(path, CheckOptions(on_design=on_design, **options_base))
+        # one finding per place: a place fixed in a group of several is then one fixed finding,
+        # not a new group and a fixed one
+        return check_board(path, CheckOptions(on_design=on_design, group=False, **options_base))
 
     return check
 
@@ -103,7 +108,7 @@ def _parse_reports(specs: list[str]) -> list[tuple[str, Path | None]]:
     return out
 
 
-def render(cmp: "Comparison", fmt: str) -> str:
+def render(cmp: "Comparison", fmt: str, comment_for: str = "github") -> str:
     if fmt == "json":
         from sensorcheck.report import compare_json
 
@@ -111,7 +116,7 @@ def render(cmp: "Comparison", fmt: str) -> str:
     if fmt == "markdown":
         from sensorcheck.report import compare_markdown
 
-        return compare_markdown.render(cmp)
+        return compare_markdown.render(cmp, limit_chars=compare_markdown.LIMITS[comment_for])
     if fmt == "html":
         from sensorcheck.report import compare_html
 
@@ -134,7 +139,7 @@ def run(args: argparse.Namespace) -> int:
     cmp = compare_paths(SideSpec("old", args.old, args.rev), SideSpec("new", args.new, args.new_rev),
                         config_file=args.config, cache=cache)
     apply_gate(cmp, args.fail_on_loss, args.fail_on_new)
-    rendered = [(path, render(cmp, fmt)) for fmt, path in reports]
+    rendered = [(path, render(cmp, fmt, args.comment_for)) for fmt, path in reports]
     for path, text in rendered:
         if path is None:
             _write_stream(sys.stdout, text)

@@ -9,10 +9,11 @@ report knows nothing of how the sides were read.
 * Loss: how much a sensor's signal fell, in % of the old: the larger of the fall of the touch
   delta's magnitude and the fall of the % change's magnitude (negative: it gained).  The gate
   ``--fail-on-loss`` reads this.
-* Findings are matched by fingerprint (:func:`sensorcheck.findings.fingerprint_for`), computed
-  for both revisions without the board's name and with the old sensor names replaced by the
-  names the sensors have in the new revision: a renamed board or a renamed sensor does not turn
-  every finding into a new one.  A finding whose place moves by more than the fingerprint's
+* Findings are matched place by place by fingerprint: the parts of
+  :func:`sensorcheck.findings.fingerprint_for` (rule, layer, sensor, place on a 0.5 mm grid)
+  without the board's name and the nets, with the old sensor names replaced by the names the
+  sensors have in the new revision: a renamed board, sensor or net does not turn every finding
+  into a new one, and a report grouped by cause compares with one written place by place.  A finding whose place moves by more than the fingerprint's
   0.5 mm grid is one fixed and one new, as it is for ``--baseline``.
 * Copper: per layer, the copper added and removed inside the sensor's zone (the union of its old
   and new zone), in mm2 and as geometry for the review page.
@@ -30,7 +31,7 @@ from shapely.geometry.base import BaseGeometry
 from sensorcheck.check import _rings
 from sensorcheck.compare.match import MatchedBy, match_sensors
 from sensorcheck.compare.sides import Side
-from sensorcheck.findings import SEVERITY_ORDER, Finding, Location, assign_fingerprints
+from sensorcheck.findings import SEVERITY_ORDER
 
 #: a relative change below this (%) is rounding, not a change
 SAME_PERCENT = 0.05
@@ -226,20 +227,58 @@ def loss_percent(old: dict[str, Any] | None, new: dict[str, Any] | None) -> floa
     return max(falls) if falls else None
 
 
+def _nearest_sensor(x: float | None, y: float | None, names: tuple[str, ...], boxes: dict[str, Any]) -> str | None:
+    """Of ``names``, the sensor whose box is nearest the point (a grouped finding's place)."""
+    if not names:
+        return None
+    if x is None or y is None or len(names) == 1:
+        return names[0]
+
+    def dist(n: str) -> float:
+        b = boxes.get(n)
+        if not isinstance(b, list) or len(b) != 4:
+            return float("inf")
+        return max(b[0] - x, 0.0, x - b[2]) ** 2 + max(b[1] - y, 0.0, y - b[3]) ** 2
+
+    return min(names, key=lambda n: (dist(n), n))
+
+
+def _place_key(rule: str, layer: str | None, sensor: str | None, x: float | None, y: float | None) -> str:
+    """The fingerprint of one place (:func:`sensorcheck.findings.fingerprint_for`'s parts: rule,
+    layer, sensor, place on its 0.5 mm grid) without the board's name and the nets."""
+    import hashlib
+
+    from sensorcheck.findings import _round
+
+    parts = [rule, layer or "-", sensor or "-", _round(x), _round(y)]
+    return hashlib.sha256("|".join(parts).encode()).hexdigest()[:20]
+
+
 def _finding_refs(side: Side, rename: dict[str, str]) -> list[FindingRef]:
+    """One entry per place: a finding grouped over several places (``check``'s default) is split
+    into its places, each given to the nearest of its sensors, so that a report written grouped
+    compares with one written place by place."""
+    boxes = {s.get("name"): s.get("box_mm") for s in side.sensors}
+    out: list[FindingRef] = []
+    seen: dict[str, int] = {}
     raw = [f for f in side.findings if f.get("kind", "finding") == "finding"]
-    probes: list[Finding] = []
-    for f in raw:
-        loc = f.get("location") or {}
-        sensor = f.get("sensor")
-        probes.append(Finding(
-            rule_id=str(f.get("rule_id")), severity=f.get("severity", "note"), message=str(f.get("message", "")),
-            location=Location(layer=loc.get("layer"), x_mm=_num(loc.get("x_mm")), y_mm=_num(loc.get("y_mm"))),
-            nets=tuple(f.get("nets") or ()), sensor=rename.get(sensor, sensor) if sensor else None,
-            places=int(f.get("places") or 1), sensors=tuple(rename.get(s, s) for s in f.get("sensors") or ())))
-    assign_fingerprints(probes, "")
-    return [FindingRef(str(f.get("fingerprint", "")), p.fingerprint, p.rule_id, p.severity, p.message, p.sensor,
-                       p.sensors, bool(f.get("waived"))) for f, p in zip(raw, probes, strict=True)]
+    for f in sorted(raw, key=lambda f: (str(f.get("rule_id")), str(f.get("fingerprint")))):
+        sensors = tuple(str(n) for n in (f.get("sensors") or ()))
+        places = [f.get("location") or {}]
+        if int(f.get("places") or 1) > 1 and f.get("related"):
+            places = list(f.get("related") or [])
+        for loc in places:
+            x, y = _num(loc.get("x_mm")), _num(loc.get("y_mm"))
+            own = f.get("sensor") or _nearest_sensor(x, y, sensors, boxes)
+            sensor = rename.get(own, own) if own else None
+            base = _place_key(str(f.get("rule_id")), loc.get("layer"), sensor, x, y)
+            n = seen.get(base, 0)
+            seen[base] = n + 1
+            out.append(FindingRef(str(f.get("fingerprint", "")), base if n == 0 else f"{base}-{n}",
+                                  str(f.get("rule_id")), str(f.get("severity", "note")), str(f.get("message", "")),
+                                  sensor, () if sensor else tuple(rename.get(n, n) for n in sensors),
+                                  bool(f.get("waived"))))
+    return out
 
 
 def _belongs(f: FindingRef, name: str) -> bool:

@@ -101,7 +101,7 @@ def render(cmp: Comparison) -> str:
             if c.changed:
                 lines.append(f"  crosstalk to {nb:<8} {change('crosstalk_pf', c)}")
         for cu in s.copper:
-            lines.append(f"  copper {cu.layer}: +{cu.added_mm2:.2f} mm2 added, -{cu.removed_mm2:.2f} mm2 removed in its zone")
+            lines.append(f"  copper {cu.layer}: {cu.added_mm2:.2f} mm2 added, {cu.removed_mm2:.2f} mm2 removed in its zone")
         for tag, items in (("new", s.new_findings), ("fixed", s.fixed_findings)):
             for f in items:
                 lines.append(f"  {tag} {f.severity} {f.rule_id}: {f.message}")
