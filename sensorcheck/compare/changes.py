@@ -150,6 +150,9 @@ class Gate:
     fail_on_loss_percent: float | None
     fail_on_new: str | None
     failures: list[str] = field(default_factory=list)
+    #: (sensor, loss %) of every sensor over the loss limit, the biggest first; the new findings that failed it
+    losses: list[tuple[str, float]] = field(default_factory=list)
+    new_failing: list[FindingRef] = field(default_factory=list)
 
     @property
     def failed(self) -> bool:
@@ -415,6 +418,7 @@ def apply_gate(cmp: Comparison, fail_on_loss_percent: float | None, fail_on_new:
     if fail_on_loss_percent is not None:
         for s in cmp.sensors:
             if s.loss_percent is not None and s.loss_percent > fail_on_loss_percent:
+                gate.losses.append((s.name, s.loss_percent))
                 gate.failures.append(f"{s.name} loses {s.loss_percent:.1f} % of its signal "
                                      f"(more than --fail-on-loss {fail_on_loss_percent:g})")
     if fail_on_new is not None:
@@ -422,7 +426,9 @@ def apply_gate(cmp: Comparison, fail_on_loss_percent: float | None, fail_on_new:
         news = [f for s in cmp.sensors for f in s.new_findings] + cmp.board_new
         for f in news:
             if not f.waived and SEVERITY_ORDER.get(f.severity, 0) >= threshold:
+                gate.new_failing.append(f)
                 where = f.sensor or ", ".join(f.sensors) or "board"
                 gate.failures.append(f"new {f.severity} {f.rule_id} ({where}) at or above --fail-on-new {fail_on_new}")
+    gate.losses.sort(key=lambda t: (-t[1], t[0]))
     cmp.gate = gate
     return gate

@@ -71,8 +71,19 @@ def matched(s: SensorComparison) -> str:
 
 
 def verdict(cmp: Comparison) -> str:
-    if cmp.gate.failed:
-        return "FAIL: " + "; ".join(cmp.gate.failures)
+    gate = cmp.gate
+    if gate.failed:
+        parts = []
+        if gate.losses:
+            (worst, pct), more = gate.losses[0], len(gate.losses) - 1
+            parts.append(f"{worst} loses {pct:.1f} % of its signal" + (f" (and {more} more sensor(s))" if more else "")
+                         + f", more than --fail-on-loss {gate.fail_on_loss_percent:g}")
+        if gate.new_failing:
+            f, more = gate.new_failing[0], len(gate.new_failing) - 1
+            parts.append(f"new {f.severity} {f.rule_id} on {f.sensor or ', '.join(f.sensors) or 'the board'}"
+                         + (f" (and {more} more new finding(s))" if more else "")
+                         + f", at or above --fail-on-new {gate.fail_on_new}")
+        return "FAIL: " + "; ".join(parts)
     asked = []
     if cmp.gate.fail_on_loss_percent is not None:
         asked.append(f"no sensor lost more than {cmp.gate.fail_on_loss_percent:g} %")

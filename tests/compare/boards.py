@@ -31,9 +31,10 @@ heights = 4
 
 
 def write(folder: Path, *, radii: dict[str, float] | None = None, places: dict[str, float] | None = None,
-          line_y_mm: float = -20.0, overlay_mm: float = 1.5, estimate: bool = True) -> Path:
+          line_y_mm: float = -22.0, overlay_mm: float = 1.5, estimate: bool = True) -> Path:
     """Self buttons (net -> radius mm, net -> x mm; all at y 0) in a ring of top ground each, a
-    0.3 mm line on the bottom at ``line_y_mm`` (under a button when it is within its radius)."""
+    0.3 mm line on the bottom at ``line_y_mm`` (under a button when it is within its radius; by
+    default outside every solve window, 15 mm round an electrode)."""
     radii = radii or {"KEY_A": 5.0, "KEY_B": 5.0}
     places = places or {n: 30.0 * i for i, n in enumerate(radii)}
     top: dict[str, BaseGeometry] = {}
