@@ -61,6 +61,8 @@ exit codes:
                    help="cut the markdown report to this platform's comment size limit (default: github, "
                         "the smaller, so the comment fits both)")
     p.add_argument("--exit-zero", action="store_true", help="exit 0 even when the gate fails (errors still exit 2)")
+    p.add_argument("--no-estimate", action="store_true",
+                   help="skip the field-solver estimates (findings and copper only; no numbers, no loss gate)")
     p.add_argument("--cache", type=Path, metavar="DIR",
                    help="keep solved windows in DIR and reuse them (keep it between CI runs)")
 
@@ -77,14 +79,14 @@ def _check_with(options_base: dict[str, Any]) -> Callable[[Path, Callable[[Any],
 
 
 def compare_paths(old: "SideSpec", new: "SideSpec", *, config_file: Path | None = None,
-                  cache: "WindowCache | None" = None) -> "Comparison":
+                  cache: "WindowCache | None" = None, estimate: bool | None = None) -> "Comparison":
     """Read both sides (the old first, with one window cache) and compare them."""
     from sensorcheck.compare.changes import compare_sides
     from sensorcheck.compare.sides import read_side
     from sensorcheck.physics.cache import WindowCache
 
     cache = cache if cache is not None else WindowCache()
-    check = _check_with({"config_file": config_file})
+    check = _check_with({"config_file": config_file, "estimate": estimate})
     with cache.active():
         old_side = read_side(old, check)
         solved_old = cache.solved
@@ -137,7 +139,7 @@ def run(args: argparse.Namespace) -> int:
         raise ConfigError("--fail-on-loss", None, f"expected a percentage of 0 or more, got {args.fail_on_loss}")
     cache = WindowCache(args.cache) if args.cache else WindowCache()
     cmp = compare_paths(SideSpec("old", args.old, args.rev), SideSpec("new", args.new, args.new_rev),
-                        config_file=args.config, cache=cache)
+                        config_file=args.config, cache=cache, estimate=False if args.no_estimate else None)
     apply_gate(cmp, args.fail_on_loss, args.fail_on_new)
     rendered = [(path, render(cmp, fmt, args.comment_for)) for fmt, path in reports]
     for path, text in rendered:

@@ -1,0 +1,103 @@
+"""Benchmark: ``compare`` of two demo revisions against one ``check`` of one of them.
+
+Targets (issue 13):
+
+1. compare of the two demo revisions (boards/tm1-clean -> boards/tm1-revc) in at most 1.2x the
+   time of one check of tm1-clean;
+2. where only one sensor's window changed, at most the cost of one sensor solve plus reading both.
+
+Every time here is measured in this process, in the same run; the ratios count, not the seconds.
+Revision C thickens the front panel, which changes every solve window (the overlay is part of
+each window's fingerprint), so compare solves every window of both sides unless the old side's
+windows are already in the cache: that is the CI set-up the README shows (``--cache DIR`` kept
+between pipeline runs, filled by the target branch's own run).  Both are measured: "cold" (empty
+cache: about two checks) and "warm" (the old side's windows cached by an earlier run).
+
+For target 2 a variant of revision B is made (in a temporary folder) with one ground stitching
+via removed, at (96, 62) mm: inside BTN2's solve window and no other.  Its cost is compared with
+reading and checking both boards without estimates plus one solve of BTN2; the number of windows
+solved is counted (it must be 1).
+
+    .venv/bin/python bench/bench_compare.py
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+REPO = Path(__file__).resolve().parents[1]
+BOARDS = REPO / "boards"
+
+
+def _demo():  # type: ignore[no-untyped-def]
+    spec = importlib.util.spec_from_file_location("_make_demo", BOARDS / "make_demo.py")
+    assert spec and spec.loader
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod
+
+
+def _timed(fn):  # type: ignore[no-untyped-def]
+    t0 = time.perf_counter()
+    out = fn()
+    return time.perf_counter() - t0, out
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__)
+    ap.parse_args(argv)
+    from sensorcheck.check import CheckOptions, build_design_for, check_board
+    from sensorcheck.commands.compare import compare_paths
+    from sensorcheck.compare.sides import SideSpec
+    from sensorcheck.physics.cache import WindowCache
+    from sensorcheck.physics.schedule import estimate_design
+
+    old, new = BOARDS / "tm1-clean", BOARDS / "tm1-revc"
+    rows: list[tuple[str, float, str]] = []
+    t_check, _ = _timed(lambda: check_board(old, CheckOptions()))
+    rows.append(("check tm1-clean", t_check, "5 windows solved"))
+    with tempfile.TemporaryDirectory() as tmp:
+        cache = WindowCache(Path(tmp) / "cold")
+        t_cold, cmp = _timed(lambda: compare_paths(SideSpec("old", str(old)), SideSpec("new", str(new)), cache=cache))
+        rows.append(("compare clean -> revc, cold cache", t_cold, f"{cmp.windows_solved} solved, {cmp.windows_reused} reused"))
+        # warm: the old side's windows were kept by an earlier run (the target branch's pipeline)
+        warm_dir = Path(tmp) / "warm"
+        with WindowCache(warm_dir).active():
+            check_board(old, CheckOptions())
+        warm = WindowCache(warm_dir)
+        t_warm, cmp = _timed(lambda: compare_paths(SideSpec("old", str(old)), SideSpec("new", str(new)), cache=warm))
+        rows.append(("compare clean -> revc, old side cached", t_warm, f"{cmp.windows_solved} solved, {cmp.windows_reused} reused"))
+
+        # target 2: one window changed
+        demo = _demo()
+        demo.GND_STITCH = tuple(p for p in demo.GND_STITCH if p != (96.0, 62.0))
+        variant = demo.write_board(demo.replace(demo.CLEAN, folder="tm1-one-via"), Path(tmp))
+        one = WindowCache(warm_dir)
+        t_one, cmp = _timed(lambda: compare_paths(SideSpec("old", str(old)), SideSpec("new", str(variant)), cache=one))
+        changed = [s.name for s in cmp.sensors if s.status != "unchanged"]
+        rows.append(("compare clean -> one via removed, old cached", t_one,
+                     f"{cmp.windows_solved} solved, {cmp.windows_reused} reused; changed: {', '.join(changed) or 'none'}"))
+        t_read, _ = _timed(lambda: (check_board(old, CheckOptions(estimate=False)),
+                                    check_board(variant, CheckOptions(estimate=False))))
+        design = build_design_for(variant)
+        t_solve, _ = _timed(lambda: estimate_design(design, sensors=["BTN2"], workers=1))
+        rows.append(("  read + rules of both, no estimates", t_read, ""))
+        rows.append(("  one solve of BTN2", t_solve, ""))
+
+    width = max(len(r[0]) for r in rows)
+    for name, secs, what in rows:
+        print(f"{name:<{width}}  {secs:8.1f} s  {what}")
+    print()
+    print(f"target 1 (<= 1.2x one check): cold {t_cold / t_check:.2f}x, old side cached {t_warm / t_check:.2f}x")
+    print(f"target 2 (<= one solve + reading both): {t_one:.1f} s against {t_read + t_solve:.1f} s "
+          f"= {t_one / (t_read + t_solve):.2f}x")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
