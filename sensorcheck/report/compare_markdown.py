@@ -15,7 +15,7 @@ always kept.
 from __future__ import annotations
 
 from sensorcheck.compare.changes import Comparison, SensorComparison
-from sensorcheck.report.compare_text import change, counts_line, loss, matched, number, relative, title, verdict
+from sensorcheck.report.compare_text import counts_line, detail_items, loss, matched, number, relative, title, verdict
 from sensorcheck.report.markdown import _table, md
 
 #: GitHub: "Body is too long (maximum is 65536 characters)" for an issue or pull-request comment
@@ -64,20 +64,7 @@ def _details(s: SensorComparison) -> list[str]:
     if matched(s):
         out.append(f"{md(matched(s))}.")
         out.append("")
-    for key, c in s.values.items():
-        if c.old is not None or c.new is not None:
-            out.append(f"- {md(key.replace('_pf', '').replace('_mm', '').replace('_', ' '))}: {md(change(key, c))}")
-    for nb, c in s.crosstalk.items():
-        if c.changed:
-            out.append(f"- crosstalk to {md(nb)}: {md(change('crosstalk_pf', c))}")
-    for cu in s.copper:
-        out.append(f"- copper in its zone on {md(cu.layer)}: {cu.added_mm2:.2f} mm² added, {cu.removed_mm2:.2f} mm² removed")
-    for tag, items in (("new", s.new_findings), ("fixed", s.fixed_findings)):
-        for f in items:
-            out.append(f"- {tag}: **{f.severity}** `{md(f.rule_id)}` {md(f.message)}")
-    if s.unchanged_findings:
-        out.append(f"- {len(s.unchanged_findings)} finding(s) unchanged")
-    out += [f"- note: {md(n)}" for n in s.notes]
+    out += [f"- {md(item)}" for item in detail_items(s)]
     out += ["", "</details>"]
     return out
 

@@ -100,25 +100,29 @@ def counts_line(cmp: Comparison) -> str:
             f"{len(cmp.renamed)} renamed; findings: {new} new, {fixed} fixed")
 
 
+def detail_items(s: SensorComparison) -> list[str]:
+    """A changed sensor's details, one plain line each (every compare report lists the same)."""
+    out = []
+    for key, label, _ in METRICS:
+        c = s.values.get(key)
+        if c is not None and (c.old is not None or c.new is not None):
+            out.append(f"{label}: {change(key, c)}")
+    out += [f"crosstalk to {nb}: {change('crosstalk_pf', c)}" for nb, c in s.crosstalk.items() if c.changed]
+    out += [f"copper in its zone on {cu.layer}: {cu.added_mm2:.2f} mm2 added, {cu.removed_mm2:.2f} mm2 removed"
+            for cu in s.copper]
+    out += [f"{tag} {f.severity} {f.rule_id}: {f.message}"
+            for tag, items in (("new", s.new_findings), ("fixed", s.fixed_findings)) for f in items]
+    if s.unchanged_findings:
+        out.append(f"{len(s.unchanged_findings)} finding(s) unchanged")
+    out += [f"note: {n}" for n in s.notes]
+    return out
+
+
 def render(cmp: Comparison) -> str:
     lines = [f"sensorcheck compare: {cmp.old_label} -> {cmp.new_label}", counts_line(cmp), verdict(cmp), ""]
     for s in cmp.changed:
         lines.append(f"{title(s)}: {loss(s)}" + (f"; {matched(s)}" if matched(s) else ""))
-        for key, label, _ in METRICS:
-            c = s.values.get(key)
-            if c is not None and (c.old is not None or c.new is not None):
-                lines.append(f"  {label:<20} {change(key, c)}")
-        for nb, c in s.crosstalk.items():
-            if c.changed:
-                lines.append(f"  crosstalk to {nb:<8} {change('crosstalk_pf', c)}")
-        for cu in s.copper:
-            lines.append(f"  copper {cu.layer}: {cu.added_mm2:.2f} mm2 added, {cu.removed_mm2:.2f} mm2 removed in its zone")
-        for tag, items in (("new", s.new_findings), ("fixed", s.fixed_findings)):
-            for f in items:
-                lines.append(f"  {tag} {f.severity} {f.rule_id}: {f.message}")
-        if s.unchanged_findings:
-            lines.append(f"  {len(s.unchanged_findings)} finding(s) unchanged")
-        lines.extend(f"  note: {n}" for n in s.notes)
+        lines.extend(f"  {item}" for item in detail_items(s))
         lines.append("")
     unchanged = [s.name for s in cmp.sensors if s.status == "unchanged"]
     if unchanged:
