@@ -28,9 +28,9 @@ import shapely
 from shapely.geometry import Polygon, box
 from shapely.geometry.base import BaseGeometry
 
-from sensorcheck.check import _rings
+from sensorcheck.board.drawing import rings_for_drawing as _rings
 from sensorcheck.compare.match import MatchedBy, match_sensors
-from sensorcheck.compare.sides import Side
+from sensorcheck.compare.model import Side
 from sensorcheck.findings import SEVERITY_ORDER
 
 #: a relative change below this (%) is rounding, not a change

@@ -8,7 +8,8 @@ from typing import Any
 from shapely.geometry import Point, box
 
 from sensorcheck.check import _summaries
-from sensorcheck.compare.sides import Side, side_from
+from sensorcheck.compare.model import Side
+from sensorcheck.compare.sides import side_from
 from sensorcheck.design.model import Design, Electrode, Finger, Sensor
 from sensorcheck.findings import Result
 from sensorcheck.physics.cache import WindowCache

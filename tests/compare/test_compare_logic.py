@@ -13,7 +13,7 @@ from typing import Any
 import pytest
 
 from sensorcheck.compare.changes import apply_gate, compare_sides, loss_percent
-from sensorcheck.compare.sides import Side
+from sensorcheck.compare.model import Side
 from sensorcheck.errors import SensorcheckError
 from sensorcheck.report import compare_json, compare_markdown, compare_text
 from sensorcheck.report.compare_markdown import GITHUB_COMMENT_LIMIT, GITLAB_NOTE_LIMIT
