@@ -5,7 +5,8 @@ report knows nothing of how the sides were read.
 
 * Numbers: the estimate's baseline, touch delta, % change, turning point, parasitic and crosstalk
   (the largest to any neighbour, and each neighbour) of the old and the new revision, with the
-  relative change ``(new - old) / |old|``.
+  relative change ``(new - old) / |old|``; for the touch delta, % change and crosstalk, whose sign
+  is a convention (negative for a mutual sensor), the change of the magnitude.
 * Loss: how much a sensor's signal fell, in % of the old: the larger of the fall of the touch
   delta's magnitude and the fall of the % change's magnitude (negative: it gained).  The gate
   ``--fail-on-loss`` reads this.
@@ -44,6 +45,9 @@ MIN_COPPER_MM2 = 1e-3
 VIEW_MARGIN_MM = 3.0
 Ring = list[tuple[float, float]]
 
+#: the numbers whose magnitude is the signal (see :attr:`Change.magnitude`)
+MAGNITUDES = frozenset({"touch_delta_pf", "percent_change", "crosstalk_pf"})
+
 #: (key, label, unit) of the numbers compared, in report order
 METRICS: tuple[tuple[str, str, str], ...] = (
     ("baseline_pf", "baseline", "pF"),
@@ -63,12 +67,17 @@ class Change:
 
     old: float | None
     new: float | None
+    #: a signal whose sign is a convention (a mutual sensor's delta is negative): the relative
+    #: change is that of its magnitude, so a fall always reads as a negative change
+    magnitude: bool = False
 
     @property
     def relative_percent(self) -> float | None:
-        """(new - old) / |old| in %; None where either is missing or old is 0."""
+        """(new - old) / |old| in % (of |new| and |old| for a magnitude); None where either is missing or old is 0."""
         if self.old is None or self.new is None or self.old == 0:
             return None
+        if self.magnitude:
+            return 100.0 * (abs(self.new) - abs(self.old)) / abs(self.old)
         return 100.0 * (self.new - self.old) / abs(self.old)
 
     @property
@@ -333,10 +342,10 @@ def compare_sides(old: Side, new: Side) -> Comparison:
         so, sn = by_old[p.old], by_new[p.new]
         eo, en = so.get("estimate"), sn.get("estimate")
         sc = SensorComparison(p.new, p.old, p.new, str(sn.get("kind")), "unchanged", p.matched_by, p.overlap)
-        sc.values = {k: Change(_metric(eo, k), _metric(en, k)) for k, _, _ in METRICS}
+        sc.values = {k: Change(_metric(eo, k), _metric(en, k), k in MAGNITUDES) for k, _, _ in METRICS}
         neighbours = {rename.get(k, k): v for k, v in ((eo or {}).get("crosstalk_pf") or {}).items()}
         now = (en or {}).get("crosstalk_pf") or {}
-        sc.crosstalk = {k: Change(_num(neighbours.get(k)), _num(now.get(k))) for k in sorted(set(neighbours) | set(now))}
+        sc.crosstalk = {k: Change(_num(neighbours.get(k)), _num(now.get(k)), True) for k in sorted(set(neighbours) | set(now))}
         sc.loss_percent = loss_percent(eo, en)
         sc.old_curve = list((eo or {}).get("curve") or [])
         sc.new_curve = list((en or {}).get("curve") or [])

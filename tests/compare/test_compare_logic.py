@@ -86,6 +86,8 @@ def test_findings_new_fixed_unchanged_and_the_gate() -> None:
     assert [f.rule_id for f in by["K2b"].new_findings] == ["trace.c"]
     assert [f.rule_id for f in cmp.board_fixed] == ["board.x"] and [f.rule_id for f in cmp.board_new] == ["board.y"]
     assert by["K1"].loss_percent == pytest.approx(10.0)
+    # a mutual delta is negative: -0.5 -> -0.45 pF is a fall of its magnitude, -10 %
+    assert by["K1"].values["touch_delta_pf"].relative_percent == pytest.approx(-10.0)
     assert not apply_gate(cmp, 10.0, None).failed  # 10 % is not more than 10 %
     assert apply_gate(cmp, 9.9, None).failures == ["K1 loses 10.0 % of its signal (more than --fail-on-loss 9.9)"]
     assert len(apply_gate(cmp, None, "error").failures) == 1
