@@ -67,29 +67,37 @@ exit codes:
                    help="keep solved windows in DIR and reuse them (keep it between CI runs)")
 
 
-def _check_with(options_base: dict[str, Any]) -> Callable[[Path, Callable[[Any], None]], Any]:
+def _check_with(options_base: dict[str, Any], progress: Callable[[str], None] | None,
+                which: list[str]) -> Callable[[Path, Callable[[Any], None]], Any]:
     from sensorcheck.check import CheckOptions, check_board
+
+    def say(msg: str) -> None:
+        if progress is not None:
+            progress(f"{which[0]} side: {msg}")
 
     def check(path: Path, on_design: Callable[[Any], None]) -> Any:
         # one finding per place: a place fixed in a group of several is then one fixed finding,
         # not a new group and a fixed one
-        return check_board(path, CheckOptions(on_design=on_design, group=False, **options_base))
+        return check_board(path, CheckOptions(on_design=on_design, group=False, **options_base), say)
 
     return check
 
 
 def compare_paths(old: "SideSpec", new: "SideSpec", *, config_file: Path | None = None,
-                  cache: "WindowCache | None" = None, estimate: bool | None = None) -> "Comparison":
+                  cache: "WindowCache | None" = None, estimate: bool | None = None,
+                  progress: Callable[[str], None] | None = None) -> "Comparison":
     """Read both sides (the old first, with one window cache) and compare them."""
     from sensorcheck.compare.changes import compare_sides
     from sensorcheck.compare.sides import read_side
     from sensorcheck.physics.cache import WindowCache
 
     cache = cache if cache is not None else WindowCache()
-    check = _check_with({"config_file": config_file, "estimate": estimate})
+    which = ["old"]
+    check = _check_with({"config_file": config_file, "estimate": estimate}, progress, which)
     with cache.active():
         old_side = read_side(old, check)
         solved_old = cache.solved
+        which[0] = "new"
         new_side = read_side(new, check)
     cmp = compare_sides(old_side, new_side)
     cmp.windows_solved = cache.solved
@@ -138,8 +146,16 @@ def run(args: argparse.Namespace) -> int:
     if args.fail_on_loss is not None and not (args.fail_on_loss >= 0):
         raise ConfigError("--fail-on-loss", None, f"expected a percentage of 0 or more, got {args.fail_on_loss}")
     cache = WindowCache(args.cache) if args.cache else WindowCache()
-    cmp = compare_paths(SideSpec("old", args.old, args.rev), SideSpec("new", args.new, args.new_rev),
-                        config_file=args.config, cache=cache, estimate=False if args.no_estimate else None)
+    from sensorcheck.commands.progress import progress_printer
+
+    stop, progress = progress_printer(sys.stderr)
+    try:
+        cmp = compare_paths(SideSpec("old", args.old, args.rev), SideSpec("new", args.new, args.new_rev),
+                            config_file=args.config, cache=cache, estimate=False if args.no_estimate else None,
+                            progress=progress)
+    finally:
+        if stop is not None:
+            stop()
     apply_gate(cmp, args.fail_on_loss, args.fail_on_new)
     rendered = [(path, render(cmp, fmt, args.comment_for)) for fmt, path in reports]
     for path, text in rendered:

@@ -21,9 +21,11 @@ from .boards import write
 
 
 def _run(capsys: pytest.CaptureFixture[str], *args: str) -> tuple[int, str, str]:
+    """(exit code, standard output, the error lines of standard error: progress lines left out)."""
     rc = main(["compare", *args])
     out = capsys.readouterr()
-    return rc, out.out, out.err
+    errors = "\n".join(line for line in out.err.splitlines() if line.startswith("sensorcheck: error:"))
+    return rc, out.out, errors
 
 
 def test_only_the_changed_window_is_solved_and_every_report_is_written(tmp_path: Path, capsys) -> None:
