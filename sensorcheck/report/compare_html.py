@@ -4,13 +4,15 @@ For each sensor that changed (the biggest loss first): a drawing of both revisio
 the sensor overlaid (old and new in two colours, copper added and removed marked, the old and new
 electrode outlines and the zone), with check boxes that show either revision alone (CSS only);
 both approach curves on one chart (the signal, value minus baseline, against the finger's height
-above the overlay surface); every number old -> new; findings new, fixed and unchanged.
+above the overlay surface on a square-root scale); every number old -> new; findings new, fixed and unchanged.
 
 All text from the boards is escaped (:func:`sensorcheck.report.html.esc`); the page's only style
 is inline and allowed by its hash in the Content-Security-Policy.
 """
 
 from __future__ import annotations
+
+import math
 
 from sensorcheck.compare.changes import METRICS, Comparison, SensorComparison
 from sensorcheck.report.compare_text import change, counts_line, loss, matched, title, verdict
@@ -30,7 +32,7 @@ table{border-collapse:collapse;margin:.6em 0}td,th{border:1px solid #ccc;padding
 .ol-old{fill:none;stroke:#1f6fd1;stroke-width:.12;stroke-dasharray:.4 .3}
 .ol-new{fill:none;stroke:#e07b00;stroke-width:.12}
 .zone{fill:none;stroke:#666;stroke-width:.06;stroke-dasharray:.15 .15}
-.toggles label{margin-right:1em}
+.toggles{max-width:440px}.toggles label{margin-right:1em}
 .c-old{fill:none;stroke:#1f6fd1;stroke-width:2}.c-new{fill:none;stroke:#e07b00;stroke-width:2}
 .axis{stroke:#444;stroke-width:1}.grid{stroke:#ddd;stroke-width:1}.tick{font-size:11px;fill:#444}
 .legend-old{color:#1f6fd1}.legend-new{color:#e07b00}.legend-added{color:#0a0}.legend-removed{color:#d00}
@@ -97,8 +99,8 @@ def _chart(s: SensorComparison) -> str:
     if hi == lo:
         hi = lo + 1.0
 
-    def X(v: float) -> float:
-        return m + (w - 2 * m) * v / hx
+    def X(v: float) -> float:  # a square-root scale: the near field, where curves turn, gets room
+        return m + (w - 2 * m) * math.sqrt(max(v, 0.0) / hx)
 
     def Y(v: float) -> float:
         return h - m - (h - 2 * m) * (v - lo) / (hi - lo)
@@ -109,8 +111,9 @@ def _chart(s: SensorComparison) -> str:
     for k in range(5):
         v = lo + (hi - lo) * k / 4
         out.append(f'<text class="tick" x="2" y="{_c(Y(v) + 4)}">{v:.3g}</text>')
-        hv = hx * k / 4
-        out.append(f'<text class="tick" x="{_c(X(hv) - 8)}" y="{_c(h - m + 16)}">{hv:.3g}</text>')
+    for hv in (0.0, 0.5, 1.0, 2.0, 5.0, 10.0, 20.0, 50.0):
+        if hv <= hx:
+            out.append(f'<text class="tick" x="{_c(X(hv) - 6)}" y="{_c(h - m + 16)}">{hv:g}</text>')
     out.append(f'<text class="tick" x="{_c(w / 2 - 90)}" y="{_c(h - 6)}">finger height above the overlay (mm)</text>')
     out.append('<text class="tick" x="2" y="14">signal (fF)</text>')
     for rev, c in curves.items():

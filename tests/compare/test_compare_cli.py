@@ -56,6 +56,7 @@ def test_only_the_changed_window_is_solved_and_every_report_is_written(tmp_path:
     page = (tmp_path / "c.html").read_text()
     assert page.count('class="c-old"') == 1 and page.count('class="c-new"') == 1  # both curves, one chart
     assert 'class="added"' in page and 'class="old' in page and 'class="new' in page
+    assert "<script" not in page and "Content-Security-Policy" in page  # no code, nothing from outside
     assert "KEY_B (self-button)" in out and "PASS" in out
 
 
