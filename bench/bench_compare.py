@@ -13,11 +13,11 @@ windows are already in the cache: that is the CI set-up the README shows (``--ca
 between pipeline runs, filled by the target branch's own run).  Both are measured: "cold" (empty
 cache: about two checks) and "warm" (the old side's windows cached by an earlier run).
 
-For target 2 a variant of revision B is made (in a temporary folder) with one test pad added on
-the top layer (1.5 mm square, net VBAT, at (98, 60) mm, the pour cleared round it): inside BTN2's
-solve window and no other.  (A ground stitching via removed there would not do: the solver
-models the hatched pour as a sheet, so its window's fingerprint does not change, and compare
-rightly solves nothing.)  Its cost is compared with
+For target 2 a variant of revision B is made (in a temporary folder) with a 6 x 6 mm area cleared
+in the top ground pour at x 95-101, y 57-63 mm (a keep-out for a label): inside BTN2's solve
+window and no other.  (Smaller changes there do not do: a ground via removed or a small test pad
+added is filled over by the solver's model of the hatched pour as a sheet, so no window's
+fingerprint changes and compare rightly solves nothing.)  Its cost is compared with
 reading and checking both boards without estimates plus one solve of BTN2; the number of windows
 solved is counted (it must be 1).
 
@@ -91,17 +91,17 @@ def main(argv: list[str] | None = None) -> int:
         demo = _demo()
         build = demo.build
 
-        def with_test_pad(rev):  # type: ignore[no-untyped-def]
+        def with_void(rev):  # type: ignore[no-untyped-def]
             b = build(rev)
-            b.smd("top", "TP1", "1", (98.0, 60.0), (1.5, 1.5), "VBAT")
+            b._cut_rect("top", (95.0, 57.0, 101.0, 63.0))
             return b
 
-        demo.build = with_test_pad
-        variant = demo.write_board(demo.replace(demo.CLEAN, folder="tm1-test-pad"), Path(tmp))
+        demo.build = with_void
+        variant = demo.write_board(demo.replace(demo.CLEAN, folder="tm1-void"), Path(tmp))
         one = WindowCache(warm_dir)
         t_one, cmp = _timed(lambda: compare_paths(SideSpec("old", str(old)), SideSpec("new", str(variant)), cache=one))
         changed = [s.name for s in cmp.sensors if s.status != "unchanged"]
-        row("compare clean -> test pad added, old cached", t_one,
+        row("compare clean -> pour void near BTN2, old cached", t_one,
             f"{cmp.windows_solved} solved, {cmp.windows_reused} reused; changed: {', '.join(changed) or 'none'}")
         t_read, _ = _timed(lambda: (check_board(old, CheckOptions(estimate=False)),
                                     check_board(variant, CheckOptions(estimate=False))))
