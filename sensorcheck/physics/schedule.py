@@ -100,7 +100,11 @@ def solve_sensors(design: "Design", names: list[str], *, heights: int, max_h: fl
     """name -> SensorEstimate, or the error text of that sensor; in the order of ``names``."""
     t0 = time.perf_counter()
     n_workers = min(workers, len(names))
-    with _Pool(design, n_workers) as pool:  # started first: the workers import while the fingerprints are made
+    from sensorcheck.physics.cache import active_cache
+
+    # started first: the workers import while the fingerprints are made; with a window cache, only
+    # once the windows still to solve are known (a cached run often needs no worker at all)
+    with _Pool(design, n_workers, lazy=active_cache() is not None) as pool:
         return _solve(design, names, heights, max_h, pool, progress, t0)
 
 
@@ -161,6 +165,8 @@ def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool:
         return own
 
     reps = _from_cache(keys, reps, stack_notes, finished)
+    if pool.lazy and len(reps) > 1:
+        pool.start()
     if pool.executor is None or len(reps) <= 1:
         queue = list(reps)
         while queue:
@@ -210,14 +216,18 @@ def _to_cache(keys: dict[str, Any], reps: list[str], results: dict[str, Any], st
 class _Pool:
     """A spawn process pool with one BLAS thread per worker and the design sent once; none for one worker."""
 
-    def __init__(self, design: "Design", n_workers: int) -> None:
+    def __init__(self, design: "Design", n_workers: int, lazy: bool = False) -> None:
         self.design = design
         self.n = n_workers
+        self.lazy = lazy  # started by start(), not on entering
         self.executor: ProcessPoolExecutor | None = None
         self.saved: dict[str, str | None] = {}
 
     def __enter__(self) -> "_Pool":
-        if self.n <= 1:
+        return self if self.lazy else self.start()
+
+    def start(self) -> "_Pool":
+        if self.n <= 1 or self.executor is not None:
             return self
         import multiprocessing as mp
 

@@ -48,3 +48,22 @@ def test_a_cache_file_that_is_not_an_estimate_is_refused_not_run(tmp_path: Path,
     assert cache.lookup(_key("bad"), "B1", 0) is None
     assert cache.lookup(_key("junk"), "B1", 0) is None
     assert not (tmp_path / "planted.txt").exists()
+
+
+def test_with_a_cache_the_pool_starts_only_for_windows_to_solve() -> None:
+    # the same numbers whichever way they are solved (the scheduler's own contract): two different
+    # windows, solved in worker processes started once the cache said they are needed, then both
+    # taken from the cache with no worker at all
+    from sensorcheck.commands.estimate import estimates_json
+    from sensorcheck.physics.schedule import estimate_design
+
+    from .helpers import buttons
+
+    plain = estimates_json(estimate_design(buttons((5.0, 6.0)), workers=1))
+    cache = WindowCache()
+    with cache.active():
+        pooled = estimates_json(estimate_design(buttons((5.0, 6.0)), workers=2))
+        assert (cache.solved, cache.hits) == (2, 0)
+        again = estimates_json(estimate_design(buttons((5.0, 6.0)), workers=2))
+        assert (cache.solved, cache.hits) == (2, 2)
+    assert pooled == plain and again == plain
