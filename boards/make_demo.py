@@ -1,8 +1,8 @@
-"""Generate the demo boards: an invented battery kitchen timer, "TM-1", in two revisions.
+"""Generate the demo boards: an invented battery kitchen timer, "TM-1", in three revisions.
 
     python boards/make_demo.py [OUT_DIR]        (default: the folder this script is in)
 
-writes ``tm1-clean/`` and ``tm1-flawed/`` under OUT_DIR, each with ``fab/`` (Gerber X2 layers,
+writes ``tm1-clean/``, ``tm1-flawed/`` and ``tm1-revc/`` under OUT_DIR, each with ``fab/`` (Gerber X2 layers,
 Excellon PTH and NPTH, IPC-D-356A netlist, Gerber job file) and ``sensorcheck.toml``.  The output
 is byte-identical on every run (no clock, no randomness; project GUIDs derive from the names).
 The scenario and every seeded fault are described in ``boards/README.md``.
@@ -22,7 +22,7 @@ from __future__ import annotations
 import math
 import sys
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Literal
 
@@ -154,6 +154,8 @@ class Revision:
     #: two channel nets with no ground between them: the pour pocket their jogs and pin stubs
     #: would enclose is left out (it would float)
     no_pour_between: tuple[str, str] | None = None
+    #: the front panel's thickness (mm)
+    overlay_mm: float = OVERLAY_THICKNESS_MM
 
 
 CLEAN = Revision(
@@ -197,7 +199,20 @@ FLAWED = Revision(
     no_pour_between=("RX1", "TX2"),
 )
 
-REVISIONS = (CLEAN, FLAWED)
+#: revision C: revision B with two changes a merge request might bring, for ``sensorcheck compare``:
+#: the front panel thickened to 3.0 mm, and the indicator LED moved between the self buttons with
+#: its drive line run under BTN2 (the geometry of revision A's fault d); everything else as B
+REV_C = replace(
+    CLEAN,
+    folder="tm1-revc",
+    rev="C",
+    title="TM-1 kitchen timer, revision C (3 mm front panel, LED moved; for compare)",
+    led_xy=FLAWED.led_xy,
+    led_route=FLAWED.led_route,
+    overlay_mm=3.0,
+)
+
+REVISIONS = (CLEAN, FLAWED, REV_C)
 
 
 # --- geometry of the sensors (shared with the tests) -----------------------------------------
@@ -764,7 +779,7 @@ mode = "air"
 
 
 def config_text(rev: Revision) -> str:
-    return CONFIG_HEAD.format(title=rev.title, t=OVERLAY_THICKNESS_MM, material=OVERLAY_MATERIAL,
+    return CONFIG_HEAD.format(title=rev.title, t=rev.overlay_mm, material=OVERLAY_MATERIAL,
                               clr=FAB_MIN_CLEARANCE_MM, wid=FAB_MIN_WIDTH_MM)
 
 

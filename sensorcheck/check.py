@@ -11,9 +11,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from shapely.geometry.base import BaseGeometry
-
 from sensorcheck import __version__
+from sensorcheck.board.drawing import rings_for_drawing as _rings
 from sensorcheck.errors import ConfigError, EmptyInputError, InputError, SensorcheckError
 from sensorcheck.findings import (
     NOTHING_CHECKED,
@@ -45,42 +44,8 @@ class CheckOptions:
     allow_empty: bool = False
     #: merge findings of one cause into one finding listing its places (the engine's grouping)
     group: bool = True
-
-
-def _rings(geom: BaseGeometry | None, tolerance_mm: float = 0.02) -> list[list[tuple[float, float]]]:
-    """Exterior and interior rings of a (multi)polygon, simplified for drawing, rounded to 1 um."""
-    import numpy as np
-    import shapely
-
-    if geom is None or geom.is_empty:
-        return []
-    # plain Douglas-Peucker (a fifth of the cost), topology-preserving where that would draw
-    # crossing rings or drop a part
-    fast = geom.simplify(tolerance_mm, preserve_topology=False)
-    same_parts = shapely.get_num_geometries(fast) == shapely.get_num_geometries(geom)
-    geom = fast if same_parts and fast.is_valid else geom.simplify(tolerance_mm, preserve_topology=True)
-    polys = getattr(geom, "geoms", [geom])
-    rings = [ring for poly in polys if poly.geom_type == "Polygon" for ring in (poly.exterior, *poly.interiors)]
-    if not rings:
-        return []
-    xy = shapely.get_coordinates(rings)
-    # round(v, 3) for all at once: k / 1000 with k the nearest integer to 1000 v is the double
-    # nearest the 3-decimal result, as Python's round gives it; where 1000 v lies within 1e-6 of
-    # a half (the product itself may be off there), Python's round decides
-    scaled = xy * 1000.0
-    k = np.rint(scaled)
-    rounded = k / 1000.0
-    near_half = np.abs(scaled - np.floor(scaled) - 0.5) < 1e-6
-    if near_half.any():
-        for i, j in zip(*np.nonzero(near_half)):
-            rounded[i, j] = round(float(xy[i, j]), 3)
-    flat = list(map(tuple, rounded.tolist()))
-    out: list[list[tuple[float, float]]] = []
-    start = 0
-    for n in shapely.get_num_coordinates(rings).tolist():
-        out.append(flat[start:start + n])
-        start += n
-    return out
+    #: called with the Design once it is built (``compare`` measures the copper near each sensor from it)
+    on_design: Callable[[Any], None] | None = None
 
 
 def build_design_for(path: str | Path, config_file: Path | None = None, *, layer_map: Mapping[str, str] | None = None,
@@ -273,6 +238,8 @@ def check_board(path: str | Path, options: CheckOptions | None = None, progress:
         finish(result, options.baseline)
         return result
     board = design.board
+    if options.on_design is not None:
+        options.on_design(design)
     result.board = board.name or result.board  # the engine fingerprints with the board's own name
     result.config_file = config.file
     if config.file is None:

@@ -61,7 +61,8 @@ EXAMPLES = """examples:
   sensorcheck check hw/fab/                                    # check; text report on the terminal
   sensorcheck check hw/fab/ --report html:review.html --report sarif:out.sarif
   sensorcheck estimate hw/fab/ --plot curves.png               # field-solver numbers and curves
-  sensorcheck rules trace.width                                # one rule: why, fix, parameters"""
+  sensorcheck rules trace.width                                # one rule: why, fix, parameters
+  sensorcheck compare hw/fab hw/fab --rev origin/main          # what this branch does to each sensor"""
 
 
 def _epilog(*parts: str) -> str:
@@ -164,6 +165,10 @@ def _parser() -> argparse.ArgumentParser:
     rules.add_argument("rule_ids", nargs="*", metavar="ID", help="only these rules, in full (e.g. trace.width)")
     rules.add_argument("--format", choices=["text", "markdown", "json"], default="text")
 
+    from sensorcheck.commands import compare
+
+    compare.add_parser(sub, argparse.RawDescriptionHelpFormatter)
+
     init = sub.add_parser("init", help="write a starter sensorcheck.toml from what the board holds")
     init.add_argument("path", help="folder or .zip of fabrication outputs")
     init.add_argument("--output", type=Path, help="write the config to this file (default: standard output)")
@@ -231,6 +236,10 @@ def main(argv: Sequence[str] | None = None) -> int:
             from sensorcheck.commands import rules
 
             return rules.run(args)
+        if args.command == "compare":
+            from sensorcheck.commands import compare as compare_command
+
+            return compare_command.run(args)
         if args.command == "init":
             from sensorcheck.commands import init
 

@@ -24,9 +24,11 @@ LAYERS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("files", ("sensorcheck.fab",)),
     ("board", ("sensorcheck.board",)),
     ("design", ("sensorcheck.design",)),
-    ("rules/physics", ("sensorcheck.rules", "sensorcheck.physics")),
+    # compare: what changed between two revisions (plain data in, plain data out); reading a revision
+    # (compare.sides) runs a check and belongs with the commands
+    ("rules/physics", ("sensorcheck.rules", "sensorcheck.physics", "sensorcheck.compare")),
     ("report", ("sensorcheck.report",)),
-    ("commands", ("sensorcheck.commands", "sensorcheck.check")),
+    ("commands", ("sensorcheck.commands", "sensorcheck.check", "sensorcheck.compare.sides")),
     ("cli", ("sensorcheck.cli", "sensorcheck.__main__")),
 )
 

@@ -102,7 +102,11 @@ def solve_sensors(design: "Design", names: list[str], *, heights: int, max_h: fl
     """name -> SensorEstimate, or the error text of that sensor; in the order of ``names``."""
     t0 = time.perf_counter()
     n_workers = min(workers, len(names))
-    with _Pool(design, n_workers) as pool:  # started first: the workers import while the fingerprints are made
+    from sensorcheck.physics.cache import active_cache
+
+    # started first: the workers import while the fingerprints are made; with a window cache, only
+    # once the windows still to solve are known (a cached run often needs no worker at all)
+    with _Pool(design, n_workers, lazy=active_cache() is not None) as pool:
         return _solve(design, names, heights, max_h, pool, progress, t0)
 
 
@@ -162,6 +166,9 @@ def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool:
         state["to_solve"] += len(own)
         return own
 
+    reps = _from_cache(keys, reps, stack_notes, finished)
+    if pool.lazy and len(reps) > 1:
+        pool.start()
     if pool.executor is None or len(reps) <= 1:
         queue = list(reps)
         while queue:
@@ -169,6 +176,7 @@ def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool:
             queue.extend(finished(n, _one((design, n, heights, max_h))[1]))
     else:
         _pool_solve(pool.executor, reps, heights, max_h, finished)
+    _to_cache(keys, reps, results, stack_notes)
     if progress is not None:
         solved = state["solved"]
         progress(f"estimates done: {total} sensors ({solved} solved, {total - solved} from identical windows) "
@@ -176,17 +184,52 @@ def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool:
     return {n: results[n] for n in names}
 
 
+def _from_cache(keys: dict[str, Any], reps: list[str], stack_notes: int,
+                finished: Callable[[str, Any], list[str]]) -> list[str]:
+    """The representatives still to solve: those whose window the active cache
+    (:mod:`sensorcheck.physics.cache`) holds are finished from it, twins included."""
+    from sensorcheck.physics.cache import active_cache
+
+    cache = active_cache()
+    if cache is None:
+        return reps
+    todo: list[str] = []
+    for n in reps:
+        hit = cache.lookup(keys[n], n, stack_notes)
+        todo.extend([n] if hit is None else finished(n, hit))
+    return todo
+
+
+def _to_cache(keys: dict[str, Any], reps: list[str], results: dict[str, Any], stack_notes: int) -> None:
+    """Keep what was solved in the active cache (a coarsened window is not the fingerprinted one)."""
+    from sensorcheck.physics.cache import active_cache
+
+    cache = active_cache()
+    if cache is None:
+        return
+    for n in reps:
+        res = results.get(n)
+        if res is None or isinstance(res, str):
+            continue
+        ok = not any(x.startswith(COARSENED_PREFIX) for x in res.notes)
+        cache.store(keys.get(n) if ok else None, res, stack_notes)
+
+
 class _Pool:
     """A spawn process pool with one BLAS thread per worker and the design sent once; none for one worker."""
 
-    def __init__(self, design: "Design", n_workers: int) -> None:
+    def __init__(self, design: "Design", n_workers: int, lazy: bool = False) -> None:
         self.design = design
         self.n = n_workers
+        self.lazy = lazy  # started by start(), not on entering
         self.executor: ProcessPoolExecutor | None = None
         self.saved: dict[str, str | None] = {}
 
     def __enter__(self) -> "_Pool":
-        if self.n <= 1:
+        return self if self.lazy else self.start()
+
+    def start(self) -> "_Pool":
+        if self.n <= 1 or self.executor is not None:
             return self
         import multiprocessing as mp
 

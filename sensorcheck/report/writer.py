@@ -19,7 +19,7 @@ import shutil
 import tempfile
 from collections.abc import Sequence
 from pathlib import Path
-from typing import TextIO, cast
+from typing import Any, TextIO, cast
 
 from sensorcheck.errors import ConfigError, InputError
 from sensorcheck.report.common import FORMATS, FormatName
@@ -149,32 +149,37 @@ def _write_stream(stream: TextIO, text: str) -> None:
     stream.flush()
 
 
-def load_baseline(path: str | Path) -> set[str]:
-    """Fingerprints of every finding (waived ones too) in a previous JSON report.
-
-    A missing file, invalid JSON or a file that is not a sensorcheck JSON report is an
-    :class:`InputError` naming the file (and the line, for a JSON syntax error).
-    """
+def read_json_report(path: str | Path, what: str = "the baseline") -> dict[str, Any]:
+    """A previous JSON report, checked to be one (format, version, a "boards" list); ``what``
+    names the file in messages.  A missing file, invalid JSON or a file that is not a sensorcheck
+    JSON report is an :class:`InputError` naming the file (and the line, for a JSON syntax error)."""
     p = Path(path)
+    expected = "a JSON report written by --report json:FILE"
     try:
         raw = p.read_bytes()
     except OSError as exc:
-        raise InputError(p, None, f"cannot read the baseline: {exc.strerror or exc}", expected="a JSON report written by --report json:FILE") from exc
+        raise InputError(p, None, f"cannot read {what}: {exc.strerror or exc}", expected=expected) from exc
     try:
         data = json.loads(raw.decode("utf-8-sig"))
     except UnicodeDecodeError as exc:
-        raise InputError(p, None, "the baseline is not UTF-8 text", expected="a JSON report written by --report json:FILE") from exc
+        raise InputError(p, None, f"{what} is not UTF-8 text", expected=expected) from exc
     except json.JSONDecodeError as exc:
-        raise InputError(p, exc.lineno, f"the baseline is not valid JSON: {exc.msg}", expected="a JSON report written by --report json:FILE") from exc
+        raise InputError(p, exc.lineno, f"{what} is not valid JSON: {exc.msg}", expected=expected) from exc
     from sensorcheck.report.json_report import FORMAT_ID, FORMAT_VERSION
 
     if not isinstance(data, dict) or data.get("format") != FORMAT_ID:
-        raise InputError(p, None, "the baseline is not a sensorcheck JSON report", expected=f'an object with "format": "{FORMAT_ID}"')
+        raise InputError(p, None, f"{what} is not a sensorcheck JSON report", expected=f'an object with "format": "{FORMAT_ID}"')
     if data.get("version") != FORMAT_VERSION:
-        raise InputError(p, None, f"the baseline has report version {data.get('version')!r}", expected=f"version {FORMAT_VERSION}")
-    boards = data.get("boards")
-    if not isinstance(boards, list):
-        raise InputError(p, None, 'the baseline has no "boards" list', expected="a JSON report written by --report json:FILE")
+        raise InputError(p, None, f"{what} has report version {data.get('version')!r}", expected=f"version {FORMAT_VERSION}")
+    if not isinstance(data.get("boards"), list):
+        raise InputError(p, None, f'{what} has no "boards" list', expected=expected)
+    return data
+
+
+def load_baseline(path: str | Path) -> set[str]:
+    """Fingerprints of every finding (waived ones too) in a previous JSON report (:func:`read_json_report`)."""
+    p = Path(path)
+    boards = read_json_report(p)["boards"]
     out: set[str] = set()
     for i, board in enumerate(boards):
         findings = board.get("findings") if isinstance(board, dict) else None

@@ -36,6 +36,24 @@ def _commands(text: str) -> list[str]:
     return [m.strip() for m in re.findall(r"(sensorcheck check [^\n|]*)", text)]
 
 
+@pytest.mark.parametrize("job", [3, 4], ids=["github", "gitlab"])
+def test_ci_compare_commands_run_on_the_demo_revisions(job: int, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # the job compares hw/fab/ at the target branch with hw/fab/ as it is; here revision B (the
+    # target branch) with revision C (the merge request), without estimates (a count of findings)
+    (cmd,) = re.findall(r"(sensorcheck compare [^\n|]*)", _blocks("yaml")[job])
+    argv = shlex.split(cmd)[1:]
+    rev = argv.index("--rev")
+    del argv[rev:rev + 2]
+    assert argv[1:3] == ["hw/fab/", "hw/fab/"]
+    argv[1:3] = [str(REPO / "boards" / "tm1-clean"), str(REPO / "boards" / "tm1-revc")]
+    monkeypatch.chdir(tmp_path)
+    rc = main([*argv, "--no-estimate"])
+    assert rc == 1  # revision C runs the LED's drive line under BTN2: new errors fail the job
+    for name in ("compare.md", "compare.html"):
+        assert (tmp_path / name).stat().st_size > 0
+    assert "BTN2" in (tmp_path / "compare.md").read_text(encoding="utf-8")
+
+
 def test_readme_config_example_is_a_valid_config(tmp_path: Path) -> None:
     from sensorcheck.design.config import load_config
     from sensorcheck.rules.engine import known_rules
@@ -53,17 +71,19 @@ def test_readme_config_example_is_a_valid_config(tmp_path: Path) -> None:
 
 
 def test_github_and_gitlab_jobs_match_their_published_schemas() -> None:
-    gh, gl, _ = _blocks("yaml")
-    workflow = yaml.safe_load(gh)
-    # PyYAML follows YAML 1.1, where a bare `on` key is the boolean True; GitHub reads it as "on"
-    if True in workflow:
-        workflow["on"] = workflow.pop(True)
-    jsonschema.validate(workflow, _vendored_schema("github-workflows.json"))
-    jsonschema.validate(yaml.safe_load(gl), _vendored_schema("gitlab-ci.json"))
+    blocks = _blocks("yaml")
+    # the check jobs first, then the pre-commit snippet, then the compare jobs (GitHub, GitLab)
+    for gh, gl in ((blocks[0], blocks[1]), (blocks[3], blocks[4])):
+        workflow = yaml.safe_load(gh)
+        # PyYAML follows YAML 1.1, where a bare `on` key is the boolean True; GitHub reads it as "on"
+        if True in workflow:
+            workflow["on"] = workflow.pop(True)
+        jsonschema.validate(workflow, _vendored_schema("github-workflows.json"))
+        jsonschema.validate(yaml.safe_load(gl), _vendored_schema("gitlab-ci.json"))
 
 
 def test_pre_commit_snippet_is_a_valid_pre_commit_config(tmp_path: Path) -> None:
-    _, _, pc = _blocks("yaml")
+    pc = _blocks("yaml")[2]
     p = tmp_path / ".pre-commit-config.yaml"
     p.write_text(pc, encoding="utf-8")
     proc = subprocess.run([sys.executable, "-m", "pre_commit", "validate-config", str(p)], capture_output=True, text=True)
