@@ -520,7 +520,7 @@ class BoardSystem:
 
         d = own() if self_key is None or body_at_origin is None else _cached(("body", m.eps_r, m.interfaces_m, m.ground_below, m.tol, *self_key), own)
         b, cc = self.body_coupling(obs, body, z_range)
-        w = self.op.solve(b)  # A^-1 B
+        w = self.op.solve_recycled(b)  # A^-1 B (physics/operator.py: by the span of earlier positions)
         sch = d - cc @ w
         lu_s = sla.lu_factor(sch, check_finite=False)
         s_b = incidence(self.panels, self.n_conductors)

@@ -60,6 +60,13 @@ BYTES_PER_CHUNK_ENTRY = 4 * 8 + 5 * 4 + 8
 #: a worker process before it solves anything: the interpreter, numpy/scipy/shapely, the design
 #: (measured: about 180 MB resident for b06 after the import and the design are in; rounded up)
 PROCESS_BYTES = 300 * 1024 * 1024
+#: recycled solves (:meth:`BoardOperator.solve_recycled`): directions of a right-hand side below
+#: this fraction of its largest column are dropped (the float32 rounding of the right-hand side
+#: itself is 6e-8 per entry)
+RECYCLE_TOL = 1e-7
+#: the basis stops growing at this fraction of the panels: beyond it, projecting on the basis
+#: costs about what a direct solve does (projection 6 n r m flops against 2 n^2 m)
+RECYCLE_MAX_FRACTION = 0.3
 #: finger panels of one solve (a fine finger has about 300; the hand-sized plate more)
 BODY_PANELS = 600
 
@@ -67,8 +74,11 @@ BODY_PANELS = 600
 class BoardOperator:
     """The board block, assembled and LU-factorised in place in :data:`STORAGE` precision.
 
-    ``solve(b)`` gives ``A^-1 b`` in float64 for ``b`` of shape (n,) or (n, m).  ``factorisations``
-    and ``solved_columns`` count the work done (for tests that bound work, not time).
+    ``solve(b)`` gives ``A^-1 b`` in float64 for ``b`` of shape (n,) or (n, m).
+    ``solve_recycled(b)`` gives the same for the finger's coupling blocks, by a basis of the
+    earlier right-hand sides (see there).  ``factorisations``, ``solved_columns`` (columns put
+    through the triangular solves) and ``rank`` (of the recycled basis) count the work done, for
+    tests that bound work, not time.
     """
 
     def __init__(self, panels: "Panels", medium: "LayeredMedium", groups: dict[float, np.ndarray],
@@ -82,6 +92,13 @@ class BoardOperator:
         self.lu = (lu, piv)
         self.factorisations = 1
         self.solved_columns = 0
+        self.recycle_tol = RECYCLE_TOL
+        self._q = np.zeros((self.n, 0))  # orthonormal basis of the earlier right-hand sides
+        self._z = np.zeros((self.n, 0), dtype=self.dtype)  # A^-1 of it, in storage precision
+
+    @property
+    def rank(self) -> int:
+        return int(self._q.shape[1])
 
     @property
     def nbytes(self) -> int:
@@ -92,6 +109,39 @@ class BoardOperator:
         self.solved_columns += 1 if rhs.ndim == 1 else rhs.shape[1]
         x = sla.lu_solve(self.lu, rhs, overwrite_b=True, check_finite=False)
         return np.asarray(x, dtype=np.float64)
+
+    def solve_recycled(self, b: np.ndarray) -> np.ndarray:
+        """``A^-1 b`` for ``b`` (n, m), through the span of the earlier right-hand sides.
+
+        The finger's coupling blocks of one window (every finger position and height) are smooth
+        potentials on the board from sources above it, and the blocks of nearby positions share
+        most of their span.  So ``b`` is projected on an orthonormal basis ``Q`` of what was solved
+        before (``A^-1 Q`` kept), and only what is new in it goes through the triangular solves:
+        the residual ``b - Q Q^T b``'s principal directions above :data:`RECYCLE_TOL` of ``b``'s
+        largest column (from the residual's Gram matrix), orthonormalised and appended to ``Q``.
+        What is dropped is below that tolerance in every column.  Once the basis holds
+        :data:`RECYCLE_MAX_FRACTION` of ``n`` directions it stops growing and ``b`` is solved directly.
+        """
+        b = np.asarray(b, dtype=np.float64)
+        if b.ndim != 2 or self.rank >= RECYCLE_MAX_FRACTION * self.n:
+            return self.solve(b)
+        scale = float(np.sqrt(np.max(np.einsum("ij,ij->j", b, b)))) if b.size else 0.0
+        if scale == 0.0:
+            return np.zeros_like(b)
+        q, z = self._q, self._z
+        c = q.T @ b
+        r = b - q @ c  # orthogonal to Q up to rounding, far below the tolerance
+        ev, vec = np.linalg.eigh(r.T @ r)
+        keep = ev > (self.recycle_tol * scale) ** 2
+        if np.any(keep):
+            new = r @ vec[:, keep]
+            new -= q @ (q.T @ new)
+            qn, _ = np.linalg.qr(new)
+            zn = self.solve(qn).astype(self.dtype)
+            self._q = q = np.concatenate([q, qn], axis=1)
+            self._z = z = np.concatenate([z, zn], axis=1)
+            c = np.concatenate([c, qn.T @ r], axis=0)
+        return np.asarray(z @ c.astype(self.dtype), dtype=np.float64)
 
 
 def assemble_planes(panels: "Panels", medium: "LayeredMedium", groups: dict[float, np.ndarray], *,
