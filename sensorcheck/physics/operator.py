@@ -67,6 +67,9 @@ RECYCLE_TOL = 1e-7
 #: the basis stops growing at this fraction of the panels: beyond it, projecting on the basis
 #: costs about what a direct solve does (projection 6 n r m flops against 2 n^2 m)
 RECYCLE_MAX_FRACTION = 0.3
+#: and at this many directions whatever the panels, which bounds its memory (the corpus windows
+#: need 400 to 600: tests/physics/test_operator.py counts a window's)
+RECYCLE_MAX_RANK = 1500
 #: finger panels of one solve (a fine finger has about 300; the hand-sized plate more)
 BODY_PANELS = 600
 
@@ -120,10 +123,11 @@ class BoardOperator:
         the residual ``b - Q Q^T b``'s principal directions above :data:`RECYCLE_TOL` of ``b``'s
         largest column (from the residual's Gram matrix), orthonormalised and appended to ``Q``.
         What is dropped is below that tolerance in every column.  Once the basis holds
-        :data:`RECYCLE_MAX_FRACTION` of ``n`` directions it stops growing and ``b`` is solved directly.
+        :data:`RECYCLE_MAX_FRACTION` of ``n`` (or :data:`RECYCLE_MAX_RANK`) directions it stops
+        growing and ``b`` is solved directly.
         """
         b = np.asarray(b, dtype=np.float64)
-        if b.ndim != 2 or self.rank >= RECYCLE_MAX_FRACTION * self.n:
+        if b.ndim != 2 or self.rank >= min(RECYCLE_MAX_FRACTION * self.n, RECYCLE_MAX_RANK):
             return self.solve(b)
         scale = float(np.sqrt(np.max(np.einsum("ij,ij->j", b, b)))) if b.size else 0.0
         if scale == 0.0:
@@ -208,13 +212,17 @@ def operator_bytes(n_panels: int, dtype: type[np.floating] = STORAGE) -> int:
 def worker_bytes(n_panels: int, dtype: type[np.floating] = STORAGE, chunk_entries: int = CHUNK_ENTRIES) -> int:
     """The stated memory budget of one worker solving a window of ``n_panels`` panels.
 
-    The operator, the assembly block's temporaries (bounded by ``chunk_entries``), the finger
-    solves (right-hand side and solution in float64 and in storage precision, the coupling
-    blocks both ways: six ``n x BODY_PANELS`` arrays) and the process itself.
+    The operator, the assembly block's temporaries (bounded by ``chunk_entries``), the recycled
+    basis and its solutions (float64 and storage precision, at most :data:`RECYCLE_MAX_RANK`
+    columns), the finger solves (right-hand side and solution, residual, the coupling blocks
+    both ways: six ``n x BODY_PANELS`` float64 arrays) and the process itself.
     """
+    itemsize = np.dtype(dtype).itemsize
     chunk = min(chunk_entries, n_panels * n_panels) * BYTES_PER_CHUNK_ENTRY
+    rank = int(min(RECYCLE_MAX_FRACTION * n_panels, RECYCLE_MAX_RANK))
+    basis = n_panels * rank * (8 + itemsize)
     body = 6 * n_panels * BODY_PANELS * 8
-    return operator_bytes(n_panels, dtype) + chunk + body + PROCESS_BYTES
+    return operator_bytes(n_panels, dtype) + chunk + basis + body + PROCESS_BYTES
 
 
 def available_bytes() -> int | None:

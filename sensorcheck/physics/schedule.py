@@ -99,9 +99,24 @@ def solve_sensors(design: "Design", names: list[str], *, heights: int, max_h: fl
                   progress: Progress | None = None) -> dict[str, Any]:
     """name -> SensorEstimate, or the error text of that sensor; in the order of ``names``."""
     t0 = time.perf_counter()
-    n_workers = min(workers, len(names))
+    n_workers = memory_workers(design, min(workers, len(names)), progress)
     with _Pool(design, n_workers) as pool:  # started first: the workers import while the fingerprints are made
         return _solve(design, names, heights, max_h, pool, progress, t0)
+
+
+def memory_workers(design: "Design", wanted: int, progress: Progress | None = None) -> int:
+    """``wanted`` workers, fewer where the free memory does not hold that many windows at the panel
+    limit (:func:`sensorcheck.physics.operator.workers_for_memory`); says so through ``progress``."""
+    from sensorcheck.limits import DEFAULT_LIMITS
+    from sensorcheck.physics.operator import available_bytes, worker_bytes, workers_for_memory
+
+    limits = getattr(design.config, "limits", None) or DEFAULT_LIMITS
+    free = available_bytes()
+    n = workers_for_memory(wanted, limits.max_mesh_panels, free)
+    if n < wanted and progress is not None and free is not None:
+        progress(f"{n} of {wanted} worker processes: {free / 2**30:.1f} GB free, up to "
+                 f"{worker_bytes(limits.max_mesh_panels) / 2**30:.1f} GB each at {limits.max_mesh_panels} panels")
+    return n
 
 
 def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool: "_Pool", progress: Progress | None,
