@@ -424,7 +424,7 @@ class BoardSystem:
         if other.size:
             raise ValueError("board conductors must be horizontal copper")
         self.groups = groups
-        self.op = BoardOperator(self.panels, self.medium, groups)
+        self.op = BoardOperator(self.panels, self.medium, groups, plane_block)
         s = incidence(self.panels, self.n_conductors)
         self.x = self.op.solve(s)
         self.c0 = (s * self.panels.area[:, None]).T @ self.x

@@ -40,15 +40,30 @@ process itself.  :func:`workers_for_memory` chooses how many workers fit in the 
 from __future__ import annotations
 
 import os
+from collections.abc import Callable
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import Any, Protocol
 
 import numpy as np
 import scipy.linalg as sla
 
-if TYPE_CHECKING:
-    from sensorcheck.physics.bem import Panels
-    from sensorcheck.physics.greens import LayeredMedium
+from sensorcheck.physics.greens import LayeredMedium
+
+
+class PanelSet(Protocol):
+    """What the operator reads of :class:`sensorcheck.physics.bem.Panels` (named structurally: bem
+    builds the operator, so this module does not import it)."""
+
+    centroid: np.ndarray
+
+    def __len__(self) -> int: ...
+
+    def subset(self, idx: np.ndarray) -> Any: ...
+
+
+#: one block between two planes: ``block(obs, z_obs, src, z_src, images, rho_max=...)``
+#: (:func:`sensorcheck.physics.bem.plane_block`)
+PlaneBlock = Callable[..., np.ndarray]
 
 #: storage (and factorisation) precision of the board block; see the module docstring
 STORAGE: type[np.floating] = np.float32
@@ -84,11 +99,11 @@ class BoardOperator:
     tests that bound work, not time.
     """
 
-    def __init__(self, panels: "Panels", medium: "LayeredMedium", groups: dict[float, np.ndarray],
+    def __init__(self, panels: PanelSet, medium: LayeredMedium, groups: dict[float, np.ndarray], block: PlaneBlock,
                  dtype: type[np.floating] = STORAGE, chunk_entries: int = CHUNK_ENTRIES) -> None:
         self.n = len(panels)
         self.dtype = np.dtype(dtype)
-        a = assemble_planes(panels, medium, groups, dtype=dtype, chunk_entries=chunk_entries)
+        a = assemble_planes(panels, medium, groups, block, dtype=dtype, chunk_entries=chunk_entries)
         lu, piv = sla.lu_factor(a, overwrite_a=True, check_finite=False)
         if not np.shares_memory(lu, a):  # the point of the Fortran-ordered storage: no second copy
             raise AssertionError("LU factorisation copied the board block")
@@ -148,15 +163,14 @@ class BoardOperator:
         return np.asarray(z @ c.astype(self.dtype), dtype=np.float64)
 
 
-def assemble_planes(panels: "Panels", medium: "LayeredMedium", groups: dict[float, np.ndarray], *,
+def assemble_planes(panels: PanelSet, medium: LayeredMedium, groups: dict[float, np.ndarray], block: PlaneBlock, *,
                     dtype: type[np.floating] = STORAGE, chunk_entries: int = CHUNK_ENTRIES) -> np.ndarray:
     """The collocation matrix of horizontal board panels (grouped by plane: ``groups``), Fortran-ordered.
 
-    The same entries as :func:`sensorcheck.physics.bem.assemble` (each plane pair's interpolation
-    tables span that pair's whole block, as there), made at most ``chunk_entries`` at a time.
+    The same entries as :func:`sensorcheck.physics.bem.assemble` (``block`` is its plane_block;
+    each plane pair's interpolation tables span that pair's whole block, as there), made at most
+    ``chunk_entries`` at a time.
     """
-    from sensorcheck.physics.bem import plane_block
-
     n = len(panels)
     a = np.empty((n, n), dtype=dtype, order="F")
     layer = medium.layer_of(panels.centroid[:, 2])
@@ -170,7 +184,7 @@ def assemble_planes(panels: "Panels", medium: "LayeredMedium", groups: dict[floa
             step = max(1, chunk_entries // max(1, len(js)))
             for k in range(0, len(io), step):
                 rows = io[k:k + step]
-                a[np.ix_(rows, js)] = plane_block(panels.centroid[rows], zo, src, zs, images, rho_max=rho_max)
+                a[np.ix_(rows, js)] = block(panels.centroid[rows], zo, src, zs, images, rho_max=rho_max)
     return a
 
 

@@ -24,6 +24,7 @@ from sensorcheck.physics.bem import (
     assemble,
     general_block,
     incidence,
+    plane_block,
     plane_groups,
     pruned,
 )
@@ -102,7 +103,7 @@ def test_blocked_assembly_is_the_whole_matrix_entry_by_entry() -> None:
     panels, medium = _window()
     groups, _ = plane_groups(panels)
     whole = assemble(panels, medium)
-    blocked = assemble_planes(panels, medium, groups, dtype=np.float64, chunk_entries=5000)  # dozens of row blocks
+    blocked = assemble_planes(panels, medium, groups, plane_block, dtype=np.float64, chunk_entries=5000)  # dozens of row blocks
     assert blocked.flags.f_contiguous
     np.testing.assert_allclose(blocked, whole, rtol=1e-13, atol=0.0)
 
@@ -155,7 +156,7 @@ def test_recycled_solve_against_direct_on_a_fixed_sequence_counts_its_rank() -> 
     panels, medium = _window()
     groups, _ = plane_groups(panels)
     system = BoardSystem(panels, medium, 3)
-    op64 = BoardOperator(panels, medium, groups, dtype=np.float64)  # the recycling alone, without float32
+    op64 = BoardOperator(panels, medium, groups, plane_block, dtype=np.float64)  # the recycling alone, without float32
     dense = assemble(panels, medium)
     for h in (6e-3, 3e-3, 1.5e-3, 0.0, 1.5e-3):  # the last one repeats: nothing new to solve
         body = _finger(0.5e-3, 0.0, 2.62e-3 + h)
