@@ -22,6 +22,12 @@ point within 0.1 mm).  Timings depend on the machine's load: the load average is
     python bench/bench_board.py [--cases b06,b02,b04,touchpad] [--touchpad 10x16] [--sizes]
     python bench/bench_board.py --write-reference --cases b06 ...
 
+``--memory`` (issue 15 item 4) prints the peak RSS of one window of 4 000, 8 000 and 12 000 board
+panels (two copper planes of a 1.6 mm board under a 2 mm overlay, factorised, then one finger
+position), each in a fresh child process: the operator of physics/operator.py, and at 4 000 also
+the whole-matrix float64 path it replaced (bem.assemble + LU), for comparison.  Target: at most
+4 GB per worker at the panel limit (12 000).
+
 ``CASE:N`` (e.g. ``b02:2``) reads the board and estimates only its first N sensors (no rules): a
 part of a board whose full reference run costs too much on a shared machine.
 """
@@ -123,6 +129,85 @@ def run_one(case: str, out: Path) -> None:
     }, indent=1, sort_keys=True))
 
 
+MEMORY_PANELS = (4000, 8000, 12000)
+MEMORY_TARGET_MB = 4096.0
+
+
+def memory_window(n_panels: int) -> tuple[Any, Any, int]:
+    """Panels of a synthetic window (about ``n_panels`` square panels on two copper planes, three
+    conductors), the layered medium, and the conductor count."""
+    import numpy as np
+
+    from sensorcheck.physics.bem import Panels
+    from sensorcheck.physics.greens import LayeredMedium
+
+    side = int(round(math.sqrt(n_panels / 2.0)))
+    h = 40e-3 / side  # a 40 mm square window
+    xs = (np.arange(side) - side / 2.0) * h
+    x, y = np.meshgrid(xs, xs, indexing="ij")
+    x, y = x.ravel(), y.ravel()
+    quads = []
+    conds = []
+    for z, plane in ((1.6e-3, 0), (0.0, 1)):
+        corners = np.stack([np.stack([x, y], 1), np.stack([x + h, y], 1), np.stack([x + h, y + h], 1), np.stack([x, y + h], 1)], 1)
+        quads.append(np.concatenate([corners, np.full(corners.shape[:2] + (1,), z)], axis=2))
+        r = np.hypot(x + h / 2, y + h / 2)
+        conds.append(np.where(plane == 1, 2, np.where(r < 6e-3, 0, np.where(r < 7e-3, 2, 1))))
+    medium = LayeredMedium(eps_r=(1.0, 3.0, 4.5, 1.0), interfaces_m=(3.6e-3, 1.6e-3, 0.0), tol=1e-6)
+    return Panels(np.concatenate(quads), np.concatenate(conds)), medium, 3
+
+
+def run_memory(spec: str, out: Path) -> None:
+    """Child process: one window of ``spec`` = ``N`` (the operator) or ``N:dense`` (the old path)."""
+    import numpy as np
+
+    from sensorcheck.physics import bem
+
+    n_s, _, how = spec.partition(":")
+    panels, medium, k = memory_window(int(n_s))
+    base = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    t0, c0 = time.perf_counter(), time.process_time()
+    if how == "dense":
+        import scipy.linalg as sla
+
+        a = bem.assemble(panels, medium)
+        sla.lu_factor(a, overwrite_a=True, check_finite=False)
+        n_done = len(panels)
+    else:
+        from sensorcheck.physics.model import finger_panels
+        from sensorcheck.design.model import Finger
+        from sensorcheck.physics.model import SolverOptions
+        from sensorcheck.physics.finger import FINGER_DEFAULTS
+
+        system = bem.BoardSystem(panels, medium, k)
+        finger: Finger = FINGER_DEFAULTS
+        body = finger_panels(finger, 0.0, 0.0, 3.62e-3, SolverOptions())
+        system.with_body(body, (3.62e-3, 3.62e-3 + 40e-3))
+        n_done = system.op.n
+    out.write_text(json.dumps({"panels": n_done, "rss_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0,
+                               "rss_before_mb": base, "wall_s": time.perf_counter() - t0, "cpu_s": time.process_time() - c0,
+                               "dtype": str(np.dtype(getattr(__import__("sensorcheck.physics.operator", fromlist=["STORAGE"]), "STORAGE")))}))
+
+
+def memory_table() -> None:
+    from sensorcheck.physics.operator import worker_bytes
+
+    print(f"{'panels':>7s} {'path':28s} {'peak RSS MB':>11s} {'budget MB':>9s} {'CPU s':>7s}")
+    for n in MEMORY_PANELS:
+        for how in (["dense", ""] if n == MEMORY_PANELS[0] else [""]):
+            with tempfile.TemporaryDirectory() as tmp:
+                out = Path(tmp) / "mem.json"
+                spec = f"{n}:{how}" if how else str(n)
+                subprocess.run([sys.executable, str(Path(__file__).resolve()), "--one-memory", spec, "--out", str(out)], check=True)
+                r = json.loads(out.read_text())
+            label = "float64 whole matrix (before)" if how else f"operator ({r['dtype']})"
+            budget = "" if how else f"{worker_bytes(r['panels']) / 2**20:9.0f}"
+            print(f"{r['panels']:7d} {label:28s} {r['rss_mb']:11.0f} {budget:>9s} {r['cpu_s']:7.1f}")
+            if not how and n == MEMORY_PANELS[-1]:
+                ok = r["rss_mb"] <= MEMORY_TARGET_MB
+                print(f"  target: at most {MEMORY_TARGET_MB:g} MB per worker at {n} panels: {'met' if ok else 'NOT met'}")
+
+
 def measure(case: str) -> dict[str, Any]:
     with tempfile.TemporaryDirectory() as tmp:
         out = Path(tmp) / "case.json"
@@ -168,12 +253,21 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--write-reference", action="store_true")
     ap.add_argument("--reference", type=Path, default=REFERENCE)
     ap.add_argument("--findings", type=Path, help="also write each case's findings (rule, severity, sensor, message) here")
+    ap.add_argument("--memory", action="store_true", help="peak RSS of one window at 4k, 8k and 12k panels (issue 15)")
     ap.add_argument("--one", help=argparse.SUPPRESS)
+    ap.add_argument("--one-memory", help=argparse.SUPPRESS)
     ap.add_argument("--out", type=Path, help=argparse.SUPPRESS)
     args = ap.parse_args(argv)
     if args.one:
         run_one(args.one, args.out)
         return 0
+    if args.one_memory:
+        run_memory(args.one_memory, args.out)
+        return 0
+    if args.memory:
+        memory_table()
+        if args.cases == ap.get_default("cases"):
+            return 0
     cases = [f"touchpad-{args.touchpad}" if c == "touchpad" else c for c in args.cases.split(",") if c]
     ref_all: dict[str, Any] = json.loads(args.reference.read_text()) if args.reference.exists() else {}
     load = os.getloadavg()[0]

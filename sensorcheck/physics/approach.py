@@ -4,17 +4,21 @@ The approach curve is reported at fixed heights (``sensors.approach_heights``: g
 top height down to 0.25 mm, then touching).  Far from the board the curve is flat and smooth in
 the logarithm of the height; near it, it bends, and where the signal turns around it peaks.
 :func:`adaptive_curve` solves a few of the fixed heights first (every third one, and the touch),
-then, between two solved neighbours, compares two interpolants of the unsolved heights in
-``x = log(h + 0.05 mm)`` (the variable :func:`sensorcheck.physics.finger.turning_point` uses):
-the straight line between the two, and the cubic through the four nearest solved points.  Where
-they differ by more than ``rel_tol`` of the signal swing (the largest ``|value - baseline|`` solved
-so far), the height in the middle of the gap is solved too.  Finally the largest ``|signal|``, every
+then estimates each unsolved height in ``x = log(h + 0.05 mm)`` (the variable
+:func:`sensorcheck.physics.finger.turning_point` uses) by the polynomial through the (up to) two
+nearest solved points on each side (a cubic inside the solved range), and its error by the largest difference to the other cubics through four
+solved points that hold both solved neighbours (three on one side and one on the other); where
+one side has fewer than two solved points (next to an end), the straight line between the two
+neighbours is compared as well.  Where that difference exceeds ``rel_tol`` of the signal
+swing (the largest ``|value - baseline|`` solved so far), the height in the middle of the gap is
+solved too.  Finally the largest ``|signal|``, every
 turn and sign reversal (:func:`sensorcheck.physics.finger.turn_indices`) and both their neighbours
 are always solved, so that a turning point (a parabola through those three) or a zero crossing
-never rests on an interpolated value.  Unsolved heights get the cubic's value.
+never rests on an interpolated value.
+Unsolved heights get the central cubic's value.
 
-The bound, and what checks it: the difference of the two interpolants estimates the error of the
-cruder one; tests/physics/test_approach.py checks on the test designs (a mutual button, a self
+The bound, and what checks it: the spread of the interpolants estimates the error of the
+central one; tests/physics/test_approach.py checks on the test designs (a mutual button, a self
 button, and a receiver whose signal turns around) that every adaptive point lies within 1 % of
 the signal swing of the fixed 12-height solve, that the turning point is within 0.1 mm, and that
 fewer heights were solved.
@@ -118,3 +122,9 @@ def adaptive_curve(solve: Callable[[float], float], heights: list[float], baseli
 
 def _fill(heights: list[float], solved: dict[int, float]) -> list[float]:
     return [solved[i] if i in solved else _estimates(heights, solved, i)[0] for i in range(len(heights))]
+
+
+def solved_note(n_solved: int, n_curve: int) -> str:
+    """The estimate note that says how many heights of the approach curve were solved."""
+    return (f"approach: {n_solved} of {n_curve} heights solved, the others interpolated where the curve is "
+            f"smooth (within {100 * ADAPT_REL_TOL:g} % of the signal swing, by comparing two interpolants)")

@@ -112,16 +112,21 @@ class Conductor:
     sensor: str | None = None
     role: str | None = None
 
-_FINGER_MESHES: dict[tuple[object, ...], np.ndarray] = {}
+_FINGER_MESHES: dict[tuple[object, ...], Panels] = {}
 
 def finger_panels(finger: Finger, x_mm: float, y_mm: float, z_bottom_m: float, opts: SolverOptions, coarse: bool = False) -> Panels:
+    """The finger's panels standing at (x, y); the one at the origin is made once per process
+    (every finger position asks for it: the body's own block is keyed by it), so treat it as read-only."""
     key = (repr(finger), repr(opts), coarse, z_bottom_m)
-    v = _FINGER_MESHES.get(key)
-    if v is None:
+    at_origin = _FINGER_MESHES.get(key)
+    if at_origin is None:
         if len(_FINGER_MESHES) > 200:
             _FINGER_MESHES.clear()
-        v = _FINGER_MESHES[key] = _finger_mesh(finger, z_bottom_m, opts, coarse)
-    return Panels(v + np.array([x_mm * MM, y_mm * MM, 0.0]), np.zeros(len(v), dtype=int))
+        v = _finger_mesh(finger, z_bottom_m, opts, coarse)
+        at_origin = _FINGER_MESHES[key] = Panels(v, np.zeros(len(v), dtype=int))
+    if x_mm == 0.0 and y_mm == 0.0:
+        return at_origin
+    return Panels(at_origin.verts + np.array([x_mm * MM, y_mm * MM, 0.0]), np.zeros(len(at_origin), dtype=int))
 
 def _finger_mesh(finger: Finger, z_bottom_m: float, opts: SolverOptions, coarse: bool) -> np.ndarray:
     """The finger's cylinder standing at x = y = 0 (metres)."""
@@ -195,6 +200,26 @@ def approach_heights(n: int, max_height_mm: float) -> list[float]:
         raise ValueError(f"max height must exceed {LOWEST_APPROACH_MM:g} mm")
     far = np.geomspace(max_height_mm, LOWEST_APPROACH_MM, n - 1)
     return [float(h) for h in far] + [0.0]
+
+def approach_curve(model: SensorModel, x: float, y: float, hs: list[float], base_pf: float, max_h_mm: float,
+                   mats: dict[float, np.ndarray], which: dict[str, list[int]] | None = None) -> tuple[list[tuple[float, float]], int]:
+    """The approach curve over (x, y) at the heights ``hs`` of the channel ``which`` (default: the
+    sensor's own): every height solved, or (the default, ``SolverOptions.adaptive_heights``) those
+    :func:`sensorcheck.physics.approach.adaptive_curve` picks.  Returns the curve (pF) and the number
+    of heights solved; ``mats`` receives the solved Maxwell matrices (the touch is always solved)."""
+    from sensorcheck.physics.approach import adaptive_curve
+
+    k = len(model.conductors)
+
+    def at(h: float) -> float:
+        c = mats[h] = model.with_finger(x, y, h, max_h_mm=max_h_mm)
+        return model.value_f(c, k, which) / PF
+
+    if not model.opts.adaptive_heights:
+        return [(h, at(h)) for h in hs], len(hs)
+    curve, solved = adaptive_curve(at, hs, base_pf)
+    return curve, sum(solved)
+
 
 def _neighbour_channels(model: SensorModel) -> dict[str, dict[str, list[int]]]:
     out: dict[str, dict[str, list[int]]] = {}

@@ -20,9 +20,10 @@ import numpy as np
 import shapely
 from shapely.geometry.base import BaseGeometry
 
+from sensorcheck.physics.approach import solved_note
 from sensorcheck.physics.estimate import NodeEstimate, SensorEstimate
 from sensorcheck.physics.finger import PF, turnarounds
-from sensorcheck.physics.model import SensorModel, _neighbour_channels, approach_heights, describe
+from sensorcheck.physics.model import SensorModel, _neighbour_channels, approach_curve, approach_heights, describe
 
 CROSS_GROW_MM = 0.5  # the row and the column grown by their distance plus this to find where they cross (stated model choice)
 
@@ -89,13 +90,11 @@ def estimate_matrix(model: SensorModel, *, heights: int, max_height_mm: float) -
     weak = min(nodes, key=lambda n: abs(n.touch_delta_pf))
     which = {"tx": [idx[weak.tx]], "rx": [idx[weak.rx]]}
     x, y = weak.centre_mm
-    curve: list[tuple[float, float]] = []
-    c_touch: np.ndarray | None = None
-    for h in approach_heights(heights, max_height_mm):
-        c_touch = model.with_finger(x, y, h, max_h_mm=max_height_mm)
-        curve.append((h, model.value_f(c_touch, k, which) / PF))
-    assert c_touch is not None
     base_pf = weak.cm_pf
+    hs = approach_heights(heights, max_height_mm)
+    mats: dict[float, np.ndarray] = {}
+    curve, n_solved = approach_curve(model, x, y, hs, base_pf, max_height_mm, mats, which)
+    c_touch = mats[hs[-1]]
     delta = curve[-1][1] - base_pf
     cross: dict[str, float] = {}
     for name, w in _neighbour_channels(model).items():
@@ -107,6 +106,8 @@ def estimate_matrix(model: SensorModel, *, heights: int, max_height_mm: float) -
         f"virtual ground; {len(nodes)} nodes; baseline, touch delta and approach curve of node {weak.tx}/{weak.rx}, the "
         f"weakest (per-node values in the nodes table)"
     )
+    if n_solved < len(hs):
+        notes.append(solved_note(n_solved, len(hs)))
     if skipped:
         notes.append(f"matrix nodes not estimated (the lines neither cross nor couple in the model): {', '.join(skipped)}")
     turns = turnarounds(curve, base_pf)

@@ -98,20 +98,53 @@ def _keys(design: "Design", names: list[str], heights: int, max_h: float) -> tup
 
 
 def solve_sensors(design: "Design", names: list[str], *, heights: int, max_h: float, workers: int,
-                  progress: Progress | None = None) -> dict[str, Any]:
-    """name -> SensorEstimate, or the error text of that sensor; in the order of ``names``."""
+                  progress: Progress | None = None, executor: Executor | None = None) -> dict[str, Any]:
+    """name -> SensorEstimate, or the error text of that sensor; in the order of ``names``.
+
+    ``executor``: solve on it (a Dask cluster, :mod:`sensorcheck.cluster`) instead of a local pool,
+    with the same fingerprints, twins and per-sensor failure isolation (the design then travels
+    with each job: a cluster's workers did not receive it up front).
+    """
     t0 = time.perf_counter()
-    n_workers = min(workers, len(names))
+    if executor is not None:
+        def submit(n: str) -> "Future[tuple[str, Any]]":
+            from sensorcheck.physics.sensors import _one
+
+            return executor.submit(_one, (design, n, heights, max_h))
+
+        return _solve(design, names, heights, max_h, submit, progress, t0)
     from sensorcheck.physics.cache import active_cache
 
+    n_workers = memory_workers(design, min(workers, len(names)), progress)
     # started first: the workers import while the fingerprints are made; with a window cache, only
     # once the windows still to solve are known (a cached run often needs no worker at all)
     with _Pool(design, n_workers, lazy=active_cache() is not None) as pool:
-        return _solve(design, names, heights, max_h, pool, progress, t0)
+        def pooled(n: str) -> "Future[tuple[str, Any]]":
+            ex = pool.start().executor
+            assert ex is not None  # more than one worker
+            return ex.submit(_solve_in_worker, (n, heights, max_h))
+
+        return _solve(design, names, heights, max_h, pooled if n_workers > 1 else None, progress, t0)
 
 
-def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool: "_Pool", progress: Progress | None,
-           t0: float) -> dict[str, Any]:
+def memory_workers(design: "Design", wanted: int, progress: Progress | None = None) -> int:
+    """``wanted`` workers, fewer where the free memory does not hold that many windows at the panel
+    limit (:func:`sensorcheck.physics.operator.workers_for_memory`); says so through ``progress``."""
+    from sensorcheck.limits import DEFAULT_LIMITS
+    from sensorcheck.physics.operator import available_bytes, worker_bytes, workers_for_memory
+
+    limits = getattr(design.config, "limits", None) or DEFAULT_LIMITS
+    free = available_bytes()
+    n = workers_for_memory(wanted, limits.max_mesh_panels, free)
+    if n < wanted and progress is not None and free is not None:
+        progress(f"{n} of {wanted} worker processes: {free / 2**30:.1f} GB free, up to "
+                 f"{worker_bytes(limits.max_mesh_panels) / 2**30:.1f} GB each at {limits.max_mesh_panels} panels")
+    return n
+
+
+def _solve(design: "Design", names: list[str], heights: int, max_h: float,
+           submit: "Callable[[str], Future[tuple[str, Any]]] | None", progress: Progress | None, t0: float) -> dict[str, Any]:
+    """Fingerprint, solve one sensor per distinct window (``submit``: on workers; None: here), fill the twins."""
     from sensorcheck.physics.fingerprint import translated
     from sensorcheck.physics.sensors import _one
 
@@ -167,15 +200,13 @@ def _solve(design: "Design", names: list[str], heights: int, max_h: float, pool:
         return own
 
     reps = _from_cache(keys, reps, stack_notes, finished)
-    if pool.lazy and len(reps) > 1:
-        pool.start()
-    if pool.executor is None or len(reps) <= 1:
+    if submit is None or len(reps) <= 1:
         queue = list(reps)
         while queue:
             n = queue.pop(0)
             queue.extend(finished(n, _one((design, n, heights, max_h))[1]))
     else:
-        _pool_solve(pool.executor, reps, heights, max_h, finished)
+        _pool_solve(submit, reps, finished)
     _to_cache(keys, reps, results, stack_notes)
     if progress is not None:
         solved = state["solved"]
@@ -259,11 +290,11 @@ def _warm() -> None:
     import sensorcheck.physics.sensors  # noqa: F401  (the import is the work: done while the parent makes fingerprints)
 
 
-def _pool_solve(pool: ProcessPoolExecutor, reps: list[str], heights: int, max_h: float,
+def _pool_solve(submit: "Callable[[str], Future[tuple[str, Any]]]", reps: list[str],
                 finished: Callable[[str, Any], list[str]]) -> None:
     from sensorcheck.physics.sensors import INTERNAL_PREFIX
 
-    pending: dict[Future[tuple[str, Any]], str] = {pool.submit(_solve_in_worker, (n, heights, max_h)): n for n in reps}
+    pending: dict[Future[tuple[str, Any]], str] = {submit(n): n for n in reps}
     order = {n: i for i, n in enumerate(reps)}
     while pending:
         done, _ = wait(pending, return_when=FIRST_COMPLETED)
@@ -275,7 +306,7 @@ def _pool_solve(pool: ProcessPoolExecutor, reps: list[str], heights: int, max_h:
             except Exception as exc:  # noqa: BLE001 - a dead worker loses only its own sensor
                 res = f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
             for t in finished(name, res):
-                pending[pool.submit(_solve_in_worker, (t, heights, max_h))] = t
+                pending[submit(t)] = t
 
 
 def estimate_design(
@@ -289,7 +320,8 @@ def estimate_design(
 ) -> dict[str, SensorEstimate]:
     """Estimates for the design's sensors (or those named), in parallel across processes.
 
-    ``executor``: run the sensors there instead (a Dask cluster, :mod:`sensorcheck.cluster`).
+    ``executor``: run the sensors there instead (a Dask cluster, :mod:`sensorcheck.cluster`), with
+    the same window fingerprints and per-sensor failure isolation as the local pool.
 
     Errors of one sensor (bad copper, over the mesh budget) are raised as one InputError after
     the others ran; pass ``errors`` (a list) to collect their messages there instead and keep
@@ -300,23 +332,14 @@ def estimate_design(
     for n in names:
         if n not in known:
             raise ConfigError(design.config.file, "sensor", f"no sensor named {n!r} (known: {', '.join(sorted(known))})")
-    from sensorcheck.physics.sensors import _one
-
     opts = design.config.estimate
     heights = int(opts.get("heights", 12))
     max_h = float(opts.get("max_height_mm", 20.0))
 
     results: dict[str, SensorEstimate] = {}
     failed: list[str] = errors if errors is not None else []
-    if executor is not None:  # a cluster (sensorcheck.cluster): one job per sensor, results in order
-        outcomes: dict[str, SensorEstimate | str] = {}
-        for name, res in executor.map(_one, [(design, n, heights, max_h) for n in names]):
-            outcomes[name] = res
-            if progress is not None:
-                progress(f"sensor {len(outcomes)}/{len(names)} {name}")
-    else:
-        outcomes = solve_sensors(design, names, heights=heights, max_h=max_h,
-                                 workers=workers or os.cpu_count() or 1, progress=progress)
+    outcomes = solve_sensors(design, names, heights=heights, max_h=max_h, workers=workers or os.cpu_count() or 1,
+                             progress=progress, executor=executor)
     for name, res in outcomes.items():
         if isinstance(res, str):
             failed.append(f"{name}: {res}")

@@ -38,7 +38,7 @@ from sensorcheck.limits import DEFAULT_LIMITS, Limits
 from sensorcheck.materials import FR4_EPSILON_R
 from sensorcheck.physics.bem import BoardSystem, Panels
 from sensorcheck.physics.estimate import SensorEstimate
-from sensorcheck.physics.approach import ADAPT_REL_TOL, adaptive_curve
+from sensorcheck.physics.approach import solved_note
 from sensorcheck.physics.finger import FINGER_DEFAULTS, PF, turnarounds, validate_finger
 from sensorcheck.physics.greens import LayeredMedium
 from sensorcheck.physics.model import (  # the shared model pieces (re-exported for older imports)
@@ -48,6 +48,7 @@ from sensorcheck.physics.model import (  # the shared model pieces (re-exported 
     SolverOptions,
     Stack,
     _neighbour_channels,
+    approach_curve,
     approach_heights,
     centre_note,
     describe,
@@ -461,25 +462,6 @@ def _candidates(sensor: Sensor, model: SensorModel) -> list[tuple[float, float]]
 
 
 
-def _approach(model: SensorModel, x: float, y: float, hs: list[float], base_pf: float, max_h_mm: float,
-              mats: dict[float, np.ndarray]) -> tuple[list[tuple[float, float]], int]:
-    """The approach curve over (x, y) at the heights ``hs``: every height solved, or (the default,
-    ``SolverOptions.adaptive_heights``) those :func:`sensorcheck.physics.approach.adaptive_curve` picks.
-    Returns the curve (pF) and the number of heights solved; ``mats`` receives the solved Maxwell matrices."""
-    k = len(model.conductors)
-
-    def at(h: float) -> float:
-        c = mats[h] = model.with_finger(x, y, h, max_h_mm=max_h_mm)
-        return model.value_f(c, k) / PF
-
-    if not model.opts.adaptive_heights:
-        return [(h, at(h)) for h in hs], len(hs)
-    curve, solved = adaptive_curve(at, hs, base_pf)
-    return curve, sum(solved)
-
-
-
-
 def _hand_range(model: SensorModel, x: float, y: float, base_f: float) -> float | None:
     """Largest height (mm) where a hand-sized plate changes the self capacitance by the floor."""
     opts = model.opts
@@ -546,7 +528,7 @@ def estimate_with(
     base_pf = base_f / PF
     hs = approach_heights(heights, max_height_mm)
     mats: dict[float, np.ndarray] = {}
-    curve, n_solved = _approach(model, bx, by, hs, base_pf, max_height_mm, mats)
+    curve, n_solved = approach_curve(model, bx, by, hs, base_pf, max_height_mm, mats)
     c_touch = mats[hs[-1]]
     touch_pf = curve[-1][1]
     delta = touch_pf - base_pf
@@ -557,7 +539,7 @@ def estimate_with(
     curve_c: list[tuple[float, float]] = []
     extra_notes: list[str] = []
     if np.hypot(centre.x - bx, centre.y - by) > 1.0:
-        curve_c, n_c = _approach(model, centre.x, centre.y, hs, base_pf, max_height_mm, {})
+        curve_c, n_c = approach_curve(model, centre.x, centre.y, hs, base_pf, max_height_mm, {})
         n_solved += n_c
         turns_c = turnarounds(curve_c, base_pf, over="centre")
         if turns_c and (not turns or turns_c[0].height_mm > turns[0].height_mm):
@@ -579,8 +561,7 @@ def estimate_with(
     notes = list(model.notes) + extra_notes
     n_curve = len(hs) * (2 if curve_c else 1)
     if n_solved < n_curve:
-        notes.append(f"approach: {n_solved} of {n_curve} heights solved, the others interpolated where the curve is "
-                     f"smooth (within {100 * ADAPT_REL_TOL:g} % of the signal swing, by comparing two interpolants)")
+        notes.append(solved_note(n_solved, n_curve))
     if model.kind == "self" and model.main.get("shield"):
         notes.append("shield net driven at the electrode's potential")
     if sensor.kind == "matrix":

@@ -72,7 +72,9 @@ def test_solver_curve_matches_the_fixed_twelve_heights() -> None:
     assert max(abs(a[1] - b[1]) for a, b in zip(adapt.curve, fixed.curve)) <= 0.01 * swing
     assert fixed.turning_point_mm is not None and adapt.turning_point_mm is not None
     assert abs(adapt.turning_point_mm - fixed.turning_point_mm) <= 0.1
-    assert adapt.touch_delta_pf == pytest.approx(fixed.touch_delta_pf, rel=1e-9)
+    # the touch is solved in both; its finger solve goes through the basis of the positions solved
+    # before it (physics/operator.py, recycled to 1e-7 of the right-hand side), which differ
+    assert adapt.touch_delta_pf == pytest.approx(fixed.touch_delta_pf, rel=1e-6)
     assert any(n.startswith("approach: ") and " of 12 heights solved" in n for n in adapt.notes)
 
 

@@ -12,6 +12,7 @@ from __future__ import annotations
 import importlib.util
 import io
 import json
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import pytest
@@ -74,6 +75,47 @@ def test_results_are_the_same_for_any_number_of_workers() -> None:
     one = estimates_json(estimate_design(_pairs(), workers=1))
     two = estimates_json(estimate_design(_pairs(), workers=2))
     assert json.dumps(one, sort_keys=True) == json.dumps(two, sort_keys=True)
+
+
+class _CountingExecutor(ThreadPoolExecutor):
+    """Stands in for a cluster's executor (sensorcheck.cluster): counts the jobs it is given."""
+
+    def __init__(self) -> None:
+        super().__init__(max_workers=1)
+        self.jobs: list[str] = []
+
+    def submit(self, fn, /, *args, **kwargs):  # type: ignore[no-untyped-def, override]
+        self.jobs.append(args[0][1] if args and isinstance(args[0], tuple) else "?")
+        return super().submit(fn, *args, **kwargs)
+
+
+def test_an_executor_solves_each_window_once_like_the_local_pool() -> None:
+    """--scheduler used to send every sensor; now twins are filled as in the local pool (counted jobs)."""
+    with _CountingExecutor() as ex:
+        on_ex = estimate_design(_pairs(), executor=ex)
+    assert ex.jobs == ["B1", "B2"]
+    local = estimate_design(_pairs(), workers=1)
+    assert json.dumps(estimates_json(on_ex), sort_keys=True) == json.dumps(estimates_json(local), sort_keys=True)
+
+
+def test_an_executor_isolates_a_failing_sensor(monkeypatch: pytest.MonkeyPatch) -> None:
+    import sensorcheck.physics.sensors as sensors_mod
+
+    real = sensors_mod.estimate_sensor
+
+    def fails_for_b2(design, sensor, **kw):  # type: ignore[no-untyped-def]
+        if sensor.name == "B2":
+            raise RuntimeError("boom")
+        return real(design, sensor, **kw)
+
+    monkeypatch.setattr(sensors_mod, "estimate_sensor", fails_for_b2)
+    errors: list[str] = []
+    with _CountingExecutor() as ex:
+        est = estimate_design(_pairs(), executor=ex, errors=errors)
+    # B3 is B1's twin; B2 failed alone, and its twin B4 was then solved on its own
+    assert set(est) == {"B1", "B3", "B4"}
+    assert errors == ["B2: internal error: RuntimeError: boom"]
+    assert ex.jobs == ["B1", "B2", "B4"]
 
 
 def _make_touchpad():
