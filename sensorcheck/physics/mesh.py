@@ -367,14 +367,24 @@ def cylinder_panels(
     h_edge: float,
     h_max: float,
     n_theta: int | None = None,
+    rim_band: float | None = None,
 ) -> np.ndarray:
-    """A closed flat-ended cylinder (axis vertical), graded toward its bottom rim."""
+    """A closed flat-ended cylinder (axis vertical), graded toward its bottom rim.
+
+    ``rim_band``: the bottom face gets rows of thin panels of this total width along its rim
+    (:func:`mesh_polygon_banded`, as the board's copper does), where the charge crowds when the
+    bottom face comes close to copper; None: the graded quadtree alone.
+    """
     if n_theta is None:
         n_theta = int(np.clip(np.ceil(2 * np.pi * radius / (1.5 * h_edge)), 16, 96))
     th = np.linspace(0.0, 2 * np.pi, n_theta + 1)
     ring = np.stack([radius * np.cos(th), radius * np.sin(th)], 1)
     disk = Polygon(ring[:-1])
-    bottom = mesh_polygon(disk, MeshSpec(h_edge, max(h_edge, min(h_max, radius / 2.0)), 0.5))
+    bottom_spec = MeshSpec(h_edge, max(h_edge, min(h_max, radius / 2.0)), 0.5)
+    if rim_band is None:
+        bottom = mesh_polygon(disk, bottom_spec)
+    else:
+        bottom = mesh_polygon_banded(disk, MeshSpec(rim_band, max(rim_band, bottom_spec.h_max), 0.5))
     top = mesh_polygon(disk, MeshSpec(min(h_max, radius / 2), min(h_max, radius / 2), 1.0))
     panels = [panels_from_2d(bottom, np.array([x, y, z_bottom]), np.array([1.0, 0, 0]), np.array([0, -1.0, 0]))]
     panels.append(panels_from_2d(top, np.array([x, y, z_bottom + length]), np.array([1.0, 0, 0]), np.array([0, 1.0, 0])))
