@@ -112,7 +112,8 @@ def mesh_polygon(geom: BaseGeometry, spec: MeshSpec, h_max_at: Callable[[np.ndar
             target = np.minimum(spec.h_max, spec.h_min + spec.grading * np.maximum(d - 0.7072 * s, 0.0))
         else:
             local_min, local_max = h_max_at(cx, cy)
-            local_min = np.maximum(local_min, spec.h_min)
+            # local sizes below spec.h_min are taken as given (a finger's rim close over copper:
+            # sensors._mesh_sizes); spec.h_min stays the edge band's width
             target = np.minimum(np.minimum(spec.h_max, local_max), local_min + spec.grading * np.maximum(d - 0.7072 * s, 0.0))
             target = np.maximum(target, local_min)
         split = s > target * 1.0001
@@ -203,7 +204,7 @@ def _local_sizes(x: np.ndarray, y: np.ndarray, spec: MeshSpec, h_max_at: _SizeFn
     if h_max_at is None:
         return np.full(x.shape, spec.h_min), np.full(x.shape, spec.h_max)
     lo, hi = h_max_at(x, y)
-    return np.maximum(np.asarray(lo, dtype=float) + np.zeros(x.shape), spec.h_min), np.asarray(hi, dtype=float) + np.zeros(x.shape)
+    return np.asarray(lo, dtype=float) + np.zeros(x.shape), np.asarray(hi, dtype=float) + np.zeros(x.shape)
 
 
 def _boundary_samples(geom: BaseGeometry, ds: float, inward: float = 0.0) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
