@@ -176,13 +176,54 @@ def general_block(obs: np.ndarray, src: Panels, images: Images, *, exact_all: bo
     return out
 
 
-BODY_IMAGE_TOL = 1e-3  # images of a body on itself below this fraction of the direct term are dropped
+def pair_values(obs: np.ndarray, src: Panels, images: Images) -> np.ndarray:
+    """``sum_n A_n int_{panel k, image n} 1/R`` seen from ``obs[k]``: one value per (point, panel) pair.
+
+    The pairwise form of :func:`general_block`, with the same rule: the exact polygon integral
+    for every image closer than ``NEAR_ETA`` panel sizes, the centroid value plus the
+    second-moment correction beyond.  It serves the few close pairs of two otherwise
+    tabulated blocks (the finger over the board: :meth:`BoardSystem.body_coupling`).
+    """
+    out = np.zeros(len(obs))
+    size2 = (NEAR_ETA * src.size) ** 2
+    for amp, s, t in zip(images.amplitude, images.s, images.t):
+        r = obs - src.centroid
+        r[:, 2] = obs[:, 2] - (s * src.centroid[:, 2] + t)
+        r2 = np.einsum("ij,ij->i", r, r)
+        near = r2 < size2
+        rn = r[:, 0] * src.normal[:, 0] + r[:, 1] * src.normal[:, 1] + r[:, 2] * s * src.normal[:, 2]
+        val = np.zeros(len(obs))
+        far = ~near
+        val[far] = src.area[far] * _far(r[far, 0], r[far, 1], r[far, 2], rn[far], src.m2[far])
+        if np.any(near):
+            val[near] = polygon_integral(obs[near], _image_verts(src.verts[near], s, t))
+        out += amp * val
+    return out
+
+
+BODY_IMAGE_TOL = 1e-4  # images of a body on itself below this fraction of the direct term are lumped (pruned)
 
 
 def pruned(images: Images, rel_tol: float) -> Images:
-    """The images whose amplitude is at least ``rel_tol`` of the largest."""
-    keep = np.abs(images.amplitude) >= rel_tol * np.max(np.abs(images.amplitude))
-    return Images(images.amplitude[keep], images.s[keep], images.t[keep])
+    """The images whose amplitude is at least ``rel_tol`` of the largest, the others lumped.
+
+    The images below the tolerance are not dropped: those of each direction (``s``) become one
+    image of their summed amplitude at their amplitude-weighted mean place.  Dropped, they took
+    0.4 % of the direct term away from a finger's own block over a thin overlay (many small
+    images of rays bouncing in the stack), and a finger 0.07 mm from copper turns that into a
+    2.7 % error in the touch delta; lumped (below 1e-4: 54 of 106 images kept over 1.6 mm FR-4
+    under PMMA), 0.1 %, and their total charge stays where it was on average.
+    """
+    big = np.abs(images.amplitude) >= rel_tol * np.max(np.abs(images.amplitude))
+    amp, s, t = [images.amplitude[big]], [images.s[big]], [images.t[big]]
+    for sign in (-1.0, 1.0):
+        rest = ~big & (images.s == sign)
+        if np.any(rest):
+            w = np.abs(images.amplitude[rest])
+            amp.append(np.array([images.amplitude[rest].sum()]))
+            s.append(np.array([sign]))
+            t.append(np.array([float(np.sum(w * images.t[rest]) / np.sum(w))]))
+    return Images(np.concatenate(amp), np.concatenate(s), np.concatenate(t))
 
 
 def _merge_plane_images(images: Images, z_src: float) -> tuple[np.ndarray, np.ndarray]:
@@ -499,7 +540,36 @@ class BoardSystem:
             m_b = self.panels.m2[idx]
             p_fb[:, idx] = a_b[None, :] * (g + (m_b[None, :] / 4.0) * lap)
             p_bf[idx, :] = (body.area[:, None] * (g + (body.m2 * horiz)[:, None] / 4.0 * lap)).T
+            self._exact_close_pairs(obs, body, zp, idx, obs_layer, p_bf, p_fb)
         return p_bf, p_fb
+
+    def _exact_close_pairs(self, obs: np.ndarray, body: Panels, z_plane: float, idx: np.ndarray, obs_layer: int,
+                           p_bf: np.ndarray, p_fb: np.ndarray) -> None:
+        """Replace the tabulated values of close body-board pairs by the board's own near integrals.
+
+        The table (:meth:`_make_coupling_table`) is the centroid value plus the second-moment
+        correction: right for pairs a few panel sizes apart, badly wrong where the body comes
+        within a panel size of the copper (a finger on a thin overlay: panels of 0.8 mm at
+        0.07 mm).  Every pair closer than ``NEAR_ETA`` times the larger of the two panel sizes
+        to any image is recomputed by :func:`pair_values` in both directions (board panel seen
+        from the body's collocation point, body panel seen from the board's), image by image.
+        """
+        ls = int(self.medium.layer_of(z_plane)[0])
+        im_fb = self.medium.images(ls, obs_layer)  # a board panel's images, seen from the body's layer
+        im_bf = self.medium.images(obs_layer, ls)  # a body panel's images, seen from the board's layer
+        c = self.panels.centroid[idx]
+        rho2 = (obs[:, 0][:, None] - c[None, :, 0]) ** 2 + (obs[:, 1][:, None] - c[None, :, 1]) ** 2
+        reach2 = (NEAR_ETA * np.maximum(body.size[:, None], self.panels.size[idx][None, :])) ** 2
+        # the nearest image height in each direction: a superset of the pairs pair_values integrates exactly
+        dz_fb = np.min(np.abs(obs[:, 2][:, None] - (im_fb.s * z_plane + im_fb.t)[None, :]), axis=1)
+        dz_bf = np.min(np.abs(z_plane - (im_bf.s[None, :] * obs[:, 2][:, None] + im_bf.t[None, :])), axis=1)
+        dz2 = np.minimum(dz_fb, dz_bf) ** 2
+        jf, ib = np.nonzero(rho2 + dz2[:, None] < reach2)
+        if jf.size == 0:
+            return
+        gb = idx[ib]
+        p_fb[jf, gb] = pair_values(obs[jf], self.panels.subset(gb), im_fb)
+        p_bf[gb, jf] = pair_values(self.panels.centroid[gb], body.subset(jf), im_bf)
 
     def with_body(self, body: Panels, z_range: tuple[float, float], self_key: tuple[object, ...] | None = None,
                   body_at_origin: Panels | None = None) -> np.ndarray:

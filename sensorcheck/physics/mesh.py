@@ -112,7 +112,8 @@ def mesh_polygon(geom: BaseGeometry, spec: MeshSpec, h_max_at: Callable[[np.ndar
             target = np.minimum(spec.h_max, spec.h_min + spec.grading * np.maximum(d - 0.7072 * s, 0.0))
         else:
             local_min, local_max = h_max_at(cx, cy)
-            local_min = np.maximum(local_min, spec.h_min)
+            # local sizes below spec.h_min are taken as given (a finger's rim close over copper:
+            # sensors._mesh_sizes); spec.h_min stays the edge band's width
             target = np.minimum(np.minimum(spec.h_max, local_max), local_min + spec.grading * np.maximum(d - 0.7072 * s, 0.0))
             target = np.maximum(target, local_min)
         split = s > target * 1.0001
@@ -203,7 +204,7 @@ def _local_sizes(x: np.ndarray, y: np.ndarray, spec: MeshSpec, h_max_at: _SizeFn
     if h_max_at is None:
         return np.full(x.shape, spec.h_min), np.full(x.shape, spec.h_max)
     lo, hi = h_max_at(x, y)
-    return np.maximum(np.asarray(lo, dtype=float) + np.zeros(x.shape), spec.h_min), np.asarray(hi, dtype=float) + np.zeros(x.shape)
+    return np.asarray(lo, dtype=float) + np.zeros(x.shape), np.asarray(hi, dtype=float) + np.zeros(x.shape)
 
 
 def _boundary_samples(geom: BaseGeometry, ds: float, inward: float = 0.0) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
@@ -367,14 +368,24 @@ def cylinder_panels(
     h_edge: float,
     h_max: float,
     n_theta: int | None = None,
+    rim_band: float | None = None,
 ) -> np.ndarray:
-    """A closed flat-ended cylinder (axis vertical), graded toward its bottom rim."""
+    """A closed flat-ended cylinder (axis vertical), graded toward its bottom rim.
+
+    ``rim_band``: the bottom face gets rows of thin panels of this total width along its rim
+    (:func:`mesh_polygon_banded`, as the board's copper does), where the charge crowds when the
+    bottom face comes close to copper; None: the graded quadtree alone.
+    """
     if n_theta is None:
         n_theta = int(np.clip(np.ceil(2 * np.pi * radius / (1.5 * h_edge)), 16, 96))
     th = np.linspace(0.0, 2 * np.pi, n_theta + 1)
     ring = np.stack([radius * np.cos(th), radius * np.sin(th)], 1)
     disk = Polygon(ring[:-1])
-    bottom = mesh_polygon(disk, MeshSpec(h_edge, max(h_edge, min(h_max, radius / 2.0)), 0.5))
+    bottom_spec = MeshSpec(h_edge, max(h_edge, min(h_max, radius / 2.0)), 0.5)
+    if rim_band is None:
+        bottom = mesh_polygon(disk, bottom_spec)
+    else:
+        bottom = mesh_polygon_banded(disk, MeshSpec(rim_band, max(rim_band, bottom_spec.h_max), 0.5))
     top = mesh_polygon(disk, MeshSpec(min(h_max, radius / 2), min(h_max, radius / 2), 1.0))
     panels = [panels_from_2d(bottom, np.array([x, y, z_bottom]), np.array([1.0, 0, 0]), np.array([0, -1.0, 0]))]
     panels.append(panels_from_2d(top, np.array([x, y, z_bottom + length]), np.array([1.0, 0, 0]), np.array([0, 1.0, 0])))
