@@ -109,8 +109,9 @@ class NeighbourSpacing(Rule):
         next, or both respond (crosstalk, ambiguous keys).
         Where the field solver has an estimate for either sensor, the crosstalk decides: the
         neighbour's delta with the finger on this sensor, as % of this sensor's own delta (the
-        worse of the two directions); no warning when it is at most ``max_crosstalk_percent``,
-        else a warning that gives it with the spacing and its rule-of-thumb limit beside it.
+        worse of the two directions), for every pair the estimates give it for, whatever their
+        spacing: no warning when it is at most ``max_crosstalk_percent``, else a warning that
+        gives it with the spacing and its rule-of-thumb limit beside it.
     Known limitations:
         Mutual nodes share a TX line by design; they are compared like any other sensors.  The
         crosstalk is estimated with the finger at each sensor's most sensitive point.
@@ -149,18 +150,21 @@ class NeighbourSpacing(Rule):
                         d = ea.geometry.distance(eb.geometry)
                         if best is None or d < best[0]:
                             best = (d, ea, eb)
-                if best is None or best[0] >= limit:
-                    continue
+                cross = crosstalk_percent(estimates, a.name, b.name)
+                if cross is None and (best is None or best[0] >= limit):
+                    continue  # no estimate and the rule of thumb is met
+                if cross is not None and cross[0] <= params["max_crosstalk_percent"]:
+                    continue  # the estimated crosstalk is negligible, whatever the spacing
+                if best is None:  # crosstalk between sensors on different layers: their nearest electrodes
+                    best = min(((ea.geometry.distance(eb.geometry), ea, eb) for ea in a.electrodes
+                                for eb in b.electrodes if ea.net != eb.net), key=lambda t: t[0])
                 d, ea, eb = best
                 pa, pb = nearest_points(ea.geometry, eb.geometry)
                 thumb = (f"{a.name} and {b.name} are {fmt(d)} mm apart; limit {fmt(limit, 1)} mm = max("
                          f"{fmt(params['overlay_factor'], 0)} x overlay {fmt(t, 2)} mm, "
-                         f"{fmt(params['min_spacing_mm'], 1)} mm)")
-                cross = crosstalk_percent(estimates, a.name, b.name)
+                         f"{fmt(params['min_spacing_mm'], 1)} mm)" + (" (met)" if d >= limit else ""))
                 if cross is None:  # no estimate: the rule of thumb is the verdict
                     msg, value, lim, unit = thumb, d, limit, "mm"
-                elif cross[0] <= params["max_crosstalk_percent"]:
-                    continue  # the estimated crosstalk is negligible
                 else:
                     msg = (f"{cross[1]}; limit {fmt(params['max_crosstalk_percent'], 0)} % (common practice); "
                            f"rule of thumb: {thumb}")

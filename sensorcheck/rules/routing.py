@@ -584,8 +584,9 @@ class AggressorNearSensor(Rule):
         ``min_distance_led_mm`` (LED nets) or ``min_distance_mm`` (others) is a warning.  Where
         the field solver has an estimate for the sensor, the coupling decides: the charge the
         sensor's drive puts on the aggressor's copper in the solve window is the capacitance
-        through which the aggressor's edges reach the sensor (and bounds the signal it takes); no
-        finding when it is at most ``max_coupling_percent`` of the sensor's touch delta.
+        through which the aggressor's edges reach the sensor (and bounds the signal it takes),
+        whatever the distance: no finding when it is at most ``max_coupling_percent`` of the
+        sensor's touch delta, else one that gives it with the distance rule beside it.
     Why it matters:
         A fast edge next to a high-impedance sensing input couples straight in: LED drive lines
         beside a button make it trigger when the LED blinks.
@@ -645,13 +646,13 @@ class AggressorNearSensor(Rule):
                             ov = ag.intersection(e.geometry)
                             if not ov.is_empty and ov.area > 1e-3 and (under_hit is None or ov.area > under_hit[1].area + 1e-9):
                                 under_hit = (name, ov, e)
+                est = estimates.get(s.name)
                 physical = None
-                if under_hit is not None or any(_boxes_within(ag, self.cache.outline(s), limit) for _, ag in cu):
-                    est = estimates.get(s.name)
+                if cu and est is not None and covers(design, est, limit):  # the window saw the copper near
                     physical = copper_effect(reader, est, [net], None, None, f"{kind} net {net}",
-                                              params["max_coupling_percent"])
-                    if physical is not None and physical[0] and covers(design, est, limit):
-                        continue  # the estimated coupling is negligible (and the window saw the copper near)
+                                             params["max_coupling_percent"])
+                if physical is not None and physical[0]:
+                    continue  # the estimated coupling is negligible, wherever the copper runs
                 if under_hit is not None:
                     layer, ov, e = under_hit
                     yield _with_effect(finding(
@@ -674,12 +675,16 @@ class AggressorNearSensor(Rule):
                     if worst is None or d < worst[0]:
                         pa, pb = nearest_points(ag, tgt)
                         worst = (d, name, ag, midpoint(pa, pb))
-                if worst is not None and worst[0] < limit:
+                if physical is not None and (worst is None or worst[0] >= limit):
+                    # the rule of thumb is met, the coupling is not negligible: the nearest copper is the place
+                    worst = min(((ag.distance(target(name)), name, ag, midpoint(*nearest_points(ag, target(name))))
+                                 for name, ag in cu), key=lambda t: t[0])
+                if worst is not None and (worst[0] < limit or physical is not None):
                     d, layer, ag, pt = worst
                     yield _with_effect(finding(
                         "warning",
                         f"{kind} net {net} on {layer} is {fmt(d)} mm from {s.name}; keep at least {fmt(limit, 1)} mm "
-                        "or put ground between (common practice)",
+                        "or put ground between (common practice)" + (" (met)" if d >= limit else ""),
                         value=d, limit=limit, unit="mm", layer=layer, point=pt, geom=None, nets=(net, *s.nets),
                         sensor=s.name, source=source_near(index.net(layer, net), Point(pt)),
                     ), physical)
@@ -820,10 +825,11 @@ class RxParallelTx(Rule):
         over the run read as a press of that key.  The reviewer should know where, but on such
         a board every row passes many columns by design, and a warning per pair would be noise.
         Where the field solver has an estimate for the RX's sensor and the runs lie in its solve
-        window, the ghost node decides: the mutual capacitance between the RX and the TX net in
-        the window (the charge RX at 1 V puts on the TX copper, physics/effects.py) bounds what
-        a finger over the run can change; no finding when it is at most
-        ``max_crosstalk_percent`` of the RX sensor's own touch delta.
+        window, the ghost node decides, whatever the run's length: the mutual capacitance between
+        the RX and the TX net in the window (the charge RX at 1 V puts on the TX copper,
+        physics/effects.py) bounds what a finger over the run can change; no finding when it is
+        at most ``max_crosstalk_percent`` of the RX sensor's own touch delta, else one that gives
+        it with the run's length and its rule-of-thumb limit beside it.
     Why it matters:
         Every place where an RX runs beside a TX is an extra, touchable mutual node: ghost keys
         and baseline shifts when a finger passes over the traces.
@@ -884,8 +890,8 @@ class RxParallelTx(Rule):
                         continue  # one node: its RX leaves through its own TX by design
                     piece = path.intersection(tx_near[j])  # the path within the distance, the buffer made once
                     length = piece.length
-                    if length <= limit:
-                        continue
+                    if length <= 0 or (length <= limit and not any(o.name in estimates for o in a_set)):
+                        continue  # no run, or within the rule of thumb and no estimate to say otherwise
                     runs = sorted(shapely.get_parts(shapely.line_merge(piece) if piece.geom_type == "MultiLineString"
                                                     else piece), key=lambda g: -g.length)
                     longest = runs[0] if runs else piece
@@ -906,6 +912,8 @@ class RxParallelTx(Rule):
                             physical = _ghost_verdict(est, rx, tx, ghost, params["max_crosstalk_percent"])
                     if physical is not None and physical[0]:
                         continue  # the ghost node the runs make is negligible against the RX's own signal
+                    if physical is None and length <= limit:
+                        continue  # the estimate does not cover the runs: the rule of thumb is met
                     if node is None:
                         sev: Severity = "warning"
                     else:
