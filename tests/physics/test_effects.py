@@ -10,6 +10,7 @@ and for the touch delta; the bound's looseness on these cases is printed by the 
 
 from __future__ import annotations
 
+import pytest
 import shapely
 from shapely.geometry import LineString, Point, box
 
@@ -72,3 +73,24 @@ def test_bound_holds_and_is_small_for_a_trace_far_in_the_pour() -> None:
     added, lost, bound = _check_bound(12.0)
     near = _check_bound(2.0)[2]
     assert bound < near / 10.0  # far away, beyond the ground's clearance: a tenth of the near trace's
+
+
+def test_a_twin_window_reads_the_same_bound_on_its_own_board() -> None:
+    """A twin's estimate is its source's moved (physics/fingerprint.py): its copper groups move with
+    it and the rules find their nets again on the twin's own board, giving the bound the twin's own
+    solve gives (within the mesher's floating-point ties, as the twin test there allows)."""
+    from sensorcheck.physics.schedule import estimate_design
+    from sensorcheck.physics.sensors import SolverOptions, estimate_with
+    from sensorcheck.rules.effects import CopperReader
+
+    from .test_board_scale import FAST, _pairs
+
+    d = _pairs()
+    est = estimate_design(d, workers=1)
+    own = estimate_with(d, d.sensors[2], opts=SolverOptions.from_config(FAST), heights=4)
+    reader = CopperReader(d)
+    for nets in (["GND"], ["T4"]):
+        twin_b = reader.bound_pf(est["B3"], nets, within_mm=5.0)  # B4's pad is 2 mm from B3's
+        own_b = reader.bound_pf(own, nets, within_mm=5.0)
+        assert twin_b is not None and own_b is not None and own_b > 0
+        assert twin_b == pytest.approx(own_b, rel=1e-3), nets
