@@ -103,15 +103,20 @@ class CopperReader:
         """The bound (pF per V) on what the copper of ``nets`` (on ``layers``, all when None) within
         ``within_mm`` of the sensor's electrodes (the whole window when None) does to its signal:
         a self sensor's self excitation, a mutual node's smaller of TX and RX (``excitation`` picks one).
-        None when the estimate carries no copper data or its window does not reach ``within_mm``."""
+        None when the estimate carries no copper data, its window does not reach ``within_mm`` or a net
+        is the sensor's own."""
         if est is None or not est.copper:
             return None
         if within_mm is not None and not covers(self.design, est, within_mm):
             return None
+        want = set(nets)
+        sensor = next((s for s in self.design.sensors if s.name == est.sensor), None)
+        if sensor is None or want & set(sensor.nets):
+            return None  # the sensor's own nets are driven in the solve: no bound for them (a segment's trace
+            # under another segment of one slider is judged by the rule of thumb)
         k = len(COPPER_BINS_MM) - 1
         if within_mm is not None:
             k = next((i for i, e in enumerate(COPPER_BINS_MM) if e >= within_mm - 1e-9), k)
-        want = set(nets)
         lays = None if layers is None else set(layers)
         sums: dict[str, float] = {}
         for g, net in zip(est.copper, self.group_nets(est)):

@@ -99,6 +99,18 @@ def test_trace_under_another_button_cleared_by_a_small_coupling_and_kept_for_cro
     assert f.severity == "error" and f.value == pytest.approx(25.0) and "B1's channel changes by +200.0 fF" in f.message
 
 
+def test_a_segment_trace_under_another_segment_of_the_same_slider_keeps_the_rule_of_thumb() -> None:
+    """The sensor's own nets are driven in its solve: the estimate bounds nothing for them (here the
+    slider's own estimate holds no copper group of its segment S2, so no bound may read as 0)."""
+    s1, s2 = box(-6, -6, 6, 6), box(8, -6, 20, 6)
+    board = make_board([region("top-copper", s1, "S1"), region("top-copper", s2, "S2"),
+                        draw("bottom-copper", [(14, 0), (-10, 0)], 0.2, "S2")])
+    sl = sensor("SL", "slider", [with_traces(board, electrode("S1", "self", s1)), with_traces(board, electrode("S2", "self", s2))])
+    d = make_design(board, make_config(1.0), {"S1": "self", "S2": "self"}, [sl])
+    (f,) = run_one("routing.trace-under-electrode", d, {"SL": est("SL", 0.8, copper=[group("bottom-copper", "GND", (0, 0), 0.0)])})
+    assert f.severity == "error" and f.unit == "mm2" and "field-solver" not in f.message
+
+
 # ---------------------------------------------------------------- routing.aggressor-near-sensor
 
 def test_led_line_too_near_with_negligible_coupling_is_cleared() -> None:
