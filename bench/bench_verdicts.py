@@ -93,7 +93,7 @@ def _check(fab: Path, cfg: Path, estimates: bool) -> dict[str, Any]:
 
 def _cleared_by(old: dict[str, Any]) -> str | None:
     """The estimate's numbers behind a rule-of-thumb finding that is not reported now (None: no estimate)."""
-    from sensorcheck.rules.common import role
+    from sensorcheck.rules.common import fmt, role
     from sensorcheck.rules.effects import CopperReader, copper_effect, crosstalk_percent
 
     design, ests = _LAST.get("design"), _LAST.get("estimates")
@@ -106,16 +106,19 @@ def _cleared_by(old: dict[str, Any]) -> str | None:
     owner = {n: s.name for s in design.sensors for n in s.nets}
     reader = CopperReader(design)
     out: list[str] = []
+    if rule == "electrode.neighbour-spacing":
+        # the pairs of the finding's sensors the estimates give a crosstalk for: the worst of them
+        pairs = [(a, b) for i, a in enumerate(sensors) for b in sensors[i + 1:]] if len(sensors) > 1 else [
+            (sensors[0], owner[n]) for n in nets if n in owner and owner[n] != sensors[0]]
+        found = [c for a, b in pairs if (c := crosstalk_percent(ests, a, b)) is not None]
+        if not found:
+            return "no crosstalk estimate for its sensors"
+        worst = max(found, key=lambda c: c[0])
+        return f"worst crosstalk of {len(found)} pair(s): {worst[1]}"
     for name in sensors:
         s = by_name.get(name)
         est = ests.get(name)
         if s is None:
-            continue
-        if rule == "electrode.neighbour-spacing":
-            others = sorted({owner[n] for n in nets if n in owner and owner[n] != name})
-            for b in others:
-                c = crosstalk_percent(ests, name, b)
-                out.append(c[1] if c else f"no crosstalk estimate for {name}/{b}")
             continue
         if est is None:
             out.append(f"{name}: no estimate")
@@ -146,7 +149,13 @@ def _cleared_by(old: dict[str, Any]) -> str | None:
             eff = copper_effect(reader, est, [n for n in nets if n not in s.nets], [layer], 0.0, "the copper under", 10.0)
         else:
             return None
-        out.append(eff[1] if eff else f"{name}: the estimate does not cover it")
+        if eff is None:
+            out.append(f"{name}: the estimate does not cover it")
+        elif eff[0]:
+            out.append(eff[1])
+        else:
+            out.append(f"NOT cleared ({fmt(eff[2], 1)} % > {fmt(eff[3], 0)} %): still reported, grouped with other "
+                       f"places of the rule now (its value is the physical one)")
     return "; ".join(out) if out else None
 
 
@@ -181,7 +190,7 @@ def _fate(old: dict[str, Any], now: list[dict[str, Any]]) -> str | None:
         return f"decided by the estimate: {cleared[0]['message'][:100]}"
     why = _cleared_by(old)
     if why is not None:
-        return f"cleared by the estimate: {why}"
+        return why if why.startswith(("NOT", "no crosstalk")) else f"cleared by the estimate: {why}"
     return "not found now"
 
 

@@ -155,9 +155,10 @@ def coupling_verdict(est: SensorEstimate, bound_pf: float, limit_percent: float,
     delta = _delta_pf(est)
     pct = 100.0 * bound_pf / delta if delta > 0 else float("inf")
     base = abs(est.baseline_pf)
-    text = (f"field-solver bound: {what} adds at most {fmt(bound_pf, 3)} pF to the {fmt(base, 2)} pF baseline and takes "
-            f"at most {1000 * bound_pf:.1f} fF ({fmt(pct, 1)} %) from the {1000 * est.touch_delta_pf:+.1f} fF touch "
-            f"delta of {est.sensor}; limit {fmt(limit_percent, 0)} % of the delta")
+    text = (f"field-solver bound: {what} couples {fmt(bound_pf, 3)} pF to {est.sensor}, so it adds at most "
+            f"{fmt(bound_pf, 3)} pF to the {fmt(base, 2)} pF baseline and takes at most {1000 * bound_pf:.1f} fF "
+            f"({fmt(pct, 1)} %) from the {1000 * est.touch_delta_pf:+.1f} fF touch delta; limit "
+            f"{fmt(limit_percent, 0)} % of the delta")
     return pct <= limit_percent, text, pct
 
 
