@@ -65,12 +65,98 @@ def _targets(config_dir: Path, only: list[str] | None) -> tuple[list[tuple[str, 
     return out, skipped
 
 
+#: the design and estimates of the last check (kept by wrapping the estimate stage, so a cleared
+#: finding can be explained by the numbers that cleared it)
+_LAST: dict[str, Any] = {}
+
+
 def _check(fab: Path, cfg: Path, estimates: bool) -> dict[str, Any]:
+    import sensorcheck.physics.schedule as schedule
     from sensorcheck.check import CheckOptions, check_board
     from sensorcheck.report.json_report import report_data
 
-    result = check_board(fab, CheckOptions(config_file=cfg, estimate=estimates))
+    real = schedule.estimate_design
+
+    def keep(design: Any, *a: Any, **kw: Any) -> Any:
+        out = real(design, *a, **kw)
+        _LAST.update(design=design, estimates=out)
+        return out
+
+    _LAST.clear()
+    schedule.estimate_design = keep  # type: ignore[assignment]
+    try:
+        result = check_board(fab, CheckOptions(config_file=cfg, estimate=estimates))
+    finally:
+        schedule.estimate_design = real  # type: ignore[assignment]
     return report_data([result])
+
+
+def _cleared_by(old: dict[str, Any]) -> str | None:
+    """The estimate's numbers behind a rule-of-thumb finding that is not reported now (None: no estimate)."""
+    from sensorcheck.rules.common import fmt, role
+    from sensorcheck.rules.effects import CopperReader, copper_effect, crosstalk_percent
+
+    design, ests = _LAST.get("design"), _LAST.get("estimates")
+    if design is None or not ests:
+        return None
+    rule, nets = old["rule_id"], list(old.get("nets") or [])
+    layer = (old.get("location") or {}).get("layer")
+    sensors = list(old.get("sensors") or []) or [old.get("sensor")]
+    by_name = {s.name: s for s in design.sensors}
+    owner = {n: s.name for s in design.sensors for n in s.nets}
+    reader = CopperReader(design)
+    out: list[str] = []
+    if rule == "electrode.neighbour-spacing":
+        # the pairs of the finding's sensors the estimates give a crosstalk for: the worst of them
+        pairs = [(a, b) for i, a in enumerate(sensors) for b in sensors[i + 1:]] if len(sensors) > 1 else [
+            (sensors[0], owner[n]) for n in nets if n in owner and owner[n] != sensors[0]]
+        found = [c for a, b in pairs if (c := crosstalk_percent(ests, a, b)) is not None]
+        if not found:
+            return "no crosstalk estimate for its sensors"
+        worst = max(found, key=lambda c: c[0])
+        return f"worst crosstalk of {len(found)} pair(s): {worst[1]}"
+    for name in sensors:
+        s = by_name.get(name)
+        est = ests.get(name)
+        if s is None:
+            continue
+        if est is None:
+            out.append(f"{name}: no estimate")
+            continue
+        if rule == "routing.rx-parallel-tx" and len(nets) == 2:
+            rx, tx = (nets if nets[0] in s.nets else nets[::-1])
+            g = reader.bound_pf(est, [tx], excitation="rx")
+            out.append(f"{rx}-{tx} couple {1000 * (g or 0):.1f} fF, {100 * (g or 0) / abs(est.touch_delta_pf):.1f} % of "
+                       f"{name}'s delta {1000 * est.touch_delta_pf:+.1f} fF")
+            continue
+        if rule == "routing.foreign-copper-in-zone":
+            eff = copper_effect(reader, est, [n for n in nets if n not in s.nets], [layer] if layer else None,
+                                s.zone_margin_mm, "that copper", 10.0)
+        elif rule == "routing.trace-under-electrode":
+            tr = [n for n in nets if n not in s.nets]
+            eff = copper_effect(reader, est, tr, [layer] if layer else None, None, "the trace", 10.0)
+            c = crosstalk_percent({name: est}, name, owner.get(tr[0], "")) if tr else None
+            if c:
+                out.append(c[1])
+        elif rule == "routing.aggressor-near-sensor":
+            ag = [n for n in nets if role(design, n) == "aggressor"]
+            eff = copper_effect(reader, est, ag, None, None, "the aggressor", 10.0)
+        elif rule == "hatch.fill-near-sensor" and layer:
+            lay = design.board.layer(layer)
+            skip = {n for x in design.sensors for n in x.nets}
+            eff = copper_effect(reader, est, [n for n in lay.by_net if n not in skip], [layer], 10.0, "the fill", 10.0)
+        elif rule == "hatch.ground-under-self" and layer:
+            eff = copper_effect(reader, est, [n for n in nets if n not in s.nets], [layer], 0.0, "the copper under", 10.0)
+        else:
+            return None
+        if eff is None:
+            out.append(f"{name}: the estimate does not cover it")
+        elif eff[0]:
+            out.append(eff[1])
+        else:
+            out.append(f"NOT cleared ({fmt(eff[2], 1)} % > {fmt(eff[3], 0)} %): still reported, grouped with other "
+                       f"places of the rule now (its value is the physical one)")
+    return "; ".join(out) if out else None
 
 
 def _findings(report: dict[str, Any]) -> list[dict[str, Any]]:
@@ -102,6 +188,9 @@ def _fate(old: dict[str, Any], now: list[dict[str, Any]]) -> str | None:
                and old.get("sensor") in (f.get("sensors") or [f.get("sensor")])]
     if cleared:
         return f"decided by the estimate: {cleared[0]['message'][:100]}"
+    why = _cleared_by(old)
+    if why is not None:
+        return why if why.startswith(("NOT", "no crosstalk")) else f"cleared by the estimate: {why}"
     return "not found now"
 
 

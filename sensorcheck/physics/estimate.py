@@ -83,6 +83,29 @@ class SensorEstimate:
     position: "PositionResponse | None" = None
     #: every turn and sign reversal of the approach curves, highest first (empty: monotonic)
     turnarounds: list[Turn] = field(default_factory=list)
+    #: copper held at 0 V in the window, by layer and net, with the charge the sensor's excitation
+    #: puts on it: a bound on what that copper does to the signal (see physics/effects.py); empty
+    #: where not computed (matrices, twins of an older estimate)
+    copper: list["CopperGroup"] = field(default_factory=list)
+    #: the solve window (x0, y0, x1, y1) in mm; None where not recorded
+    window_box_mm: tuple[float, float, float, float] | None = None
+
+
+#: distances (mm) from the sensor's electrodes at which the charge is summed (0: under them, in
+#: projection; the last edge takes everything in the window)
+COPPER_BINS_MM: tuple[float, ...] = (0.0, 0.5, 1.0, 2.0, 3.0, 5.0, 7.5, 10.0, 15.0, 1000.0)
+
+
+@dataclass(slots=True)
+class CopperGroup:
+    """The copper of one net on one layer in a sensor's solve window, held at 0 V in the model."""
+
+    layer: str
+    net: str  # as found when solved (a twin's estimate keeps the source's name: rules map ``point_mm``)
+    point_mm: tuple[float, float]  # a point on this copper (inside it)
+    #: excitation ("self", "tx" or "rx") -> |charge| (pF per V) on this copper within each distance
+    #: of COPPER_BINS_MM from the electrodes (cumulative)
+    charge_pf: dict[str, tuple[float, ...]] = field(default_factory=dict)
 
 
 @dataclass(slots=True)

@@ -157,4 +157,8 @@ def translated(est: "SensorEstimate", src: WindowKey, dst: WindowKey, dst_name: 
         notes=list(dict.fromkeys(notes)),
         curve=list(est.curve),
         curve_centre=list(est.curve_centre),
+        # the copper moves with the window; its nets are found again from the twin's board by point
+        copper=[replace(g, point_mm=(g.point_mm[0] + dx, g.point_mm[1] + dy)) for g in est.copper],
+        window_box_mm=None if est.window_box_mm is None else (
+            est.window_box_mm[0] + dx, est.window_box_mm[1] + dy, est.window_box_mm[2] + dx, est.window_box_mm[3] + dy),
     )

@@ -648,6 +648,10 @@ def estimate_with(
         curve_centre=curve_c,
         centre_mm=(float(centre.x), float(centre.y)) if curve_c else None,
     )
+    from sensorcheck.physics.effects import copper_groups, window_box
+
+    est.copper = copper_groups(model)  # what each net's copper nearby can do to the signal (a bound)
+    est.window_box_mm = window_box(model)
     if sensor.kind in ("slider", "wheel") and model.kind == "self" and len(model.main["electrode"]) > 1:
         from sensorcheck.physics.segments import add_segments
 

@@ -25,6 +25,7 @@ from sensorcheck.rules.common import (
     union,
 )
 from sensorcheck.rules.base import Param, Rule
+from sensorcheck.rules.effects import CROSSTALK_PARAM, crosstalk_percent
 from sensorcheck.findings import Finding
 
 _CONTACT = Param(8.0, "mm", "common practice",
@@ -106,8 +107,14 @@ class NeighbourSpacing(Rule):
     Why it matters:
         Fringe fields reach about t sideways: a finger on one button must not reach the gap of the
         next, or both respond (crosstalk, ambiguous keys).
+        Where the field solver has an estimate for either sensor, the crosstalk decides: the
+        neighbour's delta with the finger on this sensor, as % of this sensor's own delta (the
+        worse of the two directions), for every pair the estimates give it for, whatever their
+        spacing: no warning when it is at most ``max_crosstalk_percent``, else a warning that
+        gives it with the spacing and its rule-of-thumb limit beside it.
     Known limitations:
-        Mutual nodes share a TX line by design; they are compared like any other sensors.
+        Mutual nodes share a TX line by design; they are compared like any other sensors.  The
+        crosstalk is estimated with the finger at each sensor's most sensitive point.
     Example:
         Two buttons 3 mm apart under a 2 mm overlay: limit 5 mm.
     Fix:
@@ -115,7 +122,8 @@ class NeighbourSpacing(Rule):
     Parameters:
         See the table.
     References:
-        At least 2 t and more than 5 mm: common practice (vendor guidance, anonymous).
+        At least 2 t and more than 5 mm: common practice (vendor guidance, anonymous).  Crosstalk
+        limit: common practice (see the parameter).
     """
 
     id = "electrode.neighbour-spacing"
@@ -125,6 +133,7 @@ class NeighbourSpacing(Rule):
     params = {
         "min_spacing_mm": Param(5.0, "mm", "common practice", "smallest spacing whatever the overlay"),
         "overlay_factor": Param(2.0, "1", "common practice", "spacing at least this many overlay thicknesses"),
+        "max_crosstalk_percent": CROSSTALK_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
@@ -141,15 +150,28 @@ class NeighbourSpacing(Rule):
                         d = ea.geometry.distance(eb.geometry)
                         if best is None or d < best[0]:
                             best = (d, ea, eb)
-                if best is None or best[0] >= limit:
-                    continue
+                cross = crosstalk_percent(estimates, a.name, b.name)
+                if cross is None and (best is None or best[0] >= limit):
+                    continue  # no estimate and the rule of thumb is met
+                if cross is not None and cross[0] <= params["max_crosstalk_percent"]:
+                    continue  # the estimated crosstalk is negligible, whatever the spacing
+                if best is None:  # crosstalk between sensors on different layers: their nearest electrodes
+                    best = min(((ea.geometry.distance(eb.geometry), ea, eb) for ea in a.electrodes
+                                for eb in b.electrodes if ea.net != eb.net), key=lambda t: t[0])
                 d, ea, eb = best
                 pa, pb = nearest_points(ea.geometry, eb.geometry)
+                thumb = (f"{a.name} and {b.name} are {fmt(d)} mm apart; limit {fmt(limit, 1)} mm = max("
+                         f"{fmt(params['overlay_factor'], 0)} x overlay {fmt(t, 2)} mm, "
+                         f"{fmt(params['min_spacing_mm'], 1)} mm)" + (" (met)" if d >= limit else ""))
+                if cross is None:  # no estimate: the rule of thumb is the verdict
+                    msg, value, lim, unit = thumb, d, limit, "mm"
+                else:
+                    msg = (f"{cross[1]}; limit {fmt(params['max_crosstalk_percent'], 0)} % (common practice); "
+                           f"rule of thumb: {thumb}")
+                    value, lim, unit = cross[0], params["max_crosstalk_percent"], "%"
                 yield finding(
-                    "warning",
-                    f"{a.name} and {b.name} are {fmt(d)} mm apart; limit {fmt(limit, 1)} mm = max("
-                    f"{fmt(params['overlay_factor'], 0)} x overlay {fmt(t, 2)} mm, {fmt(params['min_spacing_mm'], 1)} mm)",
-                    value=d, limit=limit, unit="mm", layer=ea.layer, point=midpoint(pa, pb),
+                    "warning", msg,
+                    value=value, limit=lim, unit=unit, layer=ea.layer, point=midpoint(pa, pb),
                     geom=ea.geometry.union(eb.geometry), nets=(ea.net, eb.net), sensor=a.name,
                     source=sensor_source(design, a, ea.geometry),
                 )

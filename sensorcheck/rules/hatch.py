@@ -28,6 +28,7 @@ from sensorcheck.rules.common import (
     union,
 )
 from sensorcheck.rules.base import MissingInput, Param, Rule
+from sensorcheck.rules.effects import COUPLING_PARAM, CopperReader, copper_effect
 from sensorcheck.findings import Finding
 
 
@@ -212,7 +213,11 @@ class FillNearSensor(Rule):
         (not from CAD settings), and the fill in the rings 0-2, 2-5 and 5-10 mm (for the default
         10 mm) reported beside it.  Self-capacitance sensors: a warning above
         ``max_fill_sensor_layer_percent`` on the sensor's layer or ``max_fill_other_layers_percent``
-        elsewhere.  Mutual sensors: a note at the same limits (they tolerate more ground).
+        elsewhere.  Mutual sensors: a note at the same limits (they tolerate more ground).  Where
+        the field solver has an estimate for the sensor and its window covers the ring, the
+        estimate decides: the charge the sensor's drive puts on that layer's copper in the ring
+        bounds the capacitance it adds and the touch delta it takes away (physics/effects.py);
+        no finding when that is at most ``max_coupling_percent`` of the touch delta.
     Why it matters:
         Ground around a self electrode adds parasitic capacitance and pulls the fringe field away
         from the finger; a light hatch keeps some noise shielding at a fraction of the cost.
@@ -241,6 +246,7 @@ class FillNearSensor(Rule):
         "ring_mm": Param(10.0, "mm", "common practice", "outer edge of the ring measured around the electrodes"),
         "max_fill_sensor_layer_percent": Param(40.0, "%", "common practice", "largest fill on the sensor's own layer"),
         "max_fill_other_layers_percent": Param(50.0, "%", "common practice", "largest fill on the other copper layers"),
+        "max_coupling_percent": COUPLING_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
@@ -250,6 +256,7 @@ class FillNearSensor(Rule):
             board_shape = shapely.Polygon(outline_board.exterior) if outline_board.geom_type == "Polygon" else outline_board
             shapely.prepare(board_shape)  # most rings lie inside the board: a prepared test says so cheaply
         boxes = _other_boxes(design)  # once per run
+        reader = CopperReader(design)
         for s in design.sensors:
             own = self.cache.outline(s)
             ring = self.cache.grown(s, params["ring_mm"]).difference(own)
@@ -273,15 +280,20 @@ class FillNearSensor(Rule):
                 pct = 100 * m.fill
                 if pct <= limit:
                     continue
+                physical = copper_effect(reader, estimates.get(s.name), _other_nets(lay, skip), [lay.name], params["ring_mm"],
+                                   f"the copper on {lay.name} within {fmt(params['ring_mm'], 1)} mm",
+                                   params["max_coupling_percent"])
+                if physical is not None and physical[0]:
+                    continue  # the estimated effect of the fill is negligible
                 sev = "warning" if self_kind else "note"
                 windows = windows or _sub_windows(own, params["ring_mm"], ring if clipped_to_board else None,
                                                   lambda d, s=s: self.cache.grown(s, d))
                 dense = ring.intersection(other)
+                thumb = (f"copper fill {fmt(pct, 1)} % within {fmt(params['ring_mm'], 1)} mm of the electrodes on "
+                         f"{lay.name} is above {fmt(limit, 1)} % ({_hatch_text(m)}; {_sub_rings(windows, other)}; "
+                         "common practice)")
                 yield finding(
-                    sev,
-                    f"copper fill {fmt(pct, 1)} % within {fmt(params['ring_mm'], 1)} mm of the electrodes on {lay.name} "
-                    f"is above {fmt(limit, 1)} % ({_hatch_text(m)}; {_sub_rings(windows, other)}; "
-                    "common practice)",
+                    sev, thumb if physical is None else f"{physical[1]}; rule of thumb: {thumb}",
                     value=pct, limit=limit, unit="%", layer=lay.name, geom=dense,
                     nets=(), sensor=s.name,
                     # the feature that drew the copper at the finding's own point (a hatch drawn as
@@ -299,6 +311,11 @@ class GroundUnderSelf(Rule):
         permittivity from the stackup, and the capacitance it adds, eps0 eps_r A / h.  An error
         when the copper is solid (fill >= ``solid_fill_percent``) and close (h <= ``close_mm``); a
         warning when it is denser than ``max_fill_percent`` or adds more than ``max_added_pf``.
+        Where the field solver has an estimate for the sensor, the estimate decides: the charge
+        the sensor's drive puts on the copper under its electrodes on that layer bounds the
+        capacitance it adds and the touch delta it takes away (physics/effects.py); no finding
+        when that is at most ``max_coupling_percent`` of the touch delta.  The parallel-plate
+        number stays in the message as the rule of thumb.
     Why it matters:
         A plane under a pad becomes the dominant parasitic capacitance and steals the field from
         the finger: a 10 mm pad over solid ground 0.2 mm below adds about 15 pF, which drowns a
@@ -327,10 +344,12 @@ class GroundUnderSelf(Rule):
         "max_fill_percent": Param(50.0, "%", "common practice", "densest hatch accepted under an electrode"),
         "max_added_pf": Param(5.0, "pF", "derived", "largest added plate capacitance accepted (a fraction of a typical 20 pF budget)"),
         "default_epsilon_r": FR4_PARAM,
+        "max_coupling_percent": COUPLING_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
+        reader = CopperReader(design)
         for s in design.sensors:
             if s.kind not in SELF_KINDS:
                 continue
@@ -357,12 +376,21 @@ class GroundUnderSelf(Rule):
                                         if n != e.net and bbox_overlap(g, e.geometry) and g.intersects(e.geometry)))
                     src = source_near([f for f in lay.features if f.net in nets and bbox_overlap(f.geometry, e.geometry)],
                                       e.geometry)
+                    solid = fill >= params["solid_fill_percent"] and h <= params["close_mm"]
+                    if not solid and not (fill > params["max_fill_percent"] or added > params["max_added_pf"]):
+                        continue
+                    physical = copper_effect(reader, estimates.get(s.name), nets, [lay.name], 0.0,
+                                       f"the copper under the electrodes on {lay.name}", params["max_coupling_percent"])
+                    if physical is not None and physical[0]:
+                        continue  # the estimated effect of the copper under the electrode is negligible
                     base = (
                         f"{fmt(fill, 1)} % of the electrode ({fmt(under.area, 1)} mm2) has copper under it on {lay.name}, "
                         f"{fmt(h, 3)} mm below (eps_r {fmt(eps, 2)}, stackup from {stack_src}): adds about "
                         f"{fmt(added, 2)} pF (parallel plate, lower bound)"
                     )
-                    if fill >= params["solid_fill_percent"] and h <= params["close_mm"]:
+                    if physical is not None:
+                        base = f"{physical[1]}; rule of thumb: {base}"
+                    if solid:
                         yield finding(
                             "error", f"{base}; solid copper within {fmt(params['close_mm'])} mm under a self electrode",
                             value=h, limit=params["close_mm"], unit="mm", layer=lay.name, geom=under,
@@ -379,6 +407,10 @@ class GroundUnderSelf(Rule):
                             unit="%" if by_fill else "pF", layer=lay.name, geom=under,
                             nets=(e.net, *nets), sensor=s.name, source=src,
                         )
+
+
+def _other_nets(lay: Any, skip: set[str]) -> list[str]:
+    return [n for n in lay.by_net if n not in skip]
 
 
 RULES: tuple[type[Rule], ...] = (FillNearSensor, GroundUnderSelf)

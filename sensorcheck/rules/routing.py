@@ -33,6 +33,15 @@ from sensorcheck.rules.common import (
     union,
 )
 from sensorcheck.rules.base import Param, Rule
+from sensorcheck.rules.effects import (
+    COUPLING_PARAM,
+    CROSSTALK_PARAM,
+    CopperReader,
+    copper_effect,
+    covers,
+    crosstalk_percent,
+    inside_window,
+)
 from sensorcheck.findings import Finding, Severity
 
 
@@ -152,6 +161,17 @@ def _other_electrodes(design: Design, s: Sensor) -> BaseGeometry:
     return union(e.geometry for o in design.sensors if o is not s for e in o.electrodes)
 
 
+def _with_effect(f: Finding, physical: tuple[bool, str, float, float] | None) -> Finding:
+    """A rule-of-thumb finding the estimate did not clear: the physical verdict first, its metric the
+    finding's value, the geometric number beside it as the rule of thumb."""
+    if physical is None:
+        return f
+    _, text, pct, limit = physical
+    f.message = f"{text}; rule of thumb: {f.message}"
+    f.value, f.limit, f.unit = round(pct, 6), round(limit, 6), "% of delta"
+    return f
+
+
 class ForeignCopperInZone(Rule):
     """Copper of foreign nets inside a sensor's sensing zone, on any layer.
 
@@ -163,7 +183,10 @@ class ForeignCopperInZone(Rule):
         ``fab.floating-copper``), inside the sensing
         zone (the electrodes grown by the zone margin).  Another sensor's electrodes are not
         counted; its traces are.  Copper under the electrode itself is an error, in the rest of
-        the zone a warning.
+        the zone a warning.  Where the field solver has an estimate for the sensor, its bound
+        decides (physics/effects.py): the capacitance the net's copper within the zone adds and
+        the touch delta it takes away are at most the charge the sensor's drive puts on it; no
+        finding when that is at most ``max_coupling_percent`` of the sensor's touch delta.
     Why it matters:
         Every conductor in the sensing field is an electrode too: it adds parasitic capacitance,
         couples its own signals into the sensor and makes it respond where it should not.
@@ -188,9 +211,11 @@ class ForeignCopperInZone(Rule):
     needs = ("sensors",)
     params = {
         "min_area_mm2": Param(0.01, "mm2", "derived", "smaller overlaps are ignored as numerical slivers"),
+        "max_coupling_percent": COUPLING_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        reader = CopperReader(design)
         # trees made once per run: every sensor's electrodes, and each layer's copper by net
         els = [(o, e.geometry) for o in design.sensors for e in o.electrodes if not e.geometry.is_empty]
         el_tree = shapely.STRtree([g for _, g in els])
@@ -228,23 +253,26 @@ class ForeignCopperInZone(Rule):
                     if inside.is_empty or inside.area < params["min_area_mm2"]:
                         continue
                     under = inside.intersection(self.cache.outline(s))
+                    is_under = not under.is_empty and under.area >= params["min_area_mm2"]
+                    physical = copper_effect(reader, estimates.get(s.name), [net], [lay.name], s.zone_margin_mm,
+                                              f"net {net} on {lay.name} within the zone", params["max_coupling_percent"])
+                    if physical is not None and physical[0]:
+                        continue  # the estimated effect is negligible
                     src = source_near(index.net(lay.name, net), inside)
-                    if not under.is_empty and under.area >= params["min_area_mm2"]:
-                        yield finding(
-                            "error",
-                            f"net {net} has {fmt(under.area, 2)} mm2 of copper on {lay.name} under the electrodes of "
-                            f"{s.name} (limit 0 mm2)",
-                            value=under.area, limit=0.0, unit="mm2", layer=lay.name, geom=under,
-                            nets=(net,), sensor=s.name, source=src,
-                        )
+                    if is_under:
+                        msg = (f"net {net} has {fmt(under.area, 2)} mm2 of copper on {lay.name} under the electrodes of "
+                               f"{s.name} (limit 0 mm2)")
+                        sev: Severity = "error"
+                        geom, area = under, under.area
                     else:
-                        yield finding(
-                            "warning",
-                            f"net {net} has {fmt(inside.area, 2)} mm2 of copper on {lay.name} inside the sensing zone of "
-                            f"{s.name} ({fmt(s.zone_margin_mm, 1)} mm around the electrodes; limit 0 mm2)",
-                            value=inside.area, limit=0.0, unit="mm2", layer=lay.name, geom=inside,
-                            nets=(net,), sensor=s.name, source=src,
-                        )
+                        msg = (f"net {net} has {fmt(inside.area, 2)} mm2 of copper on {lay.name} inside the sensing zone "
+                               f"of {s.name} ({fmt(s.zone_margin_mm, 1)} mm around the electrodes; limit 0 mm2)")
+                        sev = "warning"
+                        geom, area = inside, inside.area
+                    yield _with_effect(finding(
+                        sev, msg, value=area, limit=0.0, unit="mm2", layer=lay.name, geom=geom,
+                        nets=(net,), sensor=s.name, source=src,
+                    ), physical)
 
 
 class ForeignViaInZone(Rule):
@@ -351,7 +379,11 @@ class TraceUnderElectrode(Rule):
     What it checks:
         The trace copper of every sensing net (its copper outside its own electrode, any layer)
         projected onto the electrodes of other nets.  An error when the electrode belongs to a
-        self-capacitance sensor, a warning for mutual sensors.
+        self-capacitance sensor, a warning for mutual sensors.  Where the field solver has an
+        estimate for the sensor the trace runs under, the estimate decides: the charge its drive
+        puts on the trace's net (a bound on the capacitance added and the delta taken away,
+        physics/effects.py) within ``max_coupling_percent`` of its touch delta, and the trace's
+        own sensor's delta with the finger there within ``max_crosstalk_percent``: no finding.
     Why it matters:
         The trace loads the other electrode with parasitic capacitance and makes its own channel
         respond to touches on the other sensor (ghost keys).
@@ -378,9 +410,12 @@ class TraceUnderElectrode(Rule):
     needs = ("sensors",)
     params = {
         "min_area_mm2": Param(0.01, "mm2", "derived", "smaller overlaps are ignored as numerical slivers"),
+        "max_coupling_percent": COUPLING_PARAM,
+        "max_crosstalk_percent": CROSSTALK_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
+        reader = CopperReader(design)
         flat = [(b, eb) for b in design.sensors for eb in b.electrodes]  # every electrode, in design order
         if not flat:
             return
@@ -443,15 +478,37 @@ class TraceUnderElectrode(Rule):
                         if ov.is_empty or ov.area < params["min_area_mm2"]:
                             continue
                         reported.add((ea.net, layer, k))
+                        physical = _trace_effect(reader, estimates, b.name, a.name, ea.net, layer, ov, params)
+                        if physical is not None and physical[0]:
+                            continue  # the estimated effect on the electrode's sensor is negligible
                         sev = "error" if b.kind in SELF_KINDS else "warning"
-                        yield finding(
+                        yield _with_effect(finding(
                             sev,
                             f"trace of {ea.net} ({a.name}) on {layer} runs under the electrode {eb.net} of {b.name} "
                             f"({eb.layer}) over {fmt(ov.area, 2)} mm2 (limit 0 mm2)",
                             value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov,
                             nets=(ea.net, eb.net), sensor=b.name,
                             source=source_near(index.net(layer, ea.net), ov),
-                        )
+                        ), physical)
+
+
+def _trace_effect(reader: CopperReader, estimates: Mapping[str, Any], victim: str, owner: str, net: str, layer: str,
+                  where: BaseGeometry, params: Mapping[str, Any]) -> tuple[bool, str, float, float] | None:
+    """The physical verdict on ``net``'s trace (of sensor ``owner``) under an electrode of ``victim``: the
+    copper bound on the victim, and the crosstalk into the owner with the finger on the victim."""
+    est = estimates.get(victim)
+    if est is None or not inside_window(est, where):
+        return None
+    effect = copper_effect(reader, est, [net], [layer], None, f"the trace of {net} on {layer}",
+                            params["max_coupling_percent"])
+    if effect is None:
+        return None
+    cross = crosstalk_percent({victim: est}, victim, owner)
+    if cross is None or cross[0] <= params["max_crosstalk_percent"]:
+        return effect
+    ok, text, pct, limit = effect
+    text = f"{text}; {cross[1]} (limit {fmt(params['max_crosstalk_percent'], 0)} %)"
+    return False, text, (pct if not ok else cross[0]), (limit if not ok else params["max_crosstalk_percent"])
 
 
 def _trace_hits(electrodes: list[Electrode]) -> set[tuple[int, str, int]]:
@@ -524,7 +581,12 @@ class AggressorNearSensor(Rule):
         under or over the electrodes on any layer (an error: an LED under a button); on the
         sensor's layers, the distance from the aggressor to the electrodes and their traces; on the
         other layers, the projected distance to the electrodes.  Closer than
-        ``min_distance_led_mm`` (LED nets) or ``min_distance_mm`` (others) is a warning.
+        ``min_distance_led_mm`` (LED nets) or ``min_distance_mm`` (others) is a warning.  Where
+        the field solver has an estimate for the sensor, the coupling decides: the charge the
+        sensor's drive puts on the aggressor's copper in the solve window is the capacitance
+        through which the aggressor's edges reach the sensor (and bounds the signal it takes),
+        whatever the distance: no finding when it is at most ``max_coupling_percent`` of the
+        sensor's touch delta, else one that gives it with the distance rule beside it.
     Why it matters:
         A fast edge next to a high-impedance sensing input couples straight in: LED drive lines
         beside a button make it trigger when the LED blinks.
@@ -549,6 +611,7 @@ class AggressorNearSensor(Rule):
     params = {
         "min_distance_led_mm": Param(4.0, "mm", "common practice", "LED-drive nets (kind led) keep this far"),
         "min_distance_mm": Param(1.0, "mm", "common practice", "other aggressor nets keep this far"),
+        "max_coupling_percent": COUPLING_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
@@ -556,6 +619,7 @@ class AggressorNearSensor(Rule):
         aggressors = require_role(design, "aggressor")
         index = FeatureIndex(board)
         layers = board.copper_layers()
+        reader = CopperReader(design)
         for s in design.sensors:
             sensor_layers = {e.layer for e in s.electrodes} | {k for e in s.electrodes for k in e.trace}
             targets: dict[str, BaseGeometry] = {}  # layer -> the sensor's copper there (else its outline), once
@@ -582,15 +646,22 @@ class AggressorNearSensor(Rule):
                             ov = ag.intersection(e.geometry)
                             if not ov.is_empty and ov.area > 1e-3 and (under_hit is None or ov.area > under_hit[1].area + 1e-9):
                                 under_hit = (name, ov, e)
+                est = estimates.get(s.name)
+                physical = None
+                if cu and est is not None and covers(design, est, limit):  # the window saw the copper near
+                    physical = copper_effect(reader, est, [net], None, None, f"{kind} net {net}",
+                                             params["max_coupling_percent"])
+                if physical is not None and physical[0]:
+                    continue  # the estimated coupling is negligible, wherever the copper runs
                 if under_hit is not None:
                     layer, ov, e = under_hit
-                    yield finding(
+                    yield _with_effect(finding(
                         "error",
                         f"{kind} net {net} has {fmt(ov.area, 2)} mm2 of copper on {layer} under the electrode {e.net} of "
                         f"{s.name} (limit: none under, {fmt(limit, 1)} mm away)",
                         value=ov.area, limit=0.0, unit="mm2", layer=layer, geom=ov, nets=(net, e.net), sensor=s.name,
                         source=source_near(index.net(layer, net), ov),
-                    )
+                    ), physical)
                     continue
                 # the closest layer (the first of the closest): a layer whose box is at least the limit away, or
                 # farther than the closest so far, cannot be it or be reported, and is not measured
@@ -604,15 +675,19 @@ class AggressorNearSensor(Rule):
                     if worst is None or d < worst[0]:
                         pa, pb = nearest_points(ag, tgt)
                         worst = (d, name, ag, midpoint(pa, pb))
-                if worst is not None and worst[0] < limit:
+                if physical is not None and (worst is None or worst[0] >= limit):
+                    # the rule of thumb is met, the coupling is not negligible: the nearest copper is the place
+                    worst = min(((ag.distance(target(name)), name, ag, midpoint(*nearest_points(ag, target(name))))
+                                 for name, ag in cu), key=lambda t: t[0])
+                if worst is not None and (worst[0] < limit or physical is not None):
                     d, layer, ag, pt = worst
-                    yield finding(
+                    yield _with_effect(finding(
                         "warning",
                         f"{kind} net {net} on {layer} is {fmt(d)} mm from {s.name}; keep at least {fmt(limit, 1)} mm "
-                        "or put ground between (common practice)",
+                        "or put ground between (common practice)" + (" (met)" if d >= limit else ""),
                         value=d, limit=limit, unit="mm", layer=layer, point=pt, geom=None, nets=(net, *s.nets),
                         sensor=s.name, source=source_near(index.net(layer, net), Point(pt)),
-                    )
+                    ), physical)
 
 
 def _box_gap(a: BaseGeometry, b: BaseGeometry) -> float:
@@ -749,6 +824,12 @@ class RxParallelTx(Rule):
         the run does not make a new channel; it adds to that key's baseline and makes a touch
         over the run read as a press of that key.  The reviewer should know where, but on such
         a board every row passes many columns by design, and a warning per pair would be noise.
+        Where the field solver has an estimate for the RX's sensor and the runs lie in its solve
+        window, the ghost node decides, whatever the run's length: the mutual capacitance between
+        the RX and the TX net in the window (the charge RX at 1 V puts on the TX copper,
+        physics/effects.py) bounds what a finger over the run can change; no finding when it is
+        at most ``max_crosstalk_percent`` of the RX sensor's own touch delta, else one that gives
+        it with the run's length and its rule-of-thumb limit beside it.
     Why it matters:
         Every place where an RX runs beside a TX is an extra, touchable mutual node: ghost keys
         and baseline shifts when a finger passes over the traces.
@@ -774,11 +855,13 @@ class RxParallelTx(Rule):
         "parallel_distance_mm": Param(1.0, "mm", "common practice", "runs closer than this count as parallel"),
         "max_parallel_mm": Param(5.0, "mm", "common practice",
                                  "longest accepted total parallel length per RX net, TX net and layer"),
+        "max_crosstalk_percent": CROSSTALK_PARAM,
     }
 
     def check(self, design: Design, estimates: Mapping[str, Any], params: Mapping[str, Any]) -> Iterable[Finding]:
         board = design.board
         index = FeatureIndex(board)
+        reader = CopperReader(design)
         dist, limit = params["parallel_distance_mm"], params["max_parallel_mm"]
         rx_in: dict[str, list[Sensor]] = {}  # net -> sensors it is a receiver of (design order)
         tx_in: dict[str, list[Sensor]] = {}
@@ -807,8 +890,8 @@ class RxParallelTx(Rule):
                         continue  # one node: its RX leaves through its own TX by design
                     piece = path.intersection(tx_near[j])  # the path within the distance, the buffer made once
                     length = piece.length
-                    if length <= limit:
-                        continue
+                    if length <= 0 or (length <= limit and not any(o.name in estimates for o in a_set)):
+                        continue  # no run, or within the rule of thumb and no estimate to say otherwise
                     runs = sorted(shapely.get_parts(shapely.line_merge(piece) if piece.geom_type == "MultiLineString"
                                                     else piece), key=lambda g: -g.length)
                     longest = runs[0] if runs else piece
@@ -821,18 +904,38 @@ class RxParallelTx(Rule):
                     what = (f"RX trace {rx} ({a.name}) on {layer} runs {fmt(length, 1)} mm in all within "
                             f"{fmt(dist)} mm of TX {tx} of {b_set[0].name} (longest run {fmt(longest.length, 1)} mm, "
                             f"centre line {fmt(closest)} mm from the TX copper at the closest); limit {fmt(limit, 1)} mm")
+                    est = estimates.get(a.name)
+                    physical = None
+                    if est is not None and est.kind == "mutual" and inside_window(est, piece):
+                        ghost = reader.bound_pf(est, [tx], excitation="rx")
+                        if ghost is not None:
+                            physical = _ghost_verdict(est, rx, tx, ghost, params["max_crosstalk_percent"])
+                    if physical is not None and physical[0]:
+                        continue  # the ghost node the runs make is negligible against the RX's own signal
+                    if physical is None and length <= limit:
+                        continue  # the estimate does not cover the runs: the rule of thumb is met
                     if node is None:
                         sev: Severity = "warning"
                     else:
                         sev = "note"
                         what += (f"; {rx} and {tx} already form the node {node.name}, so a touch over the run reads "
                                  f"as a press of {node.name} and the run adds to its baseline")
-                    yield finding(
+                    yield _with_effect(finding(
                         sev, what, value=length, limit=limit, unit="mm", layer=layer, geom=longest,
                         nets=(rx, tx), sensor=a.name,
                         source=source_near(index.net(layer, rx), longest),
-                    )
+                    ), physical)
         yield from traces_not_measured(self.id, design, index, "parallel runs beside TX lines")
+
+
+def _ghost_verdict(est: Any, rx: str, tx: str, ghost_pf: float, limit_percent: float) -> tuple[bool, str, float, float]:
+    """(negligible, text, % of the delta, limit %) of the mutual capacitance an RX forms with another TX."""
+    delta = abs(est.touch_delta_pf)
+    pct = 100.0 * ghost_pf / delta if delta > 0 else float("inf")
+    text = (f"field-solver estimate: {rx} and {tx} couple {1000 * ghost_pf:.1f} fF in the solve window, which bounds "
+            f"what a finger over the run changes: {fmt(pct, 1)} % of the {1000 * est.touch_delta_pf:+.1f} fF touch "
+            f"delta of {est.sensor}; limit {fmt(limit_percent, 0)} %")
+    return pct <= limit_percent, text, pct, limit_percent
 
 
 def _segments(geom: BaseGeometry) -> Iterator[tuple[tuple[float, float], tuple[float, float]]]:
