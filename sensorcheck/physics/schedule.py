@@ -201,15 +201,10 @@ def _solve(design: "Design", names: list[str], heights: int, max_h: float,
 
     reps = _from_cache(keys, reps, stack_notes, finished)
     if submit is None or len(reps) <= 1:
-        from threadpoolctl import threadpool_limits
-
         queue = list(reps)
-        # one BLAS thread, as in a worker process: the single-precision LU (physics/operator.py)
-        # rounds differently with the thread count, and results must not depend on the worker count
-        with threadpool_limits(limits=1, user_api="blas"):
-            while queue:
-                n = queue.pop(0)
-                queue.extend(finished(n, _one((design, n, heights, max_h))[1]))
+        while queue:  # _one runs on one BLAS thread, as in a worker: the same digits either way
+            n = queue.pop(0)
+            queue.extend(finished(n, _one((design, n, heights, max_h))[1]))
     else:
         _pool_solve(submit, reps, finished)
     _to_cache(keys, reps, results, stack_notes)

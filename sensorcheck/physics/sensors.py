@@ -668,16 +668,20 @@ INTERNAL_PREFIX = "internal error: "
 
 
 def _one(args: tuple[Design, str, int, float]) -> tuple[str, SensorEstimate | str]:
+    from threadpoolctl import threadpool_limits
+
     design, name, heights, max_h = args
     sensor = next(s for s in design.sensors if s.name == name)
     try:
-        return name, estimate_sensor(design, sensor, heights=heights, max_height_mm=max_h)
+        # one BLAS thread wherever this runs (the parent, a pool worker, a cluster worker): the
+        # single-precision LU (physics/operator.py) rounds differently with the thread count, and
+        # an estimate must not depend on where or beside how many workers it was made
+        with threadpool_limits(limits=1, user_api="blas"):
+            return name, estimate_sensor(design, sensor, heights=heights, max_height_mm=max_h)
     except (InputError, ConfigError) as exc:
         return name, exc.describe()
     except Exception as exc:  # noqa: BLE001 - one sensor's bug must not lose the other sensors' estimates
         return name, f"{INTERNAL_PREFIX}{type(exc).__name__}: {exc}"
-
-
 
 
 def with_overlay(design: Design, param: Literal["overlay_thickness_mm", "overlay_epsilon_r"], value: float) -> Design:
